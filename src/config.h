@@ -1,0 +1,127 @@
+/* config.h - typed experiment settings and the table of every config key.
+ *
+ * A config file is INI (read with libinih). Every key has one row in the key
+ * table (config.c): section, name, unit, type, default, allowed range and a
+ * one-line meaning. The table drives parsing, validation, `--set` overrides,
+ * "did you mean" suggestions, the resolved-config dump and the README
+ * reference. Loading order: tg_config_defaults -> tg_config_load_file ->
+ * tg_config_set (each --set) -> tg_config_check (cross-key rules).
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
+#ifndef TG_CONFIG_H
+#define TG_CONFIG_H
+
+#include <stdint.h>
+#include <stdio.h>
+
+#include "status.h"
+
+#define TG_MAX_LAYERS 6
+#define TG_PATH_LEN 4096
+
+typedef enum { TG_GEOM_BASIN = 0, TG_GEOM_PERIODIC = 1 } tg_geometry_kind;
+typedef enum { TG_WALL_FREE_SLIP = 0, TG_WALL_PARTIAL_SLIP = 1, TG_WALL_NO_SLIP = 2 } tg_wall_kind;
+typedef enum { TG_WIND_DOUBLE_GYRE = 0, TG_WIND_SINGLE_GYRE = 1, TG_WIND_NONE = 2 } tg_wind_kind;
+typedef enum { TG_INIT_REST = 0, TG_INIT_NOISE = 1, TG_INIT_FILE = 2 } tg_init_kind;
+
+/* Where a key's value came from (tg_config.set_by_user[]). */
+typedef enum { TG_SET_DEFAULT = 0, TG_SET_FILE = 1, TG_SET_OPTION = 2 } tg_set_origin;
+
+/* Upper bound on the number of rows in the key table (checked in config.c). */
+#define TG_CONFIG_MAX_KEYS 32
+
+typedef struct tg_config {
+    /* [grid] */
+    tg_geometry_kind geometry;      /* geometry = basin | periodic */
+    double size_km;                 /* side of the square domain, km */
+    int points;                     /* grid points per side (basin: 2^k + 1, walls included) */
+    tg_wall_kind wall_condition;    /* free_slip | partial_slip | no_slip */
+    double wall_slip_coefficient;   /* 0 = free slip ... 1 = no slip (partial_slip only) */
+
+    /* [layers] */
+    int nlayers;                              /* set from the number of thicknesses */
+    double thickness_m[TG_MAX_LAYERS];        /* H_k, top to bottom, m */
+    int n_reduced_gravity;                    /* number of values given for reduced_gravity_m_s2 */
+    double reduced_gravity_m_s2[TG_MAX_LAYERS - 1]; /* g'_i, interface i below layer i, m s-2 */
+
+    /* [planet] */
+    double coriolis_f0_per_s;       /* f0, s-1 */
+    double beta_per_m_per_s;        /* beta, m-1 s-1 */
+
+    /* [wind] */
+    tg_wind_kind wind_profile;      /* double_gyre | single_gyre | none */
+    double stress_amplitude_pa;     /* tau0, Pa */
+    double reference_density_kg_m3; /* rho0, kg m-3 */
+
+    /* [dissipation] */
+    double bottom_drag_per_s;       /* r, s-1 */
+    double viscosity_m2_per_s;      /* A2, m2 s-1 */
+    double hyperviscosity_m4_per_s; /* A4, m4 s-1 */
+
+    /* [time] */
+    double step_s;                  /* fixed time step, s */
+    double duration_days;           /* length of the experiment from day 0, days */
+    double max_cfl;                 /* a step with a larger advective CFL stops the run */
+
+    /* [initial] */
+    tg_init_kind initial_kind;      /* state = rest | noise | PATH.nc */
+    char initial_path[TG_PATH_LEN]; /* when initial_kind == TG_INIT_FILE */
+    double noise_amplitude_m2_per_s;/* r.m.s. of the initial streamfunction noise */
+    uint64_t seed;                  /* seed of every random number the run draws */
+
+    /* [output] */
+    char out_directory[TG_PATH_LEN];/* where fields.nc, budget.nc, checkpoint.nc go */
+    double snapshot_every_days;     /* interval between fields.nc records, days */
+    double checkpoint_every_days;   /* interval between checkpoint rewrites, days (0: only at the end) */
+    double log_every_days;          /* interval between budget summary lines in the log, days */
+
+    /* Bookkeeping for messages, indexed by key-table row (tg_config_key). */
+    unsigned char set_by_user[TG_CONFIG_MAX_KEYS]; /* tg_set_origin of each key */
+    int set_line[TG_CONFIG_MAX_KEYS];              /* config-file line when TG_SET_FILE, else 0 */
+} tg_config;
+
+/* Fills every key with its documented default. */
+void tg_config_defaults(tg_config *cfg);
+
+/* Reads an INI file over the current values. On error: TG_ERR_CONFIG (or
+ * TG_ERR_IO when the file cannot be opened) with a message of the form
+ * "FILE:LINE: [section] key: ..." that names what was expected and what was
+ * found, and "did you mean ..." for unknown sections and keys. */
+tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st);
+
+/* Applies one override "section.key=value" with the same checks as the file.
+ * Messages start with "--set section.key=value: ". */
+tg_code tg_config_set(tg_config *cfg, const char *assignment, tg_status *st);
+
+/* Cross-key rules (e.g. basin points = 2^k + 1, one reduced gravity per
+ * interface, wall keys only in a basin, the initial file exists).
+ * `origin` names the config file for messages (may be NULL). */
+tg_code tg_config_check(const tg_config *cfg, const char *origin, tg_status *st);
+
+/* Writes the fully resolved config as INI text (every key, one per line,
+ * with its unit as a trailing comment) to a newly malloc'ed string. */
+char *tg_config_to_ini(const tg_config *cfg);
+
+/* One row of the key table, for listings and the README reference. */
+typedef struct {
+    const char *section;
+    const char *key;
+    const char *unit;       /* "" when dimensionless */
+    const char *type;       /* "real", "integer", "list of reals", "choice", "text" */
+    const char *def;        /* default as written in a config, "" when required */
+    const char *range;      /* allowed values in words, e.g. "> 0", "2^k + 1, 17 to 4097" */
+    const char *meaning;
+} tg_key_info;
+
+/* Number of keys and the i-th key's description. */
+int tg_config_key_count(void);
+const tg_key_info *tg_config_key(int i);
+
+/* Row index of [section] key in the key table, or -1 when there is no such key. */
+int tg_config_key_index(const char *section, const char *key);
+
+/* Prints the reference table (Markdown) used in README. */
+void tg_config_print_reference(FILE *out);
+
+#endif
