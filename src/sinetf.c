@@ -1,0 +1,307 @@
+/* sinetf.c - fast 2-D type-I discrete sine transform (see sinetf.h).
+ *
+ * 1-D DST-I of length n = N - 1 from one real-to-complex FFT of length N
+ * (Press et al. 2007, Numerical Recipes 3rd ed., section 12.4.1; Makhoul
+ * 1980, IEEE Trans. ASSP 28, 27-34). With f_0 = 0, form
+ *   y_j = sin(j pi/N) (f_j + f_{N-j}) + (f_j - f_{N-j})/2,   j = 0..N-1,
+ * and its FFT Y_k = sum_j y_j exp(-2 pi i j k/N) = R_k - i S_k. The
+ * symmetric part of y only feeds R, the antisymmetric part only S, and
+ *   F_{2k}   = S_k = -Im Y_k,                 k = 1..N/2-1,
+ *   F_{2k+1} = F_{2k-1} + R_k,  F_1 = R_0/2,  k = 1..N/2-1,
+ * where F_k = sum_{j=1}^{N-1} f_j sin(pi j k/N).
+ *
+ * Rows are transformed in fixed blocks of TG_DST_BATCH rows by one batched
+ * FFTW plan (a second plan serves the shorter last block). Blocks are fixed
+ * by row index, not by thread, and each thread uses its own buffers with the
+ * plan's sizes and alignment (fftw_execute_dft_r2c, new-array execute), so
+ * the arithmetic done on each row does not depend on the thread count.
+ *
+ * The 2-D passes go through two padded n x (N+8) work arrays, so the
+ * inverse only reads `spec` (the header lets it overwrite it).
+ *
+ * Ownership: tg_dst owns its plans, sine table, work arrays and the
+ * per-thread buffers; tg_dst_destroy frees them all. One tg_dst serves one
+ * caller at a time (its work arrays are shared by its threads). FFTW's
+ * planner is not thread-safe: tg_dst_create and tg_dst_destroy must not run
+ * while another thread makes or destroys FFTW plans. Only FFTW_ESTIMATE
+ * plans are made (timed planning would make round-off differ between runs).
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
+#include "sinetf.h"
+
+#include <fftw3.h>
+#include <math.h>
+#include <omp.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Rows per FFTW call (fixed: it decides which plan transforms each row). */
+#define TG_DST_BATCH 8
+/* Edge of the square tiles of the cache-blocked transpose. */
+#define TG_DST_TILE 32
+
+struct tg_dst {
+    int n;           /* interior points per row */
+    int len;         /* FFT length N = n + 1 */
+    int nc;          /* complex outputs per row, N/2 + 1 */
+    int nblocks;     /* row blocks: ceil(n / TG_DST_BATCH) */
+    int tail;        /* rows in the last block (1..TG_DST_BATCH) */
+    int nthreads;    /* threads with buffers */
+    int ld;          /* row stride of the work arrays */
+    int rdist;       /* row distance in rbuf (reals) */
+    int cdist;       /* row distance in cbuf (complex) */
+    double *sint;    /* sin(j pi/N), j = 0..N/2 */
+    double *work1;   /* n x ld: after the first row pass */
+    double *work2;   /* n x ld: its transpose */
+    double **rbuf;   /* per thread: TG_DST_BATCH rows of rdist reals */
+    fftw_complex **cbuf; /* per thread: TG_DST_BATCH rows of cdist complex */
+    fftw_plan full;  /* TG_DST_BATCH rows */
+    fftw_plan last;  /* `tail` rows; equal to `full` when tail == TG_DST_BATCH */
+};
+
+static fftw_plan make_plan(const tg_dst *d, int rows)
+{
+    int sz[1] = {d->len};
+    return fftw_plan_many_dft_r2c(1, sz, rows, d->rbuf[0], NULL, 1, d->rdist, d->cbuf[0],
+                                  NULL, 1, d->cdist, FFTW_ESTIMATE);
+}
+
+tg_dst *tg_dst_create(int n, tg_status *st)
+{
+    tg_status_clear(st);
+    if (n < 3 || n >= (1 << 24) || ((n + 1) & n) != 0) {
+        tg_fail(st, TG_ERR_CONFIG,
+                "sine transform: interior size n = %d is not allowed: n + 1 must be a "
+                "power of two with 3 <= n <= %d (e.g. 127, 255, 511)", n, (1 << 24) - 1);
+        return NULL;
+    }
+    tg_dst *d = calloc(1, sizeof *d);
+    if (!d) {
+        tg_fail(st, TG_ERR_NOMEM, "sine transform: cannot allocate the transform record");
+        return NULL;
+    }
+    d->n = n;
+    d->len = n + 1;
+    d->nc = d->len / 2 + 1;
+    d->nblocks = (n + TG_DST_BATCH - 1) / TG_DST_BATCH;
+    d->tail = n - (d->nblocks - 1) * TG_DST_BATCH;
+    d->nthreads = omp_get_max_threads();
+    if (d->nthreads < 1)
+        d->nthreads = 1;
+    /* Rows 2^k doubles apart share cache sets; these paddings shift each
+     * row by one cache line (64 bytes). */
+    d->ld = d->len + 8;
+    d->rdist = d->len + 8;
+    d->cdist = d->nc + 3;
+
+    size_t nn = (size_t)n * (size_t)d->ld;
+    size_t rlen = (size_t)TG_DST_BATCH * (size_t)d->rdist;
+    size_t clen = (size_t)TG_DST_BATCH * (size_t)d->cdist;
+
+    d->sint = malloc(((size_t)d->len / 2 + 1) * sizeof *d->sint);
+    d->work1 = fftw_malloc(nn * sizeof *d->work1);
+    d->work2 = fftw_malloc(nn * sizeof *d->work2);
+    d->rbuf = calloc((size_t)d->nthreads, sizeof *d->rbuf);
+    d->cbuf = calloc((size_t)d->nthreads, sizeof *d->cbuf);
+    if (!d->sint || !d->work1 || !d->work2 || !d->rbuf || !d->cbuf) {
+        tg_fail(st, TG_ERR_NOMEM,
+                "sine transform: cannot allocate work arrays for n = %d (%zu bytes)", n,
+                2 * nn * sizeof(double));
+        tg_dst_destroy(d);
+        return NULL;
+    }
+    for (int t = 0; t < d->nthreads; t++) {
+        d->rbuf[t] = fftw_malloc(rlen * sizeof(double));
+        d->cbuf[t] = fftw_malloc(clen * sizeof(fftw_complex));
+        if (!d->rbuf[t] || !d->cbuf[t]) {
+            tg_fail(st, TG_ERR_NOMEM,
+                    "sine transform: fftw_malloc failed for the buffers of thread %d of %d",
+                    t, d->nthreads);
+            tg_dst_destroy(d);
+            return NULL;
+        }
+        memset(d->rbuf[t], 0, rlen * sizeof(double));
+        memset(d->cbuf[t], 0, clen * sizeof(fftw_complex));
+        /* New-array execute needs every buffer aligned like the planned one. */
+        if (fftw_alignment_of(d->rbuf[t]) != fftw_alignment_of(d->rbuf[0]) ||
+            fftw_alignment_of((double *)d->cbuf[t]) != fftw_alignment_of((double *)d->cbuf[0])) {
+            tg_fail(st, TG_ERR_INTERNAL,
+                    "sine transform: fftw_malloc returned buffers of different alignment");
+            tg_dst_destroy(d);
+            return NULL;
+        }
+    }
+
+    const double pi = 3.14159265358979323846;
+    for (int j = 0; j <= d->len / 2; j++)
+        d->sint[j] = sin(pi * j / d->len);
+
+    d->full = make_plan(d, TG_DST_BATCH);
+    if (!d->full) {
+        tg_fail(st, TG_ERR_NUMERIC,
+                "sine transform: FFTW could not plan %d real-to-complex transforms of length %d",
+                TG_DST_BATCH, d->len);
+        tg_dst_destroy(d);
+        return NULL;
+    }
+    if (d->tail == TG_DST_BATCH) {
+        d->last = d->full;
+    } else {
+        d->last = make_plan(d, d->tail);
+        if (!d->last) {
+            tg_fail(st, TG_ERR_NUMERIC,
+                    "sine transform: FFTW could not plan %d real-to-complex transforms of length %d",
+                    d->tail, d->len);
+            tg_dst_destroy(d);
+            return NULL;
+        }
+    }
+    tg_log(TG_LOG_DEBUG, "sine transform: n = %d, %d row blocks of %d, buffers for %d threads",
+           n, d->nblocks, TG_DST_BATCH, d->nthreads);
+    return d;
+}
+
+void tg_dst_destroy(tg_dst *d)
+{
+    if (!d)
+        return;
+    if (d->last && d->last != d->full)
+        fftw_destroy_plan(d->last);
+    if (d->full)
+        fftw_destroy_plan(d->full);
+    if (d->rbuf)
+        for (int t = 0; t < d->nthreads; t++)
+            fftw_free(d->rbuf[t]);
+    if (d->cbuf)
+        for (int t = 0; t < d->nthreads; t++)
+            fftw_free(d->cbuf[t]);
+    free(d->rbuf);
+    free(d->cbuf);
+    fftw_free(d->work1);
+    fftw_free(d->work2);
+    free(d->sint);
+    free(d);
+}
+
+int tg_dst_size(const tg_dst *d)
+{
+    return d ? d->n : 0;
+}
+
+/* Pre-processing of one row: f (n values f_1..f_n) -> y (N values). */
+static void dst_pre(const double *restrict sint, int len, const double *restrict f,
+                    double *restrict y)
+{
+    const int h = len / 2;
+    y[0] = 0.0;
+#pragma omp simd
+    for (int j = 1; j <= h; j++) {
+        double fj = f[j - 1], fr = f[len - j - 1];
+        double a = sint[j] * (fj + fr);
+        double b = 0.5 * (fj - fr);
+        y[j] = a + b;
+        y[len - j] = a - b;
+    }
+}
+
+/* Post-processing of `rows` rows: Y (N/2+1 complex each as re, im pairs,
+ * rows cdist complex apart) -> scale * F_1..F_n into out (row stride os).
+ * The running sum of the odd coefficients is a chain of dependent additions
+ * in each row, so the rows of a block advance together to overlap their
+ * chains; the operations done on any one row, and their order, are those of
+ * a row on its own. */
+static void dst_post(int len, int cdist, int rows, const double *restrict y, double scale,
+                     double *restrict out, int os)
+{
+    const int h = len / 2;
+    double odd[TG_DST_BATCH];
+    for (int r = 0; r < rows; r++) {
+        odd[r] = 0.5 * y[2 * (size_t)r * cdist];
+        out[(size_t)r * os] = scale * odd[r];
+    }
+    for (int k = 1; k < h; k++) {
+        for (int r = 0; r < rows; r++) {
+            const double *yk = y + 2 * ((size_t)r * cdist + k);
+            double *o = out + (size_t)r * os;
+            odd[r] += yk[0];
+            o[2 * k - 1] = -scale * yk[1];
+            o[2 * k] = scale * odd[r];
+        }
+    }
+}
+
+/* 1-D DST-I of every row of src (row stride ss) into dst (row stride ds),
+ * times scale. Rows are shared among the threads of the enclosing parallel
+ * region. */
+static void dst_rows(const tg_dst *d, const double *src, int ss, double *dst, int ds,
+                     double scale)
+{
+    int tid = omp_get_thread_num();
+    double *rb = d->rbuf[tid];
+    fftw_complex *cb = d->cbuf[tid];
+
+#pragma omp for schedule(static)
+    for (int b = 0; b < d->nblocks; b++) {
+        int r0 = b * TG_DST_BATCH;
+        int rows = (b == d->nblocks - 1) ? d->tail : TG_DST_BATCH;
+        for (int r = 0; r < rows; r++)
+            dst_pre(d->sint, d->len, src + (size_t)(r0 + r) * ss, rb + (size_t)r * d->rdist);
+        fftw_execute_dft_r2c(rows == TG_DST_BATCH ? d->full : d->last, rb, cb);
+        dst_post(d->len, d->cdist, rows, (const double *)cb, scale, dst + (size_t)r0 * ds, ds);
+    }
+}
+
+/* b = transpose of the n x n array a (row strides lda, ldb), square tiles
+ * shared among the threads of the enclosing parallel region. */
+static void transpose(const double *restrict a, int lda, double *restrict b, int ldb, int n)
+{
+    int nt = (n + TG_DST_TILE - 1) / TG_DST_TILE;
+#pragma omp for schedule(static)
+    for (int ti = 0; ti < nt; ti++) {
+        int i0 = ti * TG_DST_TILE, i1 = i0 + TG_DST_TILE < n ? i0 + TG_DST_TILE : n;
+        for (int j0 = 0; j0 < n; j0 += TG_DST_TILE) {
+            int j1 = j0 + TG_DST_TILE < n ? j0 + TG_DST_TILE : n;
+            for (int i = i0; i < i1; i++)
+                for (int j = j0; j < j1; j++)
+                    b[(size_t)j * ldb + i] = a[(size_t)i * lda + j];
+        }
+    }
+}
+
+/* Threads for a transform: as many as OpenMP would use, at most those with buffers. */
+static int team_size(const tg_dst *d)
+{
+    int nt = omp_get_max_threads();
+    return nt < d->nthreads ? nt : d->nthreads;
+}
+
+void tg_dst_forward(tg_dst *d, const double *in, int stride, double *spec)
+{
+    const int n = d->n, ld = d->ld;
+#pragma omp parallel num_threads(team_size(d))
+    {
+        /* rows of `in` run along i: work1[j][kx] */
+        dst_rows(d, in, stride, d->work1, ld, 1.0);
+        /* work2[kx][j] */
+        transpose(d->work1, ld, d->work2, ld, n);
+        /* along j: spec[kx][ky] */
+        dst_rows(d, d->work2, ld, spec, n, 1.0);
+    }
+}
+
+void tg_dst_inverse(tg_dst *d, double *spec, double *out, int stride)
+{
+    const int n = d->n, ld = d->ld;
+    /* (2/N)^2 with N a power of two: exact. */
+    const double scale = 4.0 / ((double)d->len * (double)d->len);
+#pragma omp parallel num_threads(team_size(d))
+    {
+        /* along ky: work1[kx][j] */
+        dst_rows(d, spec, n, d->work1, ld, 1.0);
+        /* work2[j][kx] */
+        transpose(d->work1, ld, d->work2, ld, n);
+        /* along kx: out[j][i] */
+        dst_rows(d, d->work2, ld, out, stride, scale);
+    }
+}
