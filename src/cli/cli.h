@@ -1,0 +1,60 @@
+/* cli.h - shared helpers of the command layer (not part of the library).
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
+#ifndef TG_CLI_H
+#define TG_CLI_H
+
+#include <stdio.h>
+
+#include "../config.h"
+#include "../run.h"
+#include "../status.h"
+
+/* Options every command that takes a config accepts. */
+typedef struct {
+    const char *config_path;
+    const char *sets[256];
+    int nsets;
+    const char *out_dir;   /* --out, NULL when not given */
+    int quiet;
+    int overwrite;
+    int threads;           /* 0: leave OpenMP's default */
+} cli_opts;
+
+/* Parses argv[first..] into o. Unknown options are a usage error (message in
+ * st). `allow` is a string of the option names this command takes, e.g.
+ * "set out quiet overwrite threads". */
+tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts *o,
+                  tg_status *st);
+
+/* defaults -> file -> each --set -> --out -> cross-key checks. */
+tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st);
+
+/* Joins argv into one string (for the files' attributes); malloc'ed. */
+char *cli_command_line(int argc, char **argv);
+
+/* Log sink writing "twingyre: ..." lines to stderr, aware of the progress line. */
+void cli_log_to_stderr(tg_log_level level, const char *line, void *user);
+
+/* Progress display: on a terminal one line updated in place (percent,
+ * model days, steps per second, time left, kinetic energy, CFL); otherwise a
+ * plain line every 5 % of the run. Quiet shows nothing. */
+typedef struct {
+    int quiet, tty;
+    double t_start, t_last;
+    long step_start;
+    int last_decile;
+} cli_progress;
+
+void cli_progress_init(cli_progress *p, int quiet);
+void cli_progress_cb(const tg_progress *p, void *user); /* user = cli_progress* */
+void cli_progress_done(cli_progress *p);
+
+int cmd_run(int argc, char **argv);
+int cmd_describe(int argc, char **argv);
+
+/* Exit status of a library code (README, "Exit codes"). */
+int cli_exit_code(tg_code code);
+
+#endif

@@ -1,0 +1,115 @@
+/* common.c - option parsing and config loading shared by the commands. */
+#include <stdlib.h>
+#include <string.h>
+
+#include "cli.h"
+
+static int allowed(const char *allow, const char *name)
+{
+    size_t n = strlen(name);
+    for (const char *p = allow; (p = strstr(p, name)) != NULL; p += n)
+        if ((p == allow || p[-1] == ' ') && (p[n] == ' ' || p[n] == '\0'))
+            return 1;
+    return 0;
+}
+
+tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts *o, tg_status *st)
+{
+    memset(o, 0, sizeof *o);
+    for (int i = first; i < argc; i++) {
+        const char *a = argv[i];
+        if (a[0] != '-' || a[1] == '\0') {
+            if (o->config_path)
+                return tg_fail(st, TG_ERR_USAGE, "unexpected argument '%s' (the config is '%s')",
+                               a, o->config_path);
+            o->config_path = a;
+            continue;
+        }
+        const char *name = a[1] == '-' ? a + 2 : a + 1;
+        const char *val = NULL;
+        char key[64];
+        const char *eq = strchr(name, '=');
+        size_t kl = eq ? (size_t)(eq - name) : strlen(name);
+        if (kl >= sizeof key)
+            kl = sizeof key - 1;
+        memcpy(key, name, kl);
+        key[kl] = '\0';
+        if (!allowed(allow, key))
+            return tg_fail(st, TG_ERR_USAGE, "unknown option '%s' (see --help)", a);
+        int takes_value = !strcmp(key, "set") || !strcmp(key, "out") || !strcmp(key, "threads");
+        if (takes_value) {
+            if (eq)
+                val = eq + 1;
+            else if (i + 1 < argc)
+                val = argv[++i];
+            else
+                return tg_fail(st, TG_ERR_USAGE, "option --%s needs a value", key);
+        } else if (eq) {
+            return tg_fail(st, TG_ERR_USAGE, "option --%s takes no value", key);
+        }
+        if (!strcmp(key, "set")) {
+            if (o->nsets >= (int)(sizeof o->sets / sizeof o->sets[0]))
+                return tg_fail(st, TG_ERR_USAGE, "too many --set options");
+            o->sets[o->nsets++] = val;
+        } else if (!strcmp(key, "out")) {
+            o->out_dir = val;
+        } else if (!strcmp(key, "threads")) {
+            char *end;
+            long t = strtol(val, &end, 10);
+            if (*val == '\0' || *end != '\0' || t < 1 || t > 1024)
+                return tg_fail(st, TG_ERR_USAGE, "--threads needs a whole number from 1 to 1024, got '%s'", val);
+            o->threads = (int)t;
+        } else if (!strcmp(key, "quiet")) {
+            o->quiet = 1;
+        } else if (!strcmp(key, "overwrite")) {
+            o->overwrite = 1;
+        }
+    }
+    if (!o->config_path)
+        return tg_fail(st, TG_ERR_USAGE, "no config file given (see --help)");
+    return TG_OK;
+}
+
+tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st)
+{
+    tg_code rc;
+    tg_config_defaults(cfg);
+    if ((rc = tg_config_load_file(cfg, o->config_path, st)) != TG_OK)
+        return rc;
+    for (int i = 0; i < o->nsets; i++)
+        if ((rc = tg_config_set(cfg, o->sets[i], st)) != TG_OK)
+            return rc;
+    if (o->out_dir) {
+        if (strlen(o->out_dir) >= sizeof cfg->out_directory)
+            return tg_fail(st, TG_ERR_USAGE, "--out path is too long");
+        strcpy(cfg->out_directory, o->out_dir);
+    }
+    return tg_config_check(cfg, o->config_path, st);
+}
+
+char *cli_command_line(int argc, char **argv)
+{
+    size_t n = 1;
+    for (int i = 0; i < argc; i++)
+        n += strlen(argv[i]) + 3;
+    char *s = malloc(n);
+    if (!s)
+        return NULL;
+    s[0] = '\0';
+    for (int i = 0; i < argc; i++) {
+        if (i)
+            strcat(s, " ");
+        int quote = strchr(argv[i], ' ') != NULL;
+        if (quote)
+            strcat(s, "'");
+        strcat(s, argv[i]);
+        if (quote)
+            strcat(s, "'");
+    }
+    return s;
+}
+
+int cli_exit_code(tg_code code)
+{
+    return (int)code; /* the codes are the exit statuses; README lists them */
+}

@@ -1,0 +1,65 @@
+/* main.c - `twingyre`: dispatches to one command per file (cmd_*.c). */
+#include <stdio.h>
+#include <string.h>
+
+#include "cli.h"
+
+#ifndef PACKAGE_VERSION
+#define PACKAGE_VERSION "unknown"
+#endif
+
+static void usage(FILE *f)
+{
+    fprintf(f,
+            "twingyre %s - layered quasi-geostrophic wind-driven gyre simulator\n"
+            "\n"
+            "usage: twingyre COMMAND [options]\n"
+            "\n"
+            "commands:\n"
+            "  run CONFIG       run one experiment; writes DIR/fields.nc, DIR/budget.nc,\n"
+            "                   DIR/checkpoint.nc\n"
+            "  describe CONFIG  print the resolved config and the derived scales\n"
+            "\n"
+            "options of run and describe:\n"
+            "  --set SECTION.KEY=VALUE  override one config key (repeatable)\n"
+            "  --out DIR                output directory (overrides [output] directory)\n"
+            "  --overwrite              (run) replace fields.nc and budget.nc already in DIR\n"
+            "  --threads N              (run) OpenMP threads (default: OMP_NUM_THREADS)\n"
+            "  --quiet                  (run) no progress and no summary lines\n"
+            "\n"
+            "  --help                   this text\n"
+            "  --version                program version\n"
+            "\n"
+            "Exit status: 0 done, 1 usage, 2 config, 3 input/output, 4 numerical library,\n"
+            "5 unstable run (NaN/Inf or CFL), 6 stopped by a signal, 7 out of memory,\n"
+            "8 internal error. The README has the config reference.\n",
+            PACKAGE_VERSION);
+}
+
+int main(int argc, char **argv)
+{
+    if (argc < 2) {
+        usage(stderr);
+        return 1;
+    }
+    const char *cmd = argv[1];
+    if (!strcmp(cmd, "--help") || !strcmp(cmd, "-h") || !strcmp(cmd, "help")) {
+        usage(stdout);
+        return 0;
+    }
+    if (!strcmp(cmd, "--version")) {
+        printf("twingyre %s\n", PACKAGE_VERSION);
+        return 0;
+    }
+    for (int i = 2; i < argc; i++)
+        if (!strcmp(argv[i], "--help") || !strcmp(argv[i], "-h")) {
+            usage(stdout);
+            return 0;
+        }
+    if (!strcmp(cmd, "run"))
+        return cmd_run(argc, argv);
+    if (!strcmp(cmd, "describe"))
+        return cmd_describe(argc, argv);
+    fprintf(stderr, "twingyre: unknown command '%s' (commands: run, describe; see --help)\n", cmd);
+    return 1;
+}

@@ -1,0 +1,51 @@
+/* fdops.h - the finite-difference operators and domain sums, in one place.
+ *
+ * Every operator writes the active nodes of its output only and reads one
+ * node beyond them, so the caller fills rings first (geometry.h). Loops are
+ * OpenMP-parallel over rows; each output value is computed the same way
+ * whatever the thread count. Sums are formed row by row into a caller-owned
+ * buffer of ns doubles and then added in row order, so their value does not
+ * depend on the thread count either.
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
+#ifndef TG_FDOPS_H
+#define TG_FDOPS_H
+
+#include "geometry.h"
+
+/* out = five-point Laplacian of f on the active nodes. */
+void tg_laplacian(const tg_geometry *g, const double *f, double *out);
+
+/* out = J(psi, q) = psi_x q_y - psi_y q_x on the active nodes, by the
+ * Arakawa (1966) nine-point average of the three second-order forms
+ * (J++ + J+x + Jx+)/3 (Arakawa 1966, J. Comput. Phys. 1, 119-143, eqs. 36-46).
+ * Summed over the active nodes it conserves the discrete energy exactly
+ * when psi is constant on the ring (walls), sum (psi - c) J(psi, q) = 0, and
+ * the enstrophy, sum q J(psi, q) = 0, in periodic domains or when q vanishes
+ * on the walls. In a basin, where wall PV is not zero, the enstrophy sum
+ * keeps a wall term that vanishes at first order in dx; the budget logs it
+ * as enstrophy_advection (tests/unit/test_arakawa.c checks its form). */
+void tg_jacobian(const tg_geometry *g, const double *psi, const double *q, double *out);
+
+/* out = alpha*out + beta*f on the active nodes. */
+void tg_axpby(const tg_geometry *g, double alpha, double *out, double beta, const double *f);
+
+/* sum over active nodes of a*(b - bshift) * dx^2, in fixed order; rowbuf has ns doubles. */
+double tg_sum_prod(const tg_geometry *g, const double *a, const double *b, double bshift,
+                   double *rowbuf);
+
+/* Domain integral of (f - shift) with the geometry's quadrature weights (all
+ * stored nodes), and of |f - shift| when absval != 0; fixed order. */
+double tg_integral(const tg_geometry *g, const double *f, double shift, int absval, double *rowbuf);
+
+/* Largest advective CFL number (|u| + |v|) dt / dx on the active nodes with
+ * u = -psi_y, v = psi_x by centred differences; *where gets the node index
+ * j*ns + i of the maximum (first in row order on ties). */
+double tg_max_cfl(const tg_geometry *g, const double *psi, double dt, long *where, double *rowbuf,
+                  long *rowidx);
+
+/* Index of the first non-finite value on the active nodes, or -1. */
+long tg_find_nonfinite(const tg_geometry *g, const double *f);
+
+#endif

@@ -1,0 +1,263 @@
+/* geom_basin.c - the closed square basin: sine basis, walls, mass constraint.
+ *
+ * Nodes i, j = 0..N include both walls (N = points - 1 = 2^k), spacing
+ * dx = L/N, node (i, j) at x = i dx from the western wall, y = j dx from the
+ * southern wall. Interior nodes 1..N-1 are prognostic. psi is constant on
+ * the walls; the five-point Laplacian with zero wall values is diagonal in
+ * the type-I sine basis (sinetf.h), with eigenvalues
+ *   lambda(kx, ky) = -(4/dx^2) [sin^2(pi kx/(2N)) + sin^2(pi ky/(2N))]
+ * (common practice; e.g. Press et al. 2007, Numerical Recipes 3rd ed., section 20.4).
+ *
+ * Mass constraint (McWilliams 1977, Dyn. Atmos. Oceans 1, 427-441): a
+ * baroclinic mode phi_m = phi_p + c phi_h, where phi_p solves the Helmholtz
+ * problem with phi_p = 0 on the walls and phi_h solves the homogeneous
+ * problem with phi_h = 1 on the walls (computed once); c is chosen so that
+ * the trapezoidal domain integral of phi_m vanishes. The barotropic mode
+ * has phi = 0 on the walls (no net transport through the basin).
+ *
+ * Wall vorticity (ghost-node formula, common practice): with a ghost node
+ * psi_g = psi_0 + (2 a - 1)(psi_1 - psi_0) beyond the wall,
+ *   zeta_wall = 2 a (psi_1 - psi_0) / dx^2,
+ * a = 0 free slip (zeta = 0), a = 1 no slip (zero tangential velocity),
+ * 0 < a < 1 partial slip with a = wall_slip_coefficient. The Laplacian of
+ * vorticity, needed by the biharmonic operator, is set to zero on the walls.
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
+#include "geometry.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "constants.h"
+#include "fdops.h"
+#include "sinetf.h"
+
+typedef struct {
+    int N, n;               /* N = points - 1, n = N - 1 interior points per side */
+    tg_dst *dst;
+    double *spec;           /* n*n work array */
+    double *rowbuf;         /* ns work array for fixed-order sums */
+    double *lam;            /* n*n Laplacian eigenvalues in spec layout */
+    int nmodes;
+    double *invden[TG_MAX_LAYERS];  /* n*n, 1/(lambda - F_m) */
+    double *phih[TG_MAX_LAYERS];    /* ns*ns homogeneous solution, baroclinic modes */
+    double intph[TG_MAX_LAYERS];    /* domain integral of phih */
+    double slip;                    /* a in the wall-vorticity formula */
+} basin;
+
+static void basin_destroy(tg_geometry *g)
+{
+    if (!g)
+        return;
+    basin *b = g->impl;
+    if (b) {
+        tg_dst_destroy(b->dst);
+        free(b->spec);
+        free(b->rowbuf);
+        free(b->lam);
+        for (int m = 0; m < TG_MAX_LAYERS; m++) {
+            free(b->invden[m]);
+            free(b->phih[m]);
+        }
+        free(b);
+    }
+    free(g->coord);
+    free(g->weight);
+    free(g);
+}
+
+/* Solves (lap - F_m) phi = rhs with phi = 0 on the walls. */
+static void solve_dirichlet(tg_geometry *g, basin *b, int m, const double *rhs, double *phi)
+{
+    const int ns = g->ns, n = b->n;
+    tg_dst_forward(b->dst, rhs + ns + 1, ns, b->spec);
+    const double *inv = b->invden[m];
+    double *s = b->spec;
+#pragma omp parallel for schedule(static)
+    for (long k = 0; k < (long)n * n; k++)
+        s[k] *= inv[k];
+    tg_dst_inverse(b->dst, b->spec, phi + ns + 1, ns);
+    g->ops->fill_ring(g, phi, 0.0);
+}
+
+static void basin_fill_ring(const tg_geometry *g, double *f, double wall)
+{
+    const int ns = g->ns;
+    for (int i = 0; i < ns; i++) {
+        f[i] = wall;
+        f[(long)(ns - 1) * ns + i] = wall;
+        f[(long)i * ns] = wall;
+        f[(long)i * ns + ns - 1] = wall;
+    }
+}
+
+static tg_code basin_setup_modes(tg_geometry *g, int nmodes, const double *F, tg_status *st)
+{
+    basin *b = g->impl;
+    const int n = b->n, ns = g->ns;
+    b->nmodes = nmodes;
+    for (int m = 0; m < nmodes; m++) {
+        b->invden[m] = malloc(sizeof(double) * (size_t)n * n);
+        if (!b->invden[m])
+            return tg_fail(st, TG_ERR_NOMEM, "basin: no memory for the Helmholtz tables");
+        for (long k = 0; k < (long)n * n; k++) {
+            double d = b->lam[k] - F[m];
+            b->invden[m][k] = 1.0 / d; /* d < 0 always: lam < 0 and F >= 0 */
+        }
+    }
+    /* Homogeneous solutions phi_h = 1 + chi, (lap - F) chi = F, chi = 0 on the walls. */
+    double *rhs = malloc(sizeof(double) * (size_t)ns * ns);
+    if (!rhs)
+        return tg_fail(st, TG_ERR_NOMEM, "basin: no memory for the homogeneous solutions");
+    for (int m = 1; m < nmodes; m++) {
+        b->phih[m] = malloc(sizeof(double) * (size_t)ns * ns);
+        if (!b->phih[m]) {
+            free(rhs);
+            return tg_fail(st, TG_ERR_NOMEM, "basin: no memory for the homogeneous solutions");
+        }
+        for (long k = 0; k < (long)ns * ns; k++)
+            rhs[k] = F[m];
+        solve_dirichlet(g, b, m, rhs, b->phih[m]);
+        for (long k = 0; k < (long)ns * ns; k++)
+            b->phih[m][k] += 1.0;
+        b->intph[m] = tg_integral(g, b->phih[m], 0.0, 0, b->rowbuf);
+        if (!(fabs(b->intph[m]) > 0.0)) {
+            free(rhs);
+            return tg_fail(st, TG_ERR_NUMERIC,
+                           "basin: the homogeneous solution of mode %d has zero integral", m);
+        }
+    }
+    free(rhs);
+    return TG_OK;
+}
+
+static double basin_solve_mode(tg_geometry *g, int m, double *rhs, double *phi)
+{
+    basin *b = g->impl;
+    solve_dirichlet(g, b, m, rhs, phi);
+    if (m == 0)
+        return 0.0;
+    /* Mass constraint: choose c so that the integral of phi_p + c phi_h vanishes. */
+    double ip = tg_integral(g, phi, 0.0, 0, b->rowbuf);
+    double c = -ip / b->intph[m];
+    const double *h = b->phih[m];
+    const long tot = (long)g->ns * g->ns;
+#pragma omp parallel for schedule(static)
+    for (long k = 0; k < tot; k++)
+        phi[k] += c * h[k];
+    return c;
+}
+
+static void basin_fill_vorticity_ring(const tg_geometry *g, double *z, const double *psi)
+{
+    const basin *b = g->impl;
+    const int ns = g->ns, N = b->N;
+    const double f = 2.0 * b->slip / (g->dx * g->dx);
+    for (int k = 1; k < N; k++) {
+        z[k] = f * (psi[ns + k] - psi[k]);                                          /* south */
+        z[(long)N * ns + k] = f * (psi[(long)(N - 1) * ns + k] - psi[(long)N * ns + k]); /* north */
+        z[(long)k * ns] = f * (psi[(long)k * ns + 1] - psi[(long)k * ns]);              /* west */
+        z[(long)k * ns + N] = f * (psi[(long)k * ns + N - 1] - psi[(long)k * ns + N]);  /* east */
+    }
+    /* Corners never enter a stencil of the interior with a nonzero weight
+     * (psi is constant along the walls); keep them defined. */
+    z[0] = z[N] = z[(long)N * ns] = z[(long)N * ns + N] = 0.0;
+}
+
+static void basin_fill_laplacian_ring(const tg_geometry *g, double *lap)
+{
+    basin_fill_ring(g, lap, 0.0);
+}
+
+static void basin_filter_gaussian(tg_geometry *g, double *f, double width)
+{
+    basin *b = g->impl;
+    const int ns = g->ns, n = b->n;
+    tg_dst_forward(b->dst, f + ns + 1, ns, b->spec);
+    const double kk = TG_PI / g->length;
+#pragma omp parallel for schedule(static)
+    for (int kx = 1; kx <= n; kx++)
+        for (int ky = 1; ky <= n; ky++) {
+            double K2 = kk * kk * ((double)kx * kx + (double)ky * ky);
+            b->spec[(long)(kx - 1) * n + (ky - 1)] *= exp(-K2 * width * width / 24.0);
+        }
+    tg_dst_inverse(b->dst, b->spec, f + ns + 1, ns);
+}
+
+static const tg_geometry_ops basin_ops = {
+    .destroy = basin_destroy,
+    .setup_modes = basin_setup_modes,
+    .solve_mode = basin_solve_mode,
+    .fill_ring = basin_fill_ring,
+    .fill_vorticity_ring = basin_fill_vorticity_ring,
+    .fill_laplacian_ring = basin_fill_laplacian_ring,
+    .filter_gaussian = basin_filter_gaussian,
+};
+
+tg_geometry *tg_geom_basin_create(const tg_config *cfg, tg_status *st)
+{
+    tg_geometry *g = calloc(1, sizeof *g);
+    basin *b = calloc(1, sizeof *b);
+    if (!g || !b) {
+        free(g);
+        free(b);
+        tg_fail(st, TG_ERR_NOMEM, "basin: no memory");
+        return NULL;
+    }
+    g->impl = b;
+    g->ops = &basin_ops;
+    g->kind = TG_GEOM_BASIN;
+    const int ns = cfg->points, N = ns - 1, n = N - 1;
+    if (ns < 5 || (N & (N - 1)) != 0) {
+        tg_fail(st, TG_ERR_CONFIG, "basin: points must be 2^k + 1, got %d", ns);
+        basin_destroy(g);
+        return NULL;
+    }
+    b->N = N;
+    b->n = n;
+    g->ns = ns;
+    g->a0 = 1;
+    g->a1 = N;
+    g->o0 = 0;
+    g->o1 = ns;
+    g->length = cfg->size_km * 1e3;
+    g->dx = g->length / N;
+    g->area = g->length * g->length;
+    switch (cfg->wall_condition) {
+    case TG_WALL_FREE_SLIP: b->slip = 0.0; break;
+    case TG_WALL_NO_SLIP: b->slip = 1.0; break;
+    case TG_WALL_PARTIAL_SLIP: b->slip = cfg->wall_slip_coefficient; break;
+    }
+    g->coord = malloc(sizeof(double) * ns);
+    g->weight = malloc(sizeof(double) * (size_t)ns * ns);
+    b->spec = malloc(sizeof(double) * (size_t)n * n);
+    b->lam = malloc(sizeof(double) * (size_t)n * n);
+    b->rowbuf = malloc(sizeof(double) * ns);
+    if (!g->coord || !g->weight || !b->spec || !b->lam || !b->rowbuf) {
+        tg_fail(st, TG_ERR_NOMEM, "basin: no memory for %d x %d grid tables", ns, ns);
+        basin_destroy(g);
+        return NULL;
+    }
+    for (int i = 0; i < ns; i++)
+        g->coord[i] = i * g->dx;
+    /* Trapezoidal weights: half on the walls, a quarter in the corners. */
+    for (int j = 0; j < ns; j++)
+        for (int i = 0; i < ns; i++) {
+            double wx = (i == 0 || i == N) ? 0.5 : 1.0, wy = (j == 0 || j == N) ? 0.5 : 1.0;
+            g->weight[(long)j * ns + i] = wx * wy * g->dx * g->dx;
+        }
+    const double c = 4.0 / (g->dx * g->dx);
+    for (int kx = 1; kx <= n; kx++)
+        for (int ky = 1; ky <= n; ky++) {
+            double sx = sin(TG_PI * kx / (2.0 * N)), sy = sin(TG_PI * ky / (2.0 * N));
+            b->lam[(long)(kx - 1) * n + (ky - 1)] = -c * (sx * sx + sy * sy);
+        }
+    b->dst = tg_dst_create(n, st);
+    if (!b->dst) {
+        basin_destroy(g);
+        return NULL;
+    }
+    return g;
+}

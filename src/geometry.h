@@ -1,0 +1,78 @@
+/* geometry.h - the one interface that knows about walls or periodicity.
+ *
+ * Every field is stored as an ns x ns array per layer, row-major with the
+ * row index j along y: value at (i, j) is f[j*ns + i]. The prognostic
+ * ("active") nodes are a0 <= i, j < a1; the nodes around them are a ring the
+ * geometry fills (basin: the walls; periodic: a halo copied from the other
+ * side). Stencils in fdops.c read one node beyond the active block, so they
+ * run unchanged on either geometry.
+ *
+ * The stepper, budgets and closures see only: the stored layout, the grid
+ * spacing, quadrature weights, a mode-by-mode Helmholtz solve, the ring
+ * fills and a spectral filter. Nothing outside geom_*.c branches on the kind.
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
+#ifndef TG_GEOMETRY_H
+#define TG_GEOMETRY_H
+
+#include "config.h"
+#include "status.h"
+
+typedef struct tg_geometry tg_geometry;
+
+typedef struct {
+    void (*destroy)(tg_geometry *g);
+
+    /* Prepares the Helmholtz solves (nabla^2 - F[m]) phi = rhs for every
+     * vertical mode; F[0] == 0 is the barotropic mode. Called once. */
+    tg_code (*setup_modes)(tg_geometry *g, int nmodes, const double *F, tg_status *st);
+
+    /* Solves (nabla^2 - F[m]) phi = rhs on the active nodes (rhs read on the
+     * active nodes only) and fills phi's ring. Basin: phi is constant on the
+     * walls: 0 for the barotropic mode; for a baroclinic mode the constant
+     * that makes the domain integral of phi vanish (mass conservation;
+     * McWilliams 1977, Dyn. Atmos. Oceans 1, 427-441). Returns that wall
+     * value (0 for periodic). `rhs` may be overwritten. */
+    double (*solve_mode)(tg_geometry *g, int m, double *rhs, double *phi);
+
+    /* Fills the ring of a field that is constant on the walls (basin: sets
+     * the walls to `wall_value`; periodic: copies the halo). */
+    void (*fill_ring)(const tg_geometry *g, double *f, double wall_value);
+
+    /* Fills the ring of relative vorticity zeta given psi (basin: the wall
+     * vorticity of the wall condition; periodic: the halo). */
+    void (*fill_vorticity_ring)(const tg_geometry *g, double *zeta, const double *psi);
+
+    /* Fills the ring of the Laplacian of vorticity, needed for the
+     * biharmonic operator (basin: zero on the walls; periodic: the halo). */
+    void (*fill_laplacian_ring)(const tg_geometry *g, double *lap);
+
+    /* Smooths a field on the active nodes with the Gaussian filter of width
+     * w (transfer function exp(-K^2 w^2 / 24); Pope 2000, Turbulent Flows,
+     * section 13.2) in the geometry's basis. Uses internal work arrays. */
+    void (*filter_gaussian)(tg_geometry *g, double *f, double width_m);
+} tg_geometry_ops;
+
+struct tg_geometry {
+    tg_geometry_kind kind;
+    int ns;            /* stored points per side (row length) */
+    int a0, a1;        /* active node range [a0, a1) in i and in j */
+    int o0, o1;        /* node range written to output files, [o0, o1) */
+    double dx;         /* grid spacing, m */
+    double length;     /* side of the domain, m */
+    double area;       /* domain area, m2 */
+    double *coord;     /* ns positions (m) of the stored indices, same along x and y */
+    double *weight;    /* ns*ns quadrature weights (m2) of the domain integral; 0 off-domain */
+    const tg_geometry_ops *ops;
+    void *impl;        /* owned by the implementation */
+};
+
+/* Creates the geometry that the config asks for. */
+tg_geometry *tg_geometry_create(const tg_config *cfg, tg_status *st);
+void tg_geometry_destroy(tg_geometry *g);
+
+/* Basin implementation (geom_basin.c). */
+tg_geometry *tg_geom_basin_create(const tg_config *cfg, tg_status *st);
+
+#endif

@@ -1,0 +1,115 @@
+/* model.h - the layered QG model: state, set-up, PV inversion, tendency terms.
+ *
+ * Equations (Pedlosky 1987, Geophysical Fluid Dynamics, sections 6.16-6.17;
+ * Vallis 2017, Atmospheric and Oceanic Fluid Dynamics, section 5.3):
+ *   q_k = lap psi_k + (S psi)_k + beta (y - y0)                  (modes.h for S)
+ *   dq_k/dt = -J(psi_k, q_k)                                      advection
+ *             + delta_{k,1} curl(tau) / (rho0 H_1)                 wind
+ *             - delta_{k,N} r lap psi_N                            bottom drag
+ *             + A2 lap zeta_k - A4 lap^2 zeta_k                    lateral viscosity
+ *             + closure tendency                                   (closure.h)
+ * with zeta_k = lap psi_k and y0 the central latitude of the domain.
+ *
+ * tg_model_create does all the set-up: geometry (transforms, Helmholtz
+ * tables), vertical modes, forcing fields and every work array. After it,
+ * nothing in the model allocates.
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
+#ifndef TG_MODEL_H
+#define TG_MODEL_H
+
+#include "closure.h"
+#include "config.h"
+#include "geometry.h"
+#include "modes.h"
+#include "status.h"
+
+/* The tendency terms the framework keeps apart for the budgets. */
+enum {
+    TG_TERM_ADVECTION = 0,
+    TG_TERM_WIND,
+    TG_TERM_BOTTOM_DRAG,
+    TG_TERM_VISCOSITY,
+    TG_TERM_CLOSURE,
+    TG_NTERMS
+};
+
+/* Energy and enstrophy contributions of each term at one state. */
+typedef struct {
+    double energy[TG_NTERMS];                  /* W kg-1 (m2 s-3) */
+    double enstrophy[TG_NTERMS][TG_MAX_LAYERS];/* s-3 */
+} tg_term_rates;
+
+typedef struct tg_model {
+    tg_config cfg;          /* a copy of the settings */
+    tg_geometry *geom;      /* owned */
+    tg_modes modes;
+    int nl;                 /* layers */
+    long npl;               /* stored values per layer, ns*ns */
+    double dt;              /* time step, s */
+    double Htot;            /* total depth, m */
+
+    /* Current state; each is nl*npl, layer k at k*npl. q is prognostic on
+     * the active nodes; everything else is derived by tg_model_derive. */
+    double *q, *psi, *zeta;
+    double wall[TG_MAX_LAYERS];   /* value of psi_k on the walls (0 when periodic) */
+    long step;                    /* steps since day 0 */
+    double time_s;                /* step * dt */
+
+    /* Fixed fields, npl each. */
+    double *beta_y;         /* beta (y - y0), s-1 */
+    double *wind_forcing;   /* curl(tau) / (rho0 H_1), s-2 */
+
+    /* Work arrays, made once. */
+    double *phi;            /* nl*npl modal amplitudes */
+    double *rhs;            /* npl */
+    double *lap1, *lap2;    /* npl each, viscosity */
+    double *tend;           /* nl*npl total tendency */
+    double *term;           /* nl*npl one term's tendency */
+    double *q0;             /* nl*npl state at the start of the step */
+    double *rowbuf;         /* ns */
+    long *rowidx;           /* ns */
+    int nout;               /* output points per side */
+
+    /* Closures (none registered yet: the hook is called with n = 0). */
+    int nclosures;
+    tg_closure *closures[8];
+} tg_model;
+
+tg_model *tg_model_create(const tg_config *cfg, tg_status *st);
+void tg_model_destroy(tg_model *m);
+
+/* Sets the state from a streamfunction in output layout (nl*nout*nout):
+ * q is computed from it on the active nodes and inverted again, so the
+ * stored psi satisfies the wall and mass conditions. */
+void tg_model_set_psi(tg_model *m, const double *psi_out);
+
+/* Sets the state from PV in output layout (checkpoint resume: bitwise). */
+void tg_model_set_q(tg_model *m, const double *q_out);
+
+/* Random initial streamfunction: Gaussian noise smoothed by the geometry's
+ * Gaussian filter (width 4 dx) and scaled to r.m.s. `amplitude` per layer. */
+void tg_model_set_noise(tg_model *m, double amplitude, uint64_t seed);
+
+/* PV inversion and everything derived from q: psi (with wall values), zeta,
+ * and the rings of q. */
+void tg_model_derive(tg_model *m);
+
+/* Total tendency of the current (derived) state into m->tend, and each
+ * term's energy and enstrophy rates into *rates (may be NULL). */
+tg_code tg_model_tendency(tg_model *m, int stage, tg_term_rates *rates, tg_status *st);
+
+/* Diagnostics of the current state. */
+double tg_model_energy(tg_model *m);                     /* m2 s-2 */
+void tg_model_kinetic_energy(tg_model *m, double *ke);  /* per layer, m2 s-2 */
+void tg_model_enstrophy(tg_model *m, double *z);        /* per layer, s-2 */
+void tg_model_mass_error(tg_model *m, double *err);     /* per interface */
+double tg_model_max_cfl(tg_model *m, int *layer, double *x, double *y);
+
+/* Copies layer fields (nl*npl) to output layout (nl*nout*nout) in dest. */
+void tg_model_pack(const tg_model *m, const double *field, double *dest);
+/* Output coordinates (nout values), m. */
+const double *tg_model_out_coord(const tg_model *m);
+
+#endif

@@ -1,0 +1,338 @@
+/* run.c - the experiment driver (run.h): initial state, stepping, output,
+ * faults and stop requests. Everything is allocated before the first step. */
+#define _POSIX_C_SOURCE 200809L
+#include "run.h"
+
+#include <errno.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+#include <unistd.h>
+
+#include "budget.h"
+#include "constants.h"
+#include "fdops.h"
+#include "model.h"
+#include "ncio.h"
+#include "stepper.h"
+
+#ifndef PACKAGE_VERSION
+#define PACKAGE_VERSION "unknown"
+#endif
+
+/* mkdir -p */
+static tg_code make_dirs(const char *path, tg_status *st)
+{
+    char buf[TG_PATH_LEN];
+    if (snprintf(buf, sizeof buf, "%s", path) >= (int)sizeof buf)
+        return tg_fail(st, TG_ERR_IO, "output directory path too long: %s", path);
+    for (char *p = buf + 1;; p++) {
+        char c = *p;
+        if (c == '/' || c == '\0') {
+            *p = '\0';
+            if (mkdir(buf, 0777) != 0 && errno != EEXIST)
+                return tg_fail(st, TG_ERR_IO, "cannot create directory %s: %s", buf,
+                               strerror(errno));
+            *p = c;
+        }
+        if (c == '\0')
+            break;
+    }
+    struct stat sb;
+    if (stat(path, &sb) != 0 || !S_ISDIR(sb.st_mode))
+        return tg_fail(st, TG_ERR_IO, "%s exists and is not a directory", path);
+    return TG_OK;
+}
+
+static long steps_for(double days, double dt)
+{
+    return (long)llround(days * TG_SECONDS_PER_DAY / dt);
+}
+
+typedef struct {
+    tg_model *m;
+    const tg_config *cfg;
+    tg_nc_grid grid;
+    double *psi_out, *q_out;
+    char path_fields[TG_PATH_LEN + 16], path_budget[TG_PATH_LEN + 16], path_ckpt[TG_PATH_LEN + 16];
+} run_ctx;
+
+static tg_code write_checkpoint(run_ctx *c, tg_status *st)
+{
+    tg_model_pack(c->m, c->m->psi, c->psi_out);
+    tg_model_pack(c->m, c->m->q, c->q_out);
+    tg_checkpoint ck = {.time_s = c->m->time_s, .step = c->m->step, .psi = c->psi_out,
+                        .q = c->q_out, .nextra = 0};
+    return tg_checkpoint_write(c->path_ckpt, &c->grid, &ck, st);
+}
+
+static tg_code write_snapshot(run_ctx *c, tg_fields_file *f, tg_status *st)
+{
+    tg_model_pack(c->m, c->m->psi, c->psi_out);
+    tg_model_pack(c->m, c->m->q, c->q_out);
+    return tg_fields_append(f, c->m->time_s, c->psi_out, c->q_out, st);
+}
+
+static tg_code initial_state(run_ctx *c, long nsteps, tg_status *st)
+{
+    const tg_config *cfg = c->cfg;
+    tg_model *m = c->m;
+    switch (cfg->initial_kind) {
+    case TG_INIT_REST:
+        break; /* tg_model_create leaves the state at rest */
+    case TG_INIT_NOISE:
+        tg_model_set_noise(m, cfg->noise_amplitude_m2_per_s, cfg->seed);
+        break;
+    case TG_INIT_FILE: {
+        tg_initial_info info;
+        tg_code rc = tg_initial_read(cfg->initial_path, m->nout, m->nout, m->nl, c->psi_out,
+                                     c->q_out, &info, st);
+        if (rc != TG_OK)
+            return rc;
+        if (info.has_q && info.has_time) {
+            /* A checkpoint: resume at its step from its PV, bitwise. */
+            if (info.step < 0 || info.step > nsteps)
+                return tg_fail(st, TG_ERR_CONFIG,
+                               "%s: the checkpoint is at step %ld (day %.6g), outside this "
+                               "experiment's %ld steps ([time] duration_days counts from day 0)",
+                               cfg->initial_path, info.step, info.time_s / TG_SECONDS_PER_DAY,
+                               nsteps);
+            m->step = info.step;
+            tg_model_set_q(m, c->q_out);
+        } else {
+            tg_model_set_psi(m, c->psi_out);
+        }
+        break;
+    }
+    }
+    return TG_OK;
+}
+
+static void log_summary(const tg_model *m, const tg_diag *d, const tg_term_rates *r, double eres,
+                        double zres)
+{
+    char z[256] = "";
+    size_t len = 0;
+    for (int k = 0; k < m->nl && len < sizeof z; k++)
+        len += (size_t)snprintf(z + len, sizeof z - len, "%s%.4e", k ? " " : "", d->enstrophy[k]);
+    tg_log(TG_LOG_INFO,
+           "day %.2f step %ld: energy %.6e m2 s-2 (wind %+.3e, drag %+.3e, viscosity %+.3e, "
+           "closure %+.3e m2 s-3), enstrophy [%s] s-2, max CFL %.3f, worst relative budget "
+           "residual since last line: energy %.1e, enstrophy %.1e",
+           m->time_s / TG_SECONDS_PER_DAY, m->step, d->energy, r->energy[TG_TERM_WIND],
+           r->energy[TG_TERM_BOTTOM_DRAG], r->energy[TG_TERM_VISCOSITY],
+           r->energy[TG_TERM_CLOSURE], z, d->max_cfl, eres, zres);
+}
+
+static tg_code check_outputs_free(const char *dir, const run_ctx *c, int overwrite, tg_status *st)
+{
+    if (overwrite)
+        return TG_OK;
+    const char *paths[] = {c->path_fields, c->path_budget};
+    for (int i = 0; i < 2; i++)
+        if (access(paths[i], F_OK) == 0)
+            return tg_fail(st, TG_ERR_IO,
+                           "%s already exists; choose another output directory than %s or pass "
+                           "--overwrite",
+                           paths[i], dir);
+    return TG_OK;
+}
+
+tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
+{
+    tg_code rc = TG_OK;
+    run_ctx c = {0};
+    tg_fields_file *ff = NULL;
+    tg_budget_file *bf = NULL;
+    double *rec = NULL;
+    char *cfg_text = NULL;
+    tg_budget_layout lay;
+
+    c.cfg = cfg;
+    const char *dir = cfg->out_directory;
+    snprintf(c.path_fields, sizeof c.path_fields, "%s/fields.nc", dir);
+    snprintf(c.path_budget, sizeof c.path_budget, "%s/budget.nc", dir);
+    snprintf(c.path_ckpt, sizeof c.path_ckpt, "%s/checkpoint.nc", dir);
+    if ((rc = check_outputs_free(dir, &c, opt->overwrite, st)) != TG_OK)
+        return rc;
+
+    c.m = tg_model_create(cfg, st);
+    if (!c.m)
+        return st->code ? st->code : TG_ERR_INTERNAL;
+    tg_model *m = c.m;
+    const long nout3 = (long)m->nl * m->nout * m->nout;
+    c.psi_out = malloc(sizeof(double) * nout3);
+    c.q_out = malloc(sizeof(double) * nout3);
+    rec = malloc(sizeof(double) * (8 * TG_NTERMS + 8) * TG_MAX_LAYERS);
+    cfg_text = tg_config_to_ini(cfg);
+    if (!c.psi_out || !c.q_out || !rec || !cfg_text) {
+        rc = tg_fail(st, TG_ERR_NOMEM, "run: no memory for output buffers");
+        goto done;
+    }
+
+    const double dt = cfg->step_s;
+    const long nsteps = steps_for(cfg->duration_days, dt);
+    const long snap_every = steps_for(cfg->snapshot_every_days, dt) > 0
+                                ? steps_for(cfg->snapshot_every_days, dt) : 1;
+    const long log_every = steps_for(cfg->log_every_days, dt) > 0
+                               ? steps_for(cfg->log_every_days, dt) : 1;
+    const long ckpt_every = steps_for(cfg->checkpoint_every_days, dt);
+
+    if ((rc = initial_state(&c, nsteps, st)) != TG_OK)
+        goto done;
+
+    /* Output files: only now, after every input has been checked. */
+    if ((rc = make_dirs(dir, st)) != TG_OK)
+        goto done;
+    c.grid = (tg_nc_grid){.nx = m->nout, .ny = m->nout, .nlayers = m->nl,
+                          .x = tg_model_out_coord(m), .y = tg_model_out_coord(m),
+                          .config_text = cfg_text,
+                          .command_line = opt->command_line ? opt->command_line : "",
+                          .title = "twingyre layered quasi-geostrophic experiment"};
+    ff = tg_fields_create(c.path_fields, &c.grid, st);
+    if (!ff) {
+        rc = st->code;
+        goto done;
+    }
+    tg_budget_layout_init(&lay, m->nl);
+    bf = tg_budget_create(c.path_budget, &c.grid, lay.var, lay.n, st);
+    if (!bf) {
+        rc = st->code;
+        goto done;
+    }
+
+    tg_diag before, after;
+    tg_term_rates rates;
+    memset(&rates, 0, sizeof rates);
+    tg_diag_compute(m, &before);
+    if (m->step % snap_every == 0 && (rc = write_snapshot(&c, ff, st)) != TG_OK)
+        goto done;
+    tg_log(TG_LOG_INFO, "start at step %ld (day %.2f) of %ld; %d layers, %d x %d points, dx %.3f km",
+           m->step, m->time_s / TG_SECONDS_PER_DAY, nsteps, m->nl, m->nout, m->nout,
+           m->geom->dx / 1e3);
+    if (!isfinite(before.energy) || before.max_cfl > cfg->max_cfl) {
+        int finite = isfinite(before.energy);
+        tg_status ck;
+        tg_status_clear(&ck);
+        tg_code crc = finite ? write_checkpoint(&c, &ck) : TG_ERR_BLOWUP;
+        rc = tg_fail(st, TG_ERR_BLOWUP,
+                     "the initial state at step %ld (model day %.4f) has CFL %.3g (max_cfl %.3g) "
+                     "in layer %d at x = %.1f km, y = %.1f km%s; %s",
+                     m->step, m->time_s / TG_SECONDS_PER_DAY, before.max_cfl, cfg->max_cfl,
+                     before.cfl_layer + 1, before.cfl_x / 1e3, before.cfl_y / 1e3,
+                     finite ? "" : ", and a non-finite energy",
+                     crc == TG_OK ? "the state is in the checkpoint" : "no checkpoint was written");
+        goto done;
+    }
+
+    const long first = m->step;
+    double worst_e = 0.0, worst_z = 0.0;
+    while (m->step < nsteps) {
+        if (opt->stop_requested && *opt->stop_requested) {
+            if ((rc = write_checkpoint(&c, st)) != TG_OK)
+                goto done;
+            rc = tg_fail(st, TG_ERR_INTERRUPTED,
+                         "stopped on request at step %ld (day %.4g); checkpoint written to %s",
+                         m->step, m->time_s / TG_SECONDS_PER_DAY, c.path_ckpt);
+            goto done;
+        }
+        if ((rc = tg_step(m, &rates, st)) != TG_OK)
+            goto done;
+        tg_diag_compute(m, &after);
+
+        /* Faults: NaN/Inf anywhere, or CFL above the limit. */
+        long bad = -1;
+        int bad_layer = 0;
+        for (int k = 0; k < m->nl && bad < 0; k++)
+            if ((bad = tg_find_nonfinite(m->geom, m->q + k * m->npl)) >= 0)
+                bad_layer = k;
+        if (bad >= 0 || !isfinite(after.energy)) {
+            double day = m->time_s / TG_SECONDS_PER_DAY;
+            long at_step = m->step;
+            /* The state at the start of the step was finite: write it. */
+            memcpy(m->q, m->q0, sizeof(double) * m->nl * m->npl);
+            m->step--;
+            tg_model_derive(m);
+            tg_status ck;
+            tg_status_clear(&ck);
+            tg_code crc = write_checkpoint(&c, &ck);
+            double x = bad >= 0 ? m->geom->coord[bad % m->geom->ns] : NAN;
+            double y = bad >= 0 ? m->geom->coord[bad / m->geom->ns] : NAN;
+            rc = tg_fail(st, TG_ERR_BLOWUP,
+                         "non-finite PV at step %ld (model day %.4f) in layer %d at x = %.1f km, "
+                         "y = %.1f km; %s (step %ld)",
+                         at_step, day, bad_layer + 1, x / 1e3, y / 1e3,
+                         crc == TG_OK ? "the last finite state is in the checkpoint"
+                                      : "the last finite state could not be written",
+                         m->step);
+            goto done;
+        }
+        double eres, zres;
+        tg_budget_relative_residual(m->nl, dt, &before, &after, &rates, &eres, &zres);
+        worst_e = fmax(worst_e, eres);
+        worst_z = fmax(worst_z, zres);
+        int n = tg_budget_pack(m->nl, dt, &before, &after, &rates, rec);
+        (void)n;
+        if ((rc = tg_budget_append(bf, m->time_s, m->step, rec, st)) != TG_OK)
+            goto done;
+        if (after.max_cfl > cfg->max_cfl) {
+            tg_code crc = write_checkpoint(&c, st);
+            rc = tg_fail(st, TG_ERR_BLOWUP,
+                         "CFL %.3f exceeds max_cfl %.3g at step %ld (model day %.4f) in layer %d "
+                         "at x = %.1f km, y = %.1f km; %s",
+                         after.max_cfl, cfg->max_cfl, m->step, m->time_s / TG_SECONDS_PER_DAY,
+                         after.cfl_layer + 1, after.cfl_x / 1e3, after.cfl_y / 1e3,
+                         crc == TG_OK ? "the state is in the checkpoint"
+                                      : "the checkpoint could not be written");
+            goto done;
+        }
+        if (m->step % snap_every == 0) {
+            if ((rc = write_snapshot(&c, ff, st)) != TG_OK ||
+                (rc = tg_budget_flush(bf, st)) != TG_OK)
+                goto done;
+        }
+        if (ckpt_every > 0 && m->step % ckpt_every == 0 && m->step < nsteps &&
+            (rc = write_checkpoint(&c, st)) != TG_OK)
+            goto done;
+        if (m->step % log_every == 0 || m->step == nsteps) {
+            log_summary(m, &after, &rates, worst_e, worst_z);
+            worst_e = worst_z = 0.0;
+        }
+        if (opt->progress) {
+            double ke = 0.0;
+            for (int k = 0; k < m->nl; k++)
+                ke += cfg->thickness_m[k] * after.kinetic[k] / m->Htot;
+            tg_progress p = {.step = m->step, .step_first = first, .step_last = nsteps,
+                             .day = m->time_s / TG_SECONDS_PER_DAY,
+                             .last_day = nsteps * dt / TG_SECONDS_PER_DAY, .kinetic_energy = ke,
+                             .max_cfl = after.max_cfl};
+            opt->progress(&p, opt->progress_user);
+        }
+        before = after;
+    }
+    rc = write_checkpoint(&c, st);
+
+done:
+    if (bf) {
+        tg_status s2;
+        tg_status_clear(&s2);
+        tg_code r2 = tg_budget_close(bf, rc == TG_OK ? st : &s2);
+        if (rc == TG_OK)
+            rc = r2;
+    }
+    if (ff) {
+        tg_status s2;
+        tg_status_clear(&s2);
+        tg_code r2 = tg_fields_close(ff, rc == TG_OK ? st : &s2);
+        if (rc == TG_OK)
+            rc = r2;
+    }
+    free(cfg_text);
+    free(rec);
+    free(c.psi_out);
+    free(c.q_out);
+    tg_model_destroy(c.m);
+    return rc;
+}

@@ -1,0 +1,46 @@
+/* scales.c - derived scales for `twingyre describe` (scales.h). */
+#include "scales.h"
+
+#include <math.h>
+
+#include "constants.h"
+#include "modes.h"
+
+tg_code tg_scales_compute(const tg_config *cfg, tg_scales *s, tg_status *st)
+{
+    tg_modes md;
+    tg_code rc = tg_modes_compute(&md, cfg->nlayers, cfg->thickness_m, cfg->reduced_gravity_m_s2,
+                                  cfg->coriolis_f0_per_s, st);
+    if (rc != TG_OK)
+        return rc;
+    const double L = cfg->size_km * 1e3;
+    const int N = cfg->geometry == TG_GEOM_BASIN ? cfg->points - 1 : cfg->points;
+    const double beta = cfg->beta_per_m_per_s;
+    s->dx_m = L / N;
+    for (int m = 0; m < TG_MAX_LAYERS; m++)
+        s->radius_m[m] = m > 0 && m < md.n ? tg_modes_radius(&md, m) : NAN;
+    /* Munk (1950) and Stommel (1948) boundary-layer widths. */
+    s->munk_m = beta > 0 ? cbrt(cfg->viscosity_m2_per_s / beta) : NAN;
+    s->stommel_m = beta > 0 ? cfg->bottom_drag_per_s / beta : NAN;
+    /* Gravest barotropic basin mode, Longuet-Higgins 1964 (Proc. R. Soc. A 279, 446-473):
+     * omega = beta / (2 K), K^2 = (pi/L)^2 + (pi/L)^2 in a square basin. */
+    double K = sqrt(2.0) * TG_PI / L;
+    s->rossby_period_days = beta > 0 ? 2.0 * TG_PI / (beta / (2.0 * K)) / TG_SECONDS_PER_DAY : NAN;
+    s->cfl_at_1ms = cfg->step_s / s->dx_m;
+    /* Arrays: 7 per layer of (N+1)^2 plus 6 single ones, the Helmholtz tables
+     * (one per mode), homogeneous solutions and output buffers. */
+    double npl = (double)(N + 1) * (N + 1);
+    int nl = cfg->nlayers;
+    s->memory_mb = 8.0 * npl * (7.0 * nl + 6.0 + 2.0 * nl + (nl - 1) + 2.0 * nl) / 1e6;
+    /* Sverdrup transport of the wind: beta V = curl tau / rho0 integrated
+     * across the basin: max over y of |curl tau| L / (rho0 beta). */
+    double curl = 0.0;
+    if (cfg->wind_profile == TG_WIND_DOUBLE_GYRE)
+        curl = cfg->stress_amplitude_pa * 2.0 * TG_PI / L;
+    else if (cfg->wind_profile == TG_WIND_SINGLE_GYRE)
+        curl = cfg->stress_amplitude_pa * TG_PI / L;
+    s->sverdrup_transport_sv =
+        beta > 0 ? curl * L / (cfg->reference_density_kg_m3 * beta) / 1e6 : NAN;
+    s->steps = (long)llround(cfg->duration_days * TG_SECONDS_PER_DAY / cfg->step_s);
+    return TG_OK;
+}
