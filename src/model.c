@@ -105,7 +105,10 @@ tg_model *tg_model_create(const tg_config *cfg, tg_status *st)
             m->beta_y[(long)j * ns + i] = cfg->beta_per_m_per_s * (y - y0);
             m->wind_forcing[(long)j * ns + i] = wind_curl(cfg, y, g->length) / rhoH;
         }
-    tg_model_derive(m); /* state of rest: q = beta (y - y0) */
+    /* State of rest: psi = 0, so q = beta (y - y0) in every layer. */
+    for (int k = 0; k < m->nl; k++)
+        memcpy(m->q + k * m->npl, m->beta_y, sizeof(double) * m->npl);
+    tg_model_derive(m);
     return m;
 fail:
     tg_model_destroy(m);
