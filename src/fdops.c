@@ -9,10 +9,10 @@ void tg_laplacian(const tg_geometry *g, const double *f, double *out)
     const double r = 1.0 / (g->dx * g->dx);
 #pragma omp parallel for schedule(static)
     for (int j = a0; j < a1; j++) {
-        const double *c = f + (long)j * ns, *n = c + ns, *s = c - ns;
+        const double *c = f + (long)j * ns;
         double *o = out + (long)j * ns;
         for (int i = a0; i < a1; i++)
-            o[i] = r * ((c[i + 1] + c[i - 1]) + (n[i] + s[i]) - 4.0 * c[i]);
+            o[i] = r * tg_lap5_at(c, c + ns, c - ns, i);
     }
 }
 
@@ -20,26 +20,17 @@ void tg_laplacian(const tg_geometry *g, const double *f, double *out)
  *   J++ = [(p_E - p_W)(q_N - q_S) - (p_N - p_S)(q_E - q_W)] / (4 d^2)
  *   J+x = [p_E (q_NE - q_SE) - p_W (q_NW - q_SW) - p_N (q_NE - q_NW) + p_S (q_SE - q_SW)] / (4 d^2)
  *   Jx+ = [q_N (p_NE - p_NW) - q_S (p_SE - p_SW) - q_E (p_NE - p_SE) + q_W (p_NW - p_SW)] / (4 d^2)
- *   J   = (J++ + J+x + Jx+) / 3                                                            */
+ *   J   = (J++ + J+x + Jx+) / 3                  (tg_arakawa_at returns 12 d^2 J) */
 void tg_jacobian(const tg_geometry *g, const double *psi, const double *q, double *out)
 {
     const int ns = g->ns, a0 = g->a0, a1 = g->a1;
     const double r = 1.0 / (12.0 * g->dx * g->dx);
 #pragma omp parallel for schedule(static)
     for (int j = a0; j < a1; j++) {
-        const double *pc = psi + (long)j * ns, *pn = pc + ns, *ps = pc - ns;
-        const double *qc = q + (long)j * ns, *qn = qc + ns, *qs = qc - ns;
+        const double *pc = psi + (long)j * ns, *qc = q + (long)j * ns;
         double *o = out + (long)j * ns;
-        for (int i = a0; i < a1; i++) {
-            const double pE = pc[i + 1], pW = pc[i - 1], pN = pn[i], pS = ps[i];
-            const double pNE = pn[i + 1], pNW = pn[i - 1], pSE = ps[i + 1], pSW = ps[i - 1];
-            const double qE = qc[i + 1], qW = qc[i - 1], qN = qn[i], qS = qs[i];
-            const double qNE = qn[i + 1], qNW = qn[i - 1], qSE = qs[i + 1], qSW = qs[i - 1];
-            const double jpp = (pE - pW) * (qN - qS) - (pN - pS) * (qE - qW);
-            const double jpx = pE * (qNE - qSE) - pW * (qNW - qSW) - pN * (qNE - qNW) + pS * (qSE - qSW);
-            const double jxp = qN * (pNE - pNW) - qS * (pSE - pSW) - qE * (pNE - pSE) + qW * (pNW - pSW);
-            o[i] = r * (jpp + jpx + jxp);
-        }
+        for (int i = a0; i < a1; i++)
+            o[i] = r * tg_arakawa_at(pc, pc + ns, pc - ns, qc, qc + ns, qc - ns, i);
     }
 }
 

@@ -14,6 +14,30 @@
 
 #include "geometry.h"
 
+/* Point kernels: the one copy of each stencil. c, n, s point at the rows
+ * j, j+1, j-1 of a field; i is the column. tg_laplacian and tg_jacobian
+ * apply them to whole fields; terms.c applies them inside its fused loop. */
+
+/* Five-point Laplacian times dx^2. */
+static inline double tg_lap5_at(const double *c, const double *n, const double *s, int i)
+{
+    return (c[i + 1] + c[i - 1]) + (n[i] + s[i]) - 4.0 * c[i];
+}
+
+/* Arakawa (1966) Jacobian times 12 dx^2 (see tg_jacobian). */
+static inline double tg_arakawa_at(const double *pc, const double *pn, const double *ps,
+                                   const double *qc, const double *qn, const double *qs, int i)
+{
+    const double pE = pc[i + 1], pW = pc[i - 1], pN = pn[i], pS = ps[i];
+    const double pNE = pn[i + 1], pNW = pn[i - 1], pSE = ps[i + 1], pSW = ps[i - 1];
+    const double qE = qc[i + 1], qW = qc[i - 1], qN = qn[i], qS = qs[i];
+    const double qNE = qn[i + 1], qNW = qn[i - 1], qSE = qs[i + 1], qSW = qs[i - 1];
+    const double jpp = (pE - pW) * (qN - qS) - (pN - pS) * (qE - qW);
+    const double jpx = pE * (qNE - qSE) - pW * (qNW - qSW) - pN * (qNE - qNW) + pS * (qSE - qSW);
+    const double jxp = qN * (pNE - pNW) - qS * (pSE - pSW) - qE * (pNE - pSE) + qW * (pNW - pSW);
+    return jpp + jpx + jxp;
+}
+
 /* out = five-point Laplacian of f on the active nodes. */
 void tg_laplacian(const tg_geometry *g, const double *f, double *out);
 

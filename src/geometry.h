@@ -9,7 +9,8 @@
  *
  * The stepper, budgets and closures see only: the stored layout, the grid
  * spacing, quadrature weights, a mode-by-mode Helmholtz solve, the ring
- * fills and a spectral filter. Nothing outside geom_*.c branches on the kind.
+ * fills, a spectral filter and a kinetic-energy spectrum. Nothing outside
+ * geom_*.c branches on the kind.
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
@@ -33,7 +34,8 @@ typedef struct {
      * walls: 0 for the barotropic mode; for a baroclinic mode the constant
      * that makes the domain integral of phi vanish (mass conservation;
      * McWilliams 1977, Dyn. Atmos. Oceans 1, 427-441). Returns that wall
-     * value (0 for periodic). `rhs` may be overwritten. */
+     * value (0 for periodic). `rhs` may be overwritten, and rhs == phi (an
+     * in-place solve) must work. */
     double (*solve_mode)(tg_geometry *g, int m, double *rhs, double *phi);
 
     /* Fills the ring of a field that is constant on the walls (basin: sets
@@ -52,6 +54,21 @@ typedef struct {
      * w (transfer function exp(-K^2 w^2 / 24); Pope 2000, Turbulent Flows,
      * section 13.2) in the geometry's basis. Uses internal work arrays. */
     void (*filter_gaussian)(tg_geometry *g, double *f, double width_m);
+
+    /* Isotropic kinetic-energy spectrum of one layer (spectrum.h has the
+     * helper that callers use). psi is read on the active nodes; the field
+     * transformed is psi - wall_value (basin: a sine series, zero on the
+     * walls; periodic: wall_value is ignored). Writes E[b-1] for the bins
+     * b = 1..g->spectrum_nbins of width dk = g->spectrum_dk (rad m-1)
+     * centred at b dk; each coefficient goes to the bin of its continuous
+     * wavenumber K = |(kx, ky)| (nearest b dk) with the weight -lambda |c|^2,
+     * lambda the eigenvalue of the five-point Laplacian, normalized so that
+     * sum_b E[b-1] dk equals exactly (to round-off) the kinetic energy per
+     * unit mass that model.c defines,
+     *   -(1/(2A)) sum_active (psi - wall_value) lap(psi) dx^2   (m2 s-2).
+     * work: ns*ns doubles of caller-owned scratch. Fixed summation order. */
+    void (*ke_spectrum)(tg_geometry *g, const double *psi, double wall_value, double *work,
+                        double *E);
 } tg_geometry_ops;
 
 struct tg_geometry {
@@ -66,6 +83,8 @@ struct tg_geometry {
     double *weight;    /* ns*ns quadrature weights (m2) of the domain integral; 0 off-domain */
     const tg_geometry_ops *ops;
     void *impl;        /* owned by the implementation */
+    int spectrum_nbins;   /* bins of ops->ke_spectrum (0: not available) */
+    double spectrum_dk;   /* their width, rad m-1: 2 pi/L periodic, pi/L basin */
 };
 
 /* Creates the geometry that the config asks for. */
@@ -74,5 +93,8 @@ void tg_geometry_destroy(tg_geometry *g);
 
 /* Basin implementation (geom_basin.c). */
 tg_geometry *tg_geom_basin_create(const tg_config *cfg, tg_status *st);
+
+/* Doubly periodic implementation (geom_periodic.c). */
+tg_geometry *tg_geom_periodic_create(const tg_config *cfg, tg_status *st);
 
 #endif

@@ -22,8 +22,8 @@ void tg_model_destroy(tg_model *m)
     for (int c = 0; c < m->nclosures; c++)
         if (m->closures[c] && m->closures[c]->ops->destroy)
             m->closures[c]->ops->destroy(m->closures[c]);
-    double *arrays[] = {m->q,   m->psi,  m->zeta, m->beta_y, m->wind_forcing, m->phi, m->rhs,
-                        m->lap1, m->lap2, m->tend, m->term,  m->q0,           m->rowbuf};
+    double *arrays[] = {m->q,   m->psi,  m->zeta, m->beta_y, m->wind_forcing, m->phi,
+                        m->lap1, m->lap2, m->tend, m->term,  m->q0,           m->rowbuf, m->rowsums};
     for (size_t i = 0; i < sizeof arrays / sizeof arrays[0]; i++)
         free(arrays[i]);
     free(m->rowidx);
@@ -83,13 +83,13 @@ tg_model *tg_model_create(const tg_config *cfg, tg_status *st)
     m->q0 = alloc_fields(nf);
     m->beta_y = alloc_fields(m->npl);
     m->wind_forcing = alloc_fields(m->npl);
-    m->rhs = alloc_fields(m->npl);
     m->lap1 = alloc_fields(m->npl);
     m->lap2 = alloc_fields(m->npl);
     m->rowbuf = alloc_fields(ns);
+    m->rowsums = alloc_fields(8L * ns);
     m->rowidx = calloc((size_t)ns, sizeof(long));
     if (!m->q || !m->psi || !m->zeta || !m->phi || !m->tend || !m->term || !m->q0 ||
-        !m->beta_y || !m->wind_forcing || !m->rhs || !m->lap1 || !m->lap2 || !m->rowbuf ||
+        !m->beta_y || !m->wind_forcing || !m->lap1 || !m->lap2 || !m->rowbuf || !m->rowsums ||
         !m->rowidx) {
         tg_fail(st, TG_ERR_NOMEM, "model: no memory for %d layers of %d x %d points", m->nl, ns,
                 ns);
@@ -138,37 +138,73 @@ void tg_model_derive(tg_model *m)
     const long npl = m->npl;
     double cwall[TG_MAX_LAYERS];
 
-    /* Modal right-hand sides: Pinv (q - beta (y - y0)), then one Helmholtz
-     * solve per mode (geometry.h) which also sets the wall constants. */
-    for (int md = 0; md < nl; md++) {
-        double *r = m->rhs;
+    /* Modal right-hand sides Pinv (q - beta (y - y0)) of every mode in one
+     * pass into phi, then one Helmholtz solve per mode, in place
+     * (geometry.h), which also sets the wall constants. */
 #pragma omp parallel for schedule(static)
-        for (int j = a0; j < a1; j++)
-            for (int i = a0; i < a1; i++) {
-                long p = (long)j * ns + i;
-                double s = 0.0;
-                for (int k = 0; k < nl; k++)
-                    s += m->modes.Pinv[md][k] * (m->q[k * npl + p] - m->beta_y[p]);
-                r[p] = s;
+    for (int j = a0; j < a1; j++) {
+        const long r0 = (long)j * ns;
+        const double *by = m->beta_y + r0;
+        for (int md = 0; md < nl; md++) {
+            double *r = m->phi + md * npl + r0;
+            for (int i = a0; i < a1; i++)
+                r[i] = 0.0;
+            for (int k = 0; k < nl; k++) {
+                const double pk = m->modes.Pinv[md][k];
+                const double *qk = m->q + k * npl + r0;
+#pragma omp simd
+                for (int i = a0; i < a1; i++)
+                    r[i] += pk * (qk[i] - by[i]);
             }
-        cwall[md] = g->ops->solve_mode(g, md, r, m->phi + md * npl);
-    }
-    /* Back to layers: psi = P phi on every stored node. */
-#pragma omp parallel for schedule(static)
-    for (long p = 0; p < npl; p++)
-        for (int k = 0; k < nl; k++) {
-            double s = 0.0;
-            for (int md = 0; md < nl; md++)
-                s += m->modes.P[k][md] * m->phi[md * npl + p];
-            m->psi[k * npl + p] = s;
         }
+    }
+    for (int md = 0; md < nl; md++)
+        cwall[md] = g->ops->solve_mode(g, md, m->phi + md * npl, m->phi + md * npl);
+    /* Back to layers: psi = P phi on every stored node; on the active nodes
+     * of the same row, relative vorticity from the inverted relation
+     * zeta_k = lap psi_k = q_k - beta (y - y0) - (S psi)_k, which the
+     * Helmholtz solves satisfy to round-off (one pass instead of a stencil). */
+#pragma omp parallel for schedule(static)
+    for (int j = 0; j < ns; j++) {
+        const long r0 = (long)j * ns;
+        for (int k = 0; k < nl; k++) {
+            double *o = m->psi + k * npl + r0;
+            for (int i = 0; i < ns; i++)
+                o[i] = 0.0;
+            for (int md = 0; md < nl; md++) {
+                const double pk = m->modes.P[k][md];
+                const double *f = m->phi + md * npl + r0;
+#pragma omp simd
+                for (int i = 0; i < ns; i++)
+                    o[i] += pk * f[i];
+            }
+        }
+        if (j < a0 || j >= a1)
+            continue;
+        const double *by = m->beta_y + r0;
+        for (int k = 0; k < nl; k++) {
+            double *z = m->zeta + k * npl + r0;
+            const double *qk = m->q + k * npl + r0;
+#pragma omp simd
+            for (int i = a0; i < a1; i++)
+                z[i] = qk[i] - by[i];
+            for (int kk = 0; kk < nl; kk++) {
+                const double s = m->modes.S[k][kk];
+                if (s == 0.0)
+                    continue;
+                const double *pk = m->psi + kk * npl + r0;
+#pragma omp simd
+                for (int i = a0; i < a1; i++)
+                    z[i] -= s * pk[i];
+            }
+        }
+    }
     for (int k = 0; k < nl; k++) {
         double s = 0.0;
         for (int md = 0; md < nl; md++)
             s += m->modes.P[k][md] * cwall[md];
         m->wall[k] = s;
         g->ops->fill_ring(g, m->psi + k * npl, s);
-        tg_laplacian(g, m->psi + k * npl, m->zeta + k * npl);
         g->ops->fill_vorticity_ring(g, m->zeta + k * npl, m->psi + k * npl);
     }
     /* PV on the ring, for the stencils of the Jacobian. */

@@ -63,12 +63,12 @@ typedef struct tg_model {
 
     /* Work arrays, made once. */
     double *phi;            /* nl*npl modal amplitudes */
-    double *rhs;            /* npl */
     double *lap1, *lap2;    /* npl each, viscosity */
     double *tend;           /* nl*npl total tendency */
     double *term;           /* nl*npl one term's tendency */
     double *q0;             /* nl*npl state at the start of the step */
     double *rowbuf;         /* ns */
+    double *rowsums;        /* 8*ns: per-row budget sums of the fused terms (terms.c) */
     long *rowidx;           /* ns */
     int nout;               /* output points per side */
 

@@ -37,6 +37,86 @@ static void account(tg_model *m, int k, int which, tg_term_rates *rates)
     tg_axpby(g, 1.0, m->tend + off, 1.0, m->term + off);
 }
 
+/* Row sums in row order, times dx^2, as tg_sum_prod forms them. */
+static double rows_total(const tg_geometry *g, const double *rb)
+{
+    double s = 0.0;
+    for (int j = g->a0; j < g->a1; j++)
+        s += rb[j];
+    return s * g->dx * g->dx;
+}
+
+/* The built-in terms of layer k in one pass over the active nodes:
+ *   advection      -J(psi_k, q_k)                      Arakawa (1966)
+ *   wind           curl(tau)/(rho0 H_1)                 top layer
+ *   bottom drag    -r zeta_N                            bottom layer
+ *   viscosity      A2 lap zeta_k - A4 lap^2 zeta_k
+ * tend_k is their sum; each row's energy and enstrophy sums of each term go
+ * to m->rowsums (8 rows of ns), added up in row order afterwards. The
+ * stencils are fdops.h's point kernels. */
+enum { F_ADV, F_WIND, F_DRAG, F_VISC, F_N };
+static const int fused_term[F_N] = {TG_TERM_ADVECTION, TG_TERM_WIND, TG_TERM_BOTTOM_DRAG,
+                                    TG_TERM_VISCOSITY};
+
+static void builtin_layer(tg_model *m, int k, int present[F_N])
+{
+    const tg_geometry *g = m->geom;
+    const tg_config *c = &m->cfg;
+    const int ns = g->ns, a0 = g->a0, a1 = g->a1;
+    const long off = k * m->npl;
+    const double *psi = m->psi + off, *q = m->q + off, *zeta = m->zeta + off;
+    double *tend = m->tend + off, *rs = m->rowsums;
+    const double wall = m->wall[k];
+    const double rj = 1.0 / (12.0 * g->dx * g->dx), rl = 1.0 / (g->dx * g->dx);
+    const int wind = k == 0 && c->wind_profile != TG_WIND_NONE && c->stress_amplitude_pa != 0.0;
+    const int drag = k == m->nl - 1 && c->bottom_drag_per_s != 0.0;
+    const double A2 = c->viscosity_m2_per_s, A4 = c->hyperviscosity_m4_per_s;
+    present[F_ADV] = 1;
+    present[F_WIND] = wind;
+    present[F_DRAG] = drag;
+    present[F_VISC] = A2 != 0.0 || A4 != 0.0;
+    if (A4 != 0.0) {
+        tg_laplacian(g, zeta, m->lap1);
+        g->ops->fill_laplacian_ring(g, m->lap1);
+        tg_laplacian(g, m->lap1, m->lap2);
+    }
+    const double cw = wind ? 1.0 : 0.0, cd = drag ? -c->bottom_drag_per_s : 0.0;
+    const double cb = -A4;
+    const double *wf = m->wind_forcing, *l2 = A4 != 0.0 ? m->lap2 : m->wind_forcing;
+#pragma omp parallel for schedule(static)
+    for (int j = a0; j < a1; j++) {
+        const long r0 = (long)j * ns;
+        const double *pc = psi + r0, *qc = q + r0, *zc = zeta + r0, *w = wf + r0, *b2 = l2 + r0;
+        double *o = tend + r0;
+        double e0 = 0.0, z0 = 0.0, e1 = 0.0, z1 = 0.0, e2 = 0.0, z2 = 0.0, e3 = 0.0, z3 = 0.0;
+#pragma omp simd reduction(+ : e0, z0, e1, z1, e2, z2, e3, z3)
+        for (int i = a0; i < a1; i++) {
+            const double adv = -rj * tg_arakawa_at(pc, pc + ns, pc - ns, qc, qc + ns, qc - ns, i);
+            const double vw = cw * w[i];
+            const double vd = cd * zc[i];
+            const double vv = A2 * rl * tg_lap5_at(zc, zc + ns, zc - ns, i) + cb * b2[i];
+            const double dp = pc[i] - wall, qq = qc[i];
+            o[i] = adv + vw + vd + vv;
+            e0 += adv * dp;
+            z0 += adv * qq;
+            e1 += vw * dp;
+            z1 += vw * qq;
+            e2 += vd * dp;
+            z2 += vd * qq;
+            e3 += vv * dp;
+            z3 += vv * qq;
+        }
+        rs[j] = e0;
+        rs[ns + j] = z0;
+        rs[2 * ns + j] = e1;
+        rs[3 * ns + j] = z1;
+        rs[4 * ns + j] = e2;
+        rs[5 * ns + j] = z2;
+        rs[6 * ns + j] = e3;
+        rs[7 * ns + j] = z3;
+    }
+}
+
 tg_code tg_model_tendency(tg_model *m, int stage, tg_term_rates *rates, tg_status *st)
 {
     const tg_geometry *g = m->geom;
@@ -45,48 +125,18 @@ tg_code tg_model_tendency(tg_model *m, int stage, tg_term_rates *rates, tg_statu
     const long npl = m->npl;
     if (rates)
         memset(rates, 0, sizeof *rates);
-    for (int k = 0; k < nl; k++)
-        zero_layer(m, m->tend + k * npl);
-
-    /* Advection: -J(psi_k, q_k), Arakawa (1966). */
     for (int k = 0; k < nl; k++) {
-        tg_jacobian(g, m->psi + k * npl, m->q + k * npl, m->term + k * npl);
-        tg_axpby(g, -1.0, m->term + k * npl, 0.0, m->term + k * npl);
-        account(m, k, TG_TERM_ADVECTION, rates);
-    }
-
-    /* Wind: curl(tau)/(rho0 H_1) in the top layer. */
-    if (c->wind_profile != TG_WIND_NONE && c->stress_amplitude_pa != 0.0) {
-        double *t = m->term;
-        zero_layer(m, t);
-        tg_axpby(g, 0.0, t, 1.0, m->wind_forcing);
-        account(m, 0, TG_TERM_WIND, rates);
-    }
-
-    /* Bottom drag: -r zeta_N in the bottom layer (Ekman friction). */
-    if (c->bottom_drag_per_s != 0.0) {
-        const int k = nl - 1;
-        double *t = m->term + k * npl;
-        zero_layer(m, t);
-        tg_axpby(g, 0.0, t, -c->bottom_drag_per_s, m->zeta + k * npl);
-        account(m, k, TG_TERM_BOTTOM_DRAG, rates);
-    }
-
-    /* Lateral viscosity on relative vorticity: A2 lap zeta - A4 lap^2 zeta. */
-    const double A2 = c->viscosity_m2_per_s, A4 = c->hyperviscosity_m4_per_s;
-    if (A2 != 0.0 || A4 != 0.0) {
-        for (int k = 0; k < nl; k++) {
-            double *t = m->term + k * npl;
-            tg_laplacian(g, m->zeta + k * npl, m->lap1);
-            zero_layer(m, t);
-            if (A2 != 0.0)
-                tg_axpby(g, 0.0, t, A2, m->lap1);
-            if (A4 != 0.0) {
-                g->ops->fill_laplacian_ring(g, m->lap1);
-                tg_laplacian(g, m->lap1, m->lap2);
-                tg_axpby(g, 1.0, t, -A4, m->lap2);
-            }
-            account(m, k, TG_TERM_VISCOSITY, rates);
+        int present[F_N];
+        builtin_layer(m, k, present);
+        if (!rates)
+            continue;
+        for (int t = 0; t < F_N; t++) {
+            if (!present[t])
+                continue;
+            double ek = rows_total(g, m->rowsums + 2 * t * g->ns);
+            double zk = rows_total(g, m->rowsums + (2 * t + 1) * g->ns);
+            rates->energy[fused_term[t]] += -c->thickness_m[k] * ek / (m->Htot * g->area);
+            rates->enstrophy[fused_term[t]][k] += zk / g->area;
         }
     }
 
