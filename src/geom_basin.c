@@ -22,6 +22,11 @@
  * 0 < a < 1 partial slip with a = wall_slip_coefficient. The Laplacian of
  * vorticity, needed by the biharmonic operator, is set to zero on the walls.
  *
+ * Kinetic-energy spectrum (geometry.h, spectrum.h): psi - c vanishes on the
+ * walls; with S its sine coefficients (sinetf.h) and the orthogonality
+ * sum_{i=1}^{N-1} sin^2(pi i k/N) = N/2, Parseval's relation gives
+ *   -(1/(2A)) sum_interior (psi - c) lap(psi) dx^2 = (2/N^4) sum_{kx,ky} (-lambda) S^2.
+ *
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include "geometry.h"
@@ -33,6 +38,7 @@
 #include "constants.h"
 #include "fdops.h"
 #include "sinetf.h"
+#include "spectrum.h"
 
 typedef struct {
     int N, n;               /* N = points - 1, n = N - 1 interior points per side */
@@ -45,6 +51,7 @@ typedef struct {
     double *phih[TG_MAX_LAYERS];    /* ns*ns homogeneous solution, baroclinic modes */
     double intph[TG_MAX_LAYERS];    /* domain integral of phih */
     double slip;                    /* a in the wall-vorticity formula */
+    double *wint;                   /* n: cot(pi k/(2N)) for odd k, 0 for even (integrals) */
 } basin;
 
 static void basin_destroy(tg_geometry *g)
@@ -56,6 +63,7 @@ static void basin_destroy(tg_geometry *g)
         tg_dst_destroy(b->dst);
         free(b->spec);
         free(b->rowbuf);
+        free(b->wint);
         free(b->lam);
         for (int m = 0; m < TG_MAX_LAYERS; m++) {
             free(b->invden[m]);
@@ -68,18 +76,36 @@ static void basin_destroy(tg_geometry *g)
     free(g);
 }
 
-/* Solves (lap - F_m) phi = rhs with phi = 0 on the walls. */
-static void solve_dirichlet(tg_geometry *g, basin *b, int m, const double *rhs, double *phi)
+/* Solves (lap - F_m) phi = rhs with phi = 0 on the walls; returns the
+ * trapezoidal domain integral of phi, formed from the sine coefficients:
+ * sum_{i=1}^{N-1} sin(pi i k/N) = cot(pi k/(2N)) for odd k and 0 for even k
+ * (common practice; e.g. Gradshteyn & Ryzhik 2007, 1.342.1), so
+ *   int phi dA = dx^2 (2/N)^2 sum_{kx, ky odd} C(kx, ky) cot(pi kx/2N) cot(pi ky/2N).
+ * The sum runs row by row in fixed order (thread-count independent). */
+static double solve_dirichlet(tg_geometry *g, basin *b, int m, const double *rhs, double *phi)
 {
     const int ns = g->ns, n = b->n;
     tg_dst_forward(b->dst, rhs + ns + 1, ns, b->spec);
-    const double *inv = b->invden[m];
-    double *s = b->spec;
+    const double *inv = b->invden[m], *w = b->wint;
+    double *s = b->spec, *rb = b->rowbuf;
 #pragma omp parallel for schedule(static)
-    for (long k = 0; k < (long)n * n; k++)
-        s[k] *= inv[k];
+    for (int kx = 0; kx < n; kx++) {
+        double *row = s + (long)kx * n;
+        const double *iv = inv + (long)kx * n;
+        double acc = 0.0;
+        for (int ky = 0; ky < n; ky++) {
+            row[ky] *= iv[ky];
+            acc += row[ky] * w[ky];
+        }
+        rb[kx] = acc * w[kx];
+    }
+    double integral = 0.0;
+    for (int kx = 0; kx < n; kx++)
+        integral += rb[kx];
     tg_dst_inverse(b->dst, b->spec, phi + ns + 1, ns);
     g->ops->fill_ring(g, phi, 0.0);
+    const double f = 2.0 * g->dx / b->N;
+    return integral * f * f;
 }
 
 static void basin_fill_ring(const tg_geometry *g, double *f, double wall)
@@ -136,11 +162,10 @@ static tg_code basin_setup_modes(tg_geometry *g, int nmodes, const double *F, tg
 static double basin_solve_mode(tg_geometry *g, int m, double *rhs, double *phi)
 {
     basin *b = g->impl;
-    solve_dirichlet(g, b, m, rhs, phi);
+    double ip = solve_dirichlet(g, b, m, rhs, phi);
     if (m == 0)
         return 0.0;
     /* Mass constraint: choose c so that the integral of phi_p + c phi_h vanishes. */
-    double ip = tg_integral(g, phi, 0.0, 0, b->rowbuf);
     double c = -ip / b->intph[m];
     const double *h = b->phih[m];
     const long tot = (long)g->ns * g->ns;
@@ -186,6 +211,27 @@ static void basin_filter_gaussian(tg_geometry *g, double *f, double width)
     tg_dst_inverse(b->dst, b->spec, f + ns + 1, ns);
 }
 
+static void basin_ke_spectrum(tg_geometry *g, const double *psi, double wall, double *work,
+                              double *E)
+{
+    basin *b = g->impl;
+    const int ns = g->ns, n = b->n;
+    for (int j = 1; j <= n; j++)
+        for (int i = 1; i <= n; i++)
+            work[(long)j * ns + i] = psi[(long)j * ns + i] - wall;
+    tg_dst_forward(b->dst, work + ns + 1, ns, b->spec);
+    for (int k = 0; k < g->spectrum_nbins; k++)
+        E[k] = 0.0;
+    /* N^4 is exact (N a power of two). */
+    const double N2 = (double)b->N * b->N, f = 2.0 / (N2 * N2 * g->spectrum_dk);
+    for (int kx = 1; kx <= n; kx++)
+        for (int ky = 1; ky <= n; ky++) {
+            const long k = (long)(kx - 1) * n + (ky - 1);
+            const double s = b->spec[k];
+            E[tg_spectrum_bin((long)kx * kx + (long)ky * ky) - 1] += f * (-b->lam[k]) * s * s;
+        }
+}
+
 static const tg_geometry_ops basin_ops = {
     .destroy = basin_destroy,
     .setup_modes = basin_setup_modes,
@@ -194,6 +240,7 @@ static const tg_geometry_ops basin_ops = {
     .fill_vorticity_ring = basin_fill_vorticity_ring,
     .fill_laplacian_ring = basin_fill_laplacian_ring,
     .filter_gaussian = basin_filter_gaussian,
+    .ke_spectrum = basin_ke_spectrum,
 };
 
 tg_geometry *tg_geom_basin_create(const tg_config *cfg, tg_status *st)
@@ -225,6 +272,8 @@ tg_geometry *tg_geom_basin_create(const tg_config *cfg, tg_status *st)
     g->length = cfg->size_km * 1e3;
     g->dx = g->length / N;
     g->area = g->length * g->length;
+    g->spectrum_dk = TG_PI / g->length;
+    g->spectrum_nbins = tg_spectrum_bin(2L * n * n);
     switch (cfg->wall_condition) {
     case TG_WALL_FREE_SLIP: b->slip = 0.0; break;
     case TG_WALL_NO_SLIP: b->slip = 1.0; break;
@@ -235,7 +284,8 @@ tg_geometry *tg_geom_basin_create(const tg_config *cfg, tg_status *st)
     b->spec = malloc(sizeof(double) * (size_t)n * n);
     b->lam = malloc(sizeof(double) * (size_t)n * n);
     b->rowbuf = malloc(sizeof(double) * ns);
-    if (!g->coord || !g->weight || !b->spec || !b->lam || !b->rowbuf) {
+    b->wint = malloc(sizeof(double) * ns);
+    if (!g->coord || !g->weight || !b->spec || !b->lam || !b->rowbuf || !b->wint) {
         tg_fail(st, TG_ERR_NOMEM, "basin: no memory for %d x %d grid tables", ns, ns);
         basin_destroy(g);
         return NULL;
@@ -248,6 +298,8 @@ tg_geometry *tg_geom_basin_create(const tg_config *cfg, tg_status *st)
             double wx = (i == 0 || i == N) ? 0.5 : 1.0, wy = (j == 0 || j == N) ? 0.5 : 1.0;
             g->weight[(long)j * ns + i] = wx * wy * g->dx * g->dx;
         }
+    for (int k = 1; k <= n; k++)
+        b->wint[k - 1] = (k % 2) ? 1.0 / tan(TG_PI * k / (2.0 * N)) : 0.0;
     const double c = 4.0 / (g->dx * g->dx);
     for (int kx = 1; kx <= n; kx++)
         for (int ky = 1; ky <= n; ky++) {
