@@ -7,9 +7,9 @@ tg_geometry *tg_geometry_create(const tg_config *cfg, tg_status *st)
     case TG_GEOM_BASIN:
         return tg_geom_basin_create(cfg, st);
     case TG_GEOM_PERIODIC:
-        break;
+        return tg_geom_periodic_create(cfg, st);
     }
-    tg_fail(st, TG_ERR_CONFIG, "[grid] geometry = periodic is not available yet");
+    tg_fail(st, TG_ERR_CONFIG, "[grid] geometry: unknown kind %d", (int)cfg->geometry);
     return NULL;
 }
 

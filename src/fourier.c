@@ -1,0 +1,294 @@
+/* fourier.c - 2-D real FFT of a P x P periodic array (see fourier.h).
+ *
+ * Forward: the rows (along x) go through batched 1-D real-to-complex FFTs
+ * of length P, TG_FFT2_BATCH rows per FFTW call; each block's P/2 + 1
+ * outputs are written transposed into `spec` (row kx, column j), so that
+ * the columns become contiguous; then the P/2 + 1 rows of `spec` go through
+ * batched complex FFTs of length P, TG_FFT2_BATCH at a time, in place.
+ * Inverse: the same passes backwards through an internal (P/2 + 1) x P
+ * complex work array, then complex-to-real along the rows and the exact
+ * scaling by 1/P^2 (P is a power of two).
+ *
+ * Each FFTW call runs on the calling thread's own buffers (new-array
+ * execute with buffers of the planned sizes, distances and alignment), and
+ * which plan transforms a row or column depends only on its index, so
+ * results do not depend on the number of OpenMP threads.
+ *
+ * Ownership: tg_fft2 owns its plans, the work array and the per-thread
+ * buffers; tg_fft2_destroy frees them all. Only FFTW_ESTIMATE plans are
+ * made (timed planning would make round-off differ between runs).
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
+#include "fourier.h"
+
+#include <fftw3.h>
+#include <omp.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Rows or columns per FFTW call (fixed: it decides which plan does each). */
+#define TG_FFT2_BATCH 8
+
+struct tg_fft2 {
+    int P;           /* points per side */
+    int nc;          /* complex outputs per row, P/2 + 1 */
+    int rrows;       /* rows per row block, min(TG_FFT2_BATCH, P) */
+    int nrb;         /* row blocks, P / rrows */
+    int ncb;         /* column blocks, ceil(nc / TG_FFT2_BATCH) */
+    int ctail;       /* columns in the last column block */
+    int nthreads;    /* threads with buffers */
+    int rdist;       /* row distance in rbuf (doubles) */
+    int cdist;       /* row distance in cbuf (complex) */
+    int ldist;       /* row distance in lbuf (complex) */
+    double *work;    /* inverse: nc x P complex after the column pass */
+    double **rbuf;   /* per thread: rrows real rows */
+    fftw_complex **cbuf; /* per thread: rrows half-spectrum rows */
+    fftw_complex **lbuf; /* per thread: TG_FFT2_BATCH columns of P complex */
+    fftw_plan r2c;   /* rrows rows, real to complex */
+    fftw_plan c2r;   /* rrows rows, complex to real */
+    fftw_plan cfwd, cfwd_tail; /* column FFTs, forward: full block, last block */
+    fftw_plan cbwd, cbwd_tail; /* column FFTs, backward */
+};
+
+static void destroy_plan(fftw_plan *p, fftw_plan keep)
+{
+    if (*p && *p != keep)
+        fftw_destroy_plan(*p);
+    *p = NULL;
+}
+
+void tg_fft2_destroy(tg_fft2 *f)
+{
+    if (!f)
+        return;
+    destroy_plan(&f->cfwd_tail, f->cfwd);
+    destroy_plan(&f->cbwd_tail, f->cbwd);
+    destroy_plan(&f->cfwd, NULL);
+    destroy_plan(&f->cbwd, NULL);
+    destroy_plan(&f->r2c, NULL);
+    destroy_plan(&f->c2r, NULL);
+    for (int t = 0; t < f->nthreads; t++) {
+        if (f->rbuf)
+            fftw_free(f->rbuf[t]);
+        if (f->cbuf)
+            fftw_free(f->cbuf[t]);
+        if (f->lbuf)
+            fftw_free(f->lbuf[t]);
+    }
+    free(f->rbuf);
+    free(f->cbuf);
+    free(f->lbuf);
+    fftw_free(f->work);
+    free(f);
+}
+
+static fftw_plan column_plan(const tg_fft2 *f, int cols, int sign)
+{
+    int n[1] = {f->P};
+    return fftw_plan_many_dft(1, n, cols, f->lbuf[0], NULL, 1, f->ldist, f->lbuf[0], NULL, 1,
+                              f->ldist, sign, FFTW_ESTIMATE);
+}
+
+tg_fft2 *tg_fft2_create(int P, tg_status *st)
+{
+    tg_status_clear(st);
+    if (P < 4 || P > (1 << 20) || (P & (P - 1)) != 0) {
+        tg_fail(st, TG_ERR_CONFIG,
+                "Fourier transform: size P = %d is not allowed: P must be a power of two "
+                "with 4 <= P <= %d (e.g. 128, 256, 512)", P, 1 << 20);
+        return NULL;
+    }
+    tg_fft2 *f = calloc(1, sizeof *f);
+    if (!f) {
+        tg_fail(st, TG_ERR_NOMEM, "Fourier transform: cannot allocate the transform record");
+        return NULL;
+    }
+    f->P = P;
+    f->nc = P / 2 + 1;
+    f->rrows = P < TG_FFT2_BATCH ? P : TG_FFT2_BATCH;
+    f->nrb = P / f->rrows;
+    f->ncb = (f->nc + TG_FFT2_BATCH - 1) / TG_FFT2_BATCH;
+    f->ctail = f->nc - (f->ncb - 1) * TG_FFT2_BATCH;
+    f->nthreads = omp_get_max_threads();
+    if (f->nthreads < 1)
+        f->nthreads = 1;
+    /* Rows 2^k doubles apart share cache sets; these paddings shift each
+     * buffer row by one cache line (64 bytes). */
+    f->rdist = P + 8;
+    f->cdist = f->nc + 3;
+    f->ldist = P + 4;
+
+    const size_t rlen = (size_t)f->rrows * f->rdist;
+    const size_t clen = (size_t)f->rrows * f->cdist;
+    const size_t llen = (size_t)TG_FFT2_BATCH * f->ldist;
+    const size_t wlen = 2 * (size_t)f->nc * P;
+    f->work = fftw_malloc(wlen * sizeof(double));
+    f->rbuf = calloc((size_t)f->nthreads, sizeof *f->rbuf);
+    f->cbuf = calloc((size_t)f->nthreads, sizeof *f->cbuf);
+    f->lbuf = calloc((size_t)f->nthreads, sizeof *f->lbuf);
+    if (!f->work || !f->rbuf || !f->cbuf || !f->lbuf) {
+        tg_fail(st, TG_ERR_NOMEM,
+                "Fourier transform: cannot allocate the work array for P = %d (%zu bytes)", P,
+                wlen * sizeof(double));
+        tg_fft2_destroy(f);
+        return NULL;
+    }
+    memset(f->work, 0, wlen * sizeof(double));
+    for (int t = 0; t < f->nthreads; t++) {
+        f->rbuf[t] = fftw_malloc(rlen * sizeof(double));
+        f->cbuf[t] = fftw_malloc(clen * sizeof(fftw_complex));
+        f->lbuf[t] = fftw_malloc(llen * sizeof(fftw_complex));
+        if (!f->rbuf[t] || !f->cbuf[t] || !f->lbuf[t]) {
+            tg_fail(st, TG_ERR_NOMEM,
+                    "Fourier transform: fftw_malloc failed for the buffers of thread %d of %d",
+                    t, f->nthreads);
+            tg_fft2_destroy(f);
+            return NULL;
+        }
+        memset(f->rbuf[t], 0, rlen * sizeof(double));
+        memset(f->cbuf[t], 0, clen * sizeof(fftw_complex));
+        memset(f->lbuf[t], 0, llen * sizeof(fftw_complex));
+        /* New-array execute needs every buffer aligned like the planned one. */
+        if (fftw_alignment_of(f->rbuf[t]) != fftw_alignment_of(f->rbuf[0]) ||
+            fftw_alignment_of((double *)f->cbuf[t]) != fftw_alignment_of((double *)f->cbuf[0]) ||
+            fftw_alignment_of((double *)f->lbuf[t]) != fftw_alignment_of((double *)f->lbuf[0])) {
+            tg_fail(st, TG_ERR_INTERNAL,
+                    "Fourier transform: fftw_malloc returned buffers of different alignment");
+            tg_fft2_destroy(f);
+            return NULL;
+        }
+    }
+
+    int n[1] = {P};
+    f->r2c = fftw_plan_many_dft_r2c(1, n, f->rrows, f->rbuf[0], NULL, 1, f->rdist, f->cbuf[0],
+                                    NULL, 1, f->cdist, FFTW_ESTIMATE);
+    f->c2r = fftw_plan_many_dft_c2r(1, n, f->rrows, f->cbuf[0], NULL, 1, f->cdist, f->rbuf[0],
+                                    NULL, 1, f->rdist, FFTW_ESTIMATE);
+    f->cfwd = column_plan(f, TG_FFT2_BATCH, FFTW_FORWARD);
+    f->cbwd = column_plan(f, TG_FFT2_BATCH, FFTW_BACKWARD);
+    if (f->ctail == TG_FFT2_BATCH) {
+        f->cfwd_tail = f->cfwd;
+        f->cbwd_tail = f->cbwd;
+    } else {
+        f->cfwd_tail = column_plan(f, f->ctail, FFTW_FORWARD);
+        f->cbwd_tail = column_plan(f, f->ctail, FFTW_BACKWARD);
+    }
+    if (!f->r2c || !f->c2r || !f->cfwd || !f->cbwd || !f->cfwd_tail || !f->cbwd_tail) {
+        tg_fail(st, TG_ERR_NUMERIC,
+                "Fourier transform: FFTW could not plan the batched transforms of length %d "
+                "(real-to-complex %s, complex-to-real %s, complex %s)", P,
+                f->r2c ? "ok" : "failed", f->c2r ? "ok" : "failed",
+                (f->cfwd && f->cbwd && f->cfwd_tail && f->cbwd_tail) ? "ok" : "failed");
+        tg_fft2_destroy(f);
+        return NULL;
+    }
+    tg_log(TG_LOG_DEBUG,
+           "Fourier transform: P = %d, %d row blocks of %d, %d column blocks, buffers for %d "
+           "threads",
+           P, f->nrb, f->rrows, f->ncb, f->nthreads);
+    return f;
+}
+
+int tg_fft2_size(const tg_fft2 *f)
+{
+    return f ? f->P : 0;
+}
+
+long tg_fft2_spec_len(const tg_fft2 *f)
+{
+    return f ? 2L * f->nc * f->P : 0;
+}
+
+/* Threads for a transform: as many as OpenMP would use, at most those with buffers. */
+static int team_size(const tg_fft2 *f)
+{
+    int nt = omp_get_max_threads();
+    return nt < f->nthreads ? nt : f->nthreads;
+}
+
+/* Complex FFTs of rows kx of `src` (P complex each, interleaved doubles)
+ * into the same rows of `dst` (may equal src), blocks of TG_FFT2_BATCH rows
+ * shared among the threads of the enclosing parallel region. */
+static void column_pass(const tg_fft2 *f, const double *src, double *dst, fftw_plan full,
+                        fftw_plan tail)
+{
+    const int P = f->P;
+    fftw_complex *lb = f->lbuf[omp_get_thread_num()];
+#pragma omp for schedule(static)
+    for (int b = 0; b < f->ncb; b++) {
+        const int k0 = b * TG_FFT2_BATCH;
+        const int cols = (b == f->ncb - 1) ? f->ctail : TG_FFT2_BATCH;
+        for (int c = 0; c < cols; c++)
+            memcpy(lb + (size_t)c * f->ldist, src + 2 * (size_t)(k0 + c) * P,
+                   sizeof(fftw_complex) * P);
+        fftw_execute_dft(cols == TG_FFT2_BATCH ? full : tail, lb, lb);
+        for (int c = 0; c < cols; c++)
+            memcpy(dst + 2 * (size_t)(k0 + c) * P, lb + (size_t)c * f->ldist,
+                   sizeof(fftw_complex) * P);
+    }
+}
+
+void tg_fft2_forward(tg_fft2 *f, const double *in, int stride, double *spec)
+{
+    const int P = f->P, nc = f->nc, rr = f->rrows;
+#pragma omp parallel num_threads(team_size(f))
+    {
+        const int tid = omp_get_thread_num();
+        double *rb = f->rbuf[tid];
+        fftw_complex *cb = f->cbuf[tid];
+        /* rows along x: spec[kx][j] */
+#pragma omp for schedule(static)
+        for (int b = 0; b < f->nrb; b++) {
+            const int j0 = b * rr;
+            for (int r = 0; r < rr; r++)
+                memcpy(rb + (size_t)r * f->rdist, in + (size_t)(j0 + r) * stride,
+                       sizeof(double) * P);
+            fftw_execute_dft_r2c(f->r2c, rb, cb);
+            for (int kx = 0; kx < nc; kx++) {
+                double *o = spec + 2 * ((size_t)kx * P + j0);
+                for (int r = 0; r < rr; r++) {
+                    o[2 * r] = cb[(size_t)r * f->cdist + kx][0];
+                    o[2 * r + 1] = cb[(size_t)r * f->cdist + kx][1];
+                }
+            }
+        }
+        /* along y: spec[kx][ky] */
+        column_pass(f, spec, spec, f->cfwd, f->cfwd_tail);
+    }
+}
+
+void tg_fft2_inverse(tg_fft2 *f, const double *spec, double *out, int stride)
+{
+    const int P = f->P, nc = f->nc, rr = f->rrows;
+    /* 1/P^2 with P a power of two: exact. */
+    const double scale = 1.0 / ((double)P * (double)P);
+    double *w = f->work;
+#pragma omp parallel num_threads(team_size(f))
+    {
+        const int tid = omp_get_thread_num();
+        double *rb = f->rbuf[tid];
+        fftw_complex *cb = f->cbuf[tid];
+        /* along ky: work[kx][j] */
+        column_pass(f, spec, w, f->cbwd, f->cbwd_tail);
+        /* along kx: out[j][i] */
+#pragma omp for schedule(static)
+        for (int b = 0; b < f->nrb; b++) {
+            const int j0 = b * rr;
+            for (int kx = 0; kx < nc; kx++) {
+                const double *s = w + 2 * ((size_t)kx * P + j0);
+                for (int r = 0; r < rr; r++) {
+                    cb[(size_t)r * f->cdist + kx][0] = s[2 * r];
+                    cb[(size_t)r * f->cdist + kx][1] = s[2 * r + 1];
+                }
+            }
+            fftw_execute_dft_c2r(f->c2r, cb, rb);
+            for (int r = 0; r < rr; r++) {
+                const double *x = rb + (size_t)r * f->rdist;
+                double *o = out + (size_t)(j0 + r) * stride;
+                for (int i = 0; i < P; i++)
+                    o[i] = scale * x[i];
+            }
+        }
+    }
+}

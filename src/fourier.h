@@ -1,0 +1,68 @@
+/* fourier.h - 2-D real fast Fourier transform of a P x P periodic array.
+ *
+ * The periodic geometry (geom_periodic.c) expands fields in complex
+ * exponentials. A real field sampled at P x P points, X[j][i] with the row
+ * index j along y and i along x (i, j = 0..P-1), has the discrete Fourier
+ * coefficients
+ *   C(kx, ky) = sum_{i,j=0..P-1} X[j][i] exp(-2 pi I (kx i + ky j) / P),
+ * of which the transform keeps the half kx = 0..P/2 (the others follow from
+ * C(-kx, -ky) = conj C(kx, ky)) and all ky = 0..P-1.
+ *
+ * Spectral layout: `spec` is an array of 2 (P/2 + 1) P doubles, rows along
+ * kx, complex values as (real, imaginary) pairs:
+ *   spec[2 (kx P + ky)]     = Re C(kx, ky),
+ *   spec[2 (kx P + ky) + 1] = Im C(kx, ky),   kx = 0..P/2, ky = 0..P-1.
+ * Index ky stands for the signed wavenumber ky for ky <= P/2 and ky - P
+ * above (ky = P/2 is the Nyquist row, shared by +P/2 and -P/2). The layout
+ * is the transpose of numpy.fft.rfft2(X) (which is indexed [ky, kx]).
+ * The wavenumber in rad m-1 of a domain of side L is 2 pi kx / L.
+ *
+ * Method: 1-D real-to-complex FFTs along the rows (FFTW r2c), then complex
+ * FFTs along the columns; the inverse runs the passes backwards (complex
+ * backward FFTs along the columns, then complex-to-real along the rows).
+ * Rows and columns go in fixed blocks of TG_FFT2_BATCH through batched
+ * FFTW plans made at set-up (FFTW_ESTIMATE), executed on per-thread buffers
+ * (new-array execute). The blocks are fixed by index, not by thread, so the
+ * arithmetic done on every row and column, and so every result bit, is the
+ * same for any OpenMP thread count. FFTW's own threaded plans are not used
+ * (their decomposition may change with the number of threads).
+ *
+ * Ownership: tg_fft2 owns its plans and work buffers; the transforms
+ * allocate nothing. One tg_fft2 serves one caller at a time. FFTW's planner
+ * is not thread-safe: tg_fft2_create and tg_fft2_destroy must not run while
+ * another thread makes or destroys FFTW plans.
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
+#ifndef TG_FOURIER_H
+#define TG_FOURIER_H
+
+#include "status.h"
+
+typedef struct tg_fft2 tg_fft2;
+
+/* Plans transforms of P x P arrays; P must be a power of two, 4 <= P <= 2^20.
+ * Work buffers are made for omp_get_max_threads() threads. */
+tg_fft2 *tg_fft2_create(int P, tg_status *st);
+void tg_fft2_destroy(tg_fft2 *f);
+int tg_fft2_size(const tg_fft2 *f);
+
+/* Number of doubles in a spectral array: 2 (P/2 + 1) P. */
+long tg_fft2_spec_len(const tg_fft2 *f);
+
+/* Forward transform (no normalization), layout above:
+ * `in` points at point (0, 0) of a real array with row length `stride`
+ * (>= P); row j is in[j*stride .. j*stride + P-1]. `spec` must not overlap `in`. */
+void tg_fft2_forward(tg_fft2 *f, const double *in, int stride, double *spec);
+
+/* Inverse transform, the exact inverse of tg_fft2_forward (it includes the
+ * factor 1/P^2): writes the P x P block of `out` (row length `stride`).
+ * `spec` is only read. It must hold the coefficients of a real field:
+ * C(kx, P - ky) = conj C(kx, ky) on the rows kx = 0 and kx = P/2, which
+ * makes C real at the four self-conjugate points (0 or P/2, 0 or P/2).
+ * Multiplying a forward transform by a real factor that is even in kx and
+ * in ky (a Helmholtz solve, a filter) keeps this. For other input the
+ * result is real but otherwise unspecified. */
+void tg_fft2_inverse(tg_fft2 *f, const double *spec, double *out, int stride);
+
+#endif
