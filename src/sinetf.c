@@ -38,6 +38,8 @@
 
 /* Rows per FFTW call (fixed: it decides which plan transforms each row). */
 #define TG_DST_BATCH 8
+/* Rows whose post-processing runs interleaved. */
+#define TG_DST_CHAINS 4
 /* Edge of the square tiles of the cache-blocked transpose. */
 #define TG_DST_TILE 32
 
@@ -208,25 +210,29 @@ static void dst_pre(const double *restrict sint, int len, const double *restrict
 /* Post-processing of `rows` rows: Y (N/2+1 complex each as re, im pairs,
  * rows cdist complex apart) -> scale * F_1..F_n into out (row stride os).
  * The running sum of the odd coefficients is a chain of dependent additions
- * in each row, so the rows of a block advance together to overlap their
- * chains; the operations done on any one row, and their order, are those of
- * a row on its own. */
+ * in each row, so groups of TG_DST_CHAINS rows advance together to overlap
+ * their chains (more rows at once would write too many streams that may
+ * share cache sets, e.g. for a row stride of 512 doubles). The operations
+ * done on any one row, and their order, are those of a row on its own. */
 static void dst_post(int len, int cdist, int rows, const double *restrict y, double scale,
                      double *restrict out, int os)
 {
     const int h = len / 2;
-    double odd[TG_DST_BATCH];
-    for (int r = 0; r < rows; r++) {
-        odd[r] = 0.5 * y[2 * (size_t)r * cdist];
-        out[(size_t)r * os] = scale * odd[r];
-    }
-    for (int k = 1; k < h; k++) {
-        for (int r = 0; r < rows; r++) {
-            const double *yk = y + 2 * ((size_t)r * cdist + k);
-            double *o = out + (size_t)r * os;
-            odd[r] += yk[0];
-            o[2 * k - 1] = -scale * yk[1];
-            o[2 * k] = scale * odd[r];
+    for (int g0 = 0; g0 < rows; g0 += TG_DST_CHAINS) {
+        const int g1 = g0 + TG_DST_CHAINS < rows ? g0 + TG_DST_CHAINS : rows;
+        double odd[TG_DST_CHAINS];
+        for (int r = g0; r < g1; r++) {
+            odd[r - g0] = 0.5 * y[2 * (size_t)r * cdist];
+            out[(size_t)r * os] = scale * odd[r - g0];
+        }
+        for (int k = 1; k < h; k++) {
+            for (int r = g0; r < g1; r++) {
+                const double *yk = y + 2 * ((size_t)r * cdist + k);
+                double *o = out + (size_t)r * os;
+                odd[r - g0] += yk[0];
+                o[2 * k - 1] = -scale * yk[1];
+                o[2 * k] = scale * odd[r - g0];
+            }
         }
     }
 }
