@@ -4,10 +4,12 @@
 #include <math.h>
 #include <stdio.h>
 
-static const char *const term_names[TG_NTERMS] = {"advection", "wind", "bottom_drag", "viscosity",
-                                                   "closure"};
+static const char *const term_names[TG_NTERMS] = {
+    "advection", "wind", "bottom_drag", "viscosity", "mean_flow_conversion", "closure"};
 static const char *const term_words[TG_NTERMS] = {
     "advection (zero up to round-off)", "wind forcing", "bottom drag", "lateral viscosity",
+    "the imposed background flow and planetary PV gradient (release of available potential "
+    "energy from the imposed shear)",
     "sub-grid closures (all components)"};
 
 const char *tg_term_name(int t)
@@ -24,9 +26,18 @@ void tg_diag_compute(tg_model *m, tg_diag *d)
     d->max_cfl = tg_model_max_cfl(m, &d->cfl_layer, &d->cfl_x, &d->cfl_y);
 }
 
-void tg_budget_layout_init(tg_budget_layout *lay, int nl)
+/* Terms listed when the caller gives no mask: those of a basin run. */
+static int term_on(const int *active, int t)
+{
+    return active ? active[t] != 0 : t != TG_TERM_MEAN_FLOW;
+}
+
+void tg_budget_layout_init(tg_budget_layout *lay, int nl, const int *active)
 {
     int n = 0;
+    lay->nl = nl;
+    for (int t = 0; t < TG_NTERMS; t++)
+        lay->active[t] = term_on(active, t);
 #define ADD(nm, un, ln, pl)                                                                  \
     do {                                                                                     \
         snprintf(lay->name[n], sizeof lay->name[n], "%s", nm);                               \
@@ -38,6 +49,8 @@ void tg_budget_layout_init(tg_budget_layout *lay, int nl)
     ADD("energy", "m2 s-2", "domain-mean energy per unit mass at the end of the step", 0);
     ADD("energy_tendency", "m2 s-3", "(energy after - energy before) / step", 0);
     for (int t = 0; t < TG_NTERMS; t++) {
+        if (!lay->active[t])
+            continue;
         snprintf(nm, sizeof nm, "energy_%s", term_names[t]);
         snprintf(ln, sizeof ln, "energy rate from %s", term_words[t]);
         ADD(nm, "m2 s-3", ln, 0);
@@ -46,6 +59,8 @@ void tg_budget_layout_init(tg_budget_layout *lay, int nl)
     ADD("enstrophy", "s-2", "layer potential enstrophy at the end of the step", 1);
     ADD("enstrophy_tendency", "s-3", "(enstrophy after - enstrophy before) / step", 1);
     for (int t = 0; t < TG_NTERMS; t++) {
+        if (!lay->active[t])
+            continue;
         snprintf(nm, sizeof nm, "enstrophy_%s", term_names[t]);
         if (t == TG_TERM_ADVECTION)
             snprintf(ln, sizeof ln, "enstrophy rate from advection (zero in periodic domains; "
@@ -64,15 +79,17 @@ void tg_budget_layout_init(tg_budget_layout *lay, int nl)
     lay->n = n;
 }
 
-int tg_budget_pack(int nl, double dt, const tg_diag *b, const tg_diag *a, const tg_term_rates *r,
-                   double *v)
+int tg_budget_pack(const tg_budget_layout *lay, double dt, const tg_diag *b, const tg_diag *a,
+                   const tg_term_rates *r, double *v)
 {
+    const int nl = lay->nl;
     int n = 0;
     double sum = 0.0;
     v[n++] = a->energy;
     v[n++] = (a->energy - b->energy) / dt;
     for (int t = 0; t < TG_NTERMS; t++) {
-        v[n++] = r->energy[t];
+        if (lay->active[t])
+            v[n++] = r->energy[t];
         sum += r->energy[t];
     }
     v[n++] = (a->energy - b->energy) / dt - sum;
@@ -81,8 +98,9 @@ int tg_budget_pack(int nl, double dt, const tg_diag *b, const tg_diag *a, const 
     for (int k = 0; k < nl; k++)
         v[n++] = (a->enstrophy[k] - b->enstrophy[k]) / dt;
     for (int t = 0; t < TG_NTERMS; t++)
-        for (int k = 0; k < nl; k++)
-            v[n++] = r->enstrophy[t][k];
+        if (lay->active[t])
+            for (int k = 0; k < nl; k++)
+                v[n++] = r->enstrophy[t][k];
     for (int k = 0; k < nl; k++) {
         double s = 0.0;
         for (int t = 0; t < TG_NTERMS; t++)

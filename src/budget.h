@@ -35,17 +35,22 @@ const char *tg_term_name(int t);
  * the struct, so it owns everything the descriptors point at. */
 #define TG_BUDGET_MAX_VARS 32
 typedef struct {
-    int n;
+    int n;                      /* variables */
+    int nl;                     /* layers */
+    int active[TG_NTERMS];      /* terms listed (tg_model's term_active) */
     tg_budget_var var[TG_BUDGET_MAX_VARS];
     char name[TG_BUDGET_MAX_VARS][48];
     char words[TG_BUDGET_MAX_VARS][128];
 } tg_budget_layout;
 
-void tg_budget_layout_init(tg_budget_layout *lay, int nl);
+/* `active` (may be NULL) says which terms get variables; NULL lists every
+ * term except the periodic-only mean-flow conversion. The residuals always
+ * use every term. */
+void tg_budget_layout_init(tg_budget_layout *lay, int nl, const int *active);
 
 /* Packs one record in the order of tg_budget_vars; returns the count. */
-int tg_budget_pack(int nl, double dt, const tg_diag *before, const tg_diag *after,
-                   const tg_term_rates *r, double *values);
+int tg_budget_pack(const tg_budget_layout *lay, double dt, const tg_diag *before,
+                   const tg_diag *after, const tg_term_rates *r, double *values);
 
 /* Largest |residual| relative to the largest |term| in a packed record,
  * for energy (*e) and over the layers' enstrophy (*z). */

@@ -88,6 +88,7 @@ enum {
     K_GEOMETRY, K_SIZE, K_POINTS, K_WALL_CONDITION, K_WALL_SLIP,
     K_THICKNESS, K_REDUCED_GRAVITY,
     K_F0, K_BETA,
+    K_BACKGROUND_U,
     K_WIND_PROFILE, K_STRESS, K_DENSITY,
     K_DRAG, K_VISCOSITY, K_HYPERVISCOSITY,
     K_STEP, K_DURATION, K_MAX_CFL,
@@ -159,6 +160,17 @@ static const key_row rows[K_COUNT] = {
         .info = {"planet", "beta_per_m_per_s", "m-1 s-1", "real", "1.75e-11", ">= 0",
                  "northward rate of change of the Coriolis parameter"},
         .off = OFF(beta_per_m_per_s), REAL_GE0("a real number >= 0")},
+
+    /* [background] */
+    [K_BACKGROUND_U] = {
+        .info = {"background", "zonal_velocity_m_s", "m s-1", "list of reals", "",
+                 "periodic only: one value per layer, any sign (empty: no background flow)",
+                 "uniform imposed eastward velocity of each layer, top first; its vertical "
+                 "shear drives baroclinic eddies"},
+        .kind = V_REAL_LIST, .off = OFF(zonal_velocity_m_s), .count_off = OFF(n_zonal_velocity),
+        .min_count = 0, .max_count = TG_MAX_LAYERS,
+        .expect = "a comma-separated list of 0 to 6 real numbers (one per layer)",
+        .item_rule = "a finite real number"},
 
     /* [wind] */
     [K_WIND_PROFILE] = {
@@ -1342,6 +1354,15 @@ tg_code tg_config_check(const tg_config *cfg, const char *origin, tg_status *st)
                         need, need == 1 ? "" : "s", gnote, cfg->n_reduced_gravity);
     }
 
+    /* The imposed background flow: periodic geometry only, one per layer. */
+    if (!periodic && cfg->set_by_user[K_BACKGROUND_U] && cfg->n_zonal_velocity > 0)
+        return key_fail(cfg, K_BACKGROUND_U, origin, st,
+                        "a uniform background flow needs geometry = periodic (walls would block it)");
+    if (periodic && cfg->n_zonal_velocity != 0 && cfg->n_zonal_velocity != cfg->nlayers)
+        return key_fail(cfg, K_BACKGROUND_U, origin, st,
+                        "expected one value per layer (%d), got %d", cfg->nlayers,
+                        cfg->n_zonal_velocity);
+
     /* Geometry-specific keys. */
     if (periodic) {
         key_note(cfg, K_GEOMETRY, note, sizeof note);
@@ -1412,10 +1433,6 @@ tg_code tg_config_check(const tg_config *cfg, const char *origin, tg_status *st)
     if (cfg->set_by_user[K_NOISE] && cfg->initial_kind != TG_INIT_NOISE)
         tg_log(TG_LOG_WARN, "[initial] noise_amplitude_m2_per_s is ignored unless state = noise");
 
-    /* The periodic geometry is specified (keys, points) but not built yet. */
-    if (periodic)
-        return key_fail(cfg, K_GEOMETRY, origin, st,
-                        "periodic geometry is not available in this version; use basin");
     return TG_OK;
 }
 

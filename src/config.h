@@ -49,6 +49,10 @@ typedef struct tg_config {
     double coriolis_f0_per_s;       /* f0, s-1 */
     double beta_per_m_per_s;        /* beta, m-1 s-1 */
 
+    /* [background] (periodic geometry only) */
+    int n_zonal_velocity;                     /* 0 (none) or nlayers */
+    double zonal_velocity_m_s[TG_MAX_LAYERS]; /* U_k, uniform imposed eastward flow, m s-1 */
+
     /* [wind] */
     tg_wind_kind wind_profile;      /* double_gyre | single_gyre | none */
     double stress_amplitude_pa;     /* tau0, Pa */

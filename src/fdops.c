@@ -87,8 +87,8 @@ double tg_integral(const tg_geometry *g, const double *f, double shift, int absv
     return sum_rows(rowbuf, 0, ns);
 }
 
-double tg_max_cfl(const tg_geometry *g, const double *psi, double dt, long *where, double *rowbuf,
-                  long *rowidx)
+double tg_max_cfl(const tg_geometry *g, const double *psi, double U, double dt, long *where,
+                  double *rowbuf, long *rowidx)
 {
     const int ns = g->ns, a0 = g->a0, a1 = g->a1;
     const double c = dt / (2.0 * g->dx * g->dx);
@@ -98,7 +98,7 @@ double tg_max_cfl(const tg_geometry *g, const double *psi, double dt, long *wher
         double m = -1.0;
         long at = (long)j * ns + a0;
         for (int i = a0; i < a1; i++) {
-            double v = c * (fabs(pn[i] - ps[i]) + fabs(pc[i + 1] - pc[i - 1]));
+            double v = c * (fabs(pn[i] - ps[i] - 2.0 * g->dx * U) + fabs(pc[i + 1] - pc[i - 1]));
             if (v > m || isnan(v)) {
                 m = isnan(v) ? INFINITY : v;
                 at = (long)j * ns + i;

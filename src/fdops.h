@@ -38,6 +38,12 @@ static inline double tg_arakawa_at(const double *pc, const double *pn, const dou
     return jpp + jpx + jxp;
 }
 
+/* Centred x-difference times 2 dx. */
+static inline double tg_ddx2_at(const double *c, int i)
+{
+    return c[i + 1] - c[i - 1];
+}
+
 /* out = five-point Laplacian of f on the active nodes. */
 void tg_laplacian(const tg_geometry *g, const double *f, double *out);
 
@@ -64,10 +70,11 @@ double tg_sum_prod(const tg_geometry *g, const double *a, const double *b, doubl
 double tg_integral(const tg_geometry *g, const double *f, double shift, int absval, double *rowbuf);
 
 /* Largest advective CFL number (|u| + |v|) dt / dx on the active nodes with
- * u = -psi_y, v = psi_x by centred differences; *where gets the node index
- * j*ns + i of the maximum (first in row order on ties). */
-double tg_max_cfl(const tg_geometry *g, const double *psi, double dt, long *where, double *rowbuf,
-                  long *rowidx);
+ * u = U - psi_y, v = psi_x by centred differences and U a uniform background
+ * velocity; *where gets the node index j*ns + i of the maximum (first in row
+ * order on ties). */
+double tg_max_cfl(const tg_geometry *g, const double *psi, double U, double dt, long *where,
+                  double *rowbuf, long *rowidx);
 
 /* Index of the first non-finite value on the active nodes, or -1. */
 long tg_find_nonfinite(const tg_geometry *g, const double *f);

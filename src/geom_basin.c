@@ -256,6 +256,7 @@ tg_geometry *tg_geom_basin_create(const tg_config *cfg, tg_status *st)
     g->impl = b;
     g->ops = &basin_ops;
     g->kind = TG_GEOM_BASIN;
+    g->holds_planetary_pv = 1;
     const int ns = cfg->points, N = ns - 1, n = N - 1;
     if (ns < 5 || (N & (N - 1)) != 0) {
         tg_fail(st, TG_ERR_CONFIG, "basin: points must be 2^k + 1, got %d", ns);

@@ -217,6 +217,7 @@ tg_geometry *tg_geom_periodic_create(const tg_config *cfg, tg_status *st)
     g->impl = p;
     g->ops = &periodic_ops;
     g->kind = TG_GEOM_PERIODIC;
+    g->holds_planetary_pv = 0;
     const int P = cfg->points;
     if (P < 4 || P > (1 << 16) || (P & (P - 1)) != 0) {
         tg_fail(st, TG_ERR_CONFIG, "periodic: points must be 2^k (4 to %d), got %d", 1 << 16, P);

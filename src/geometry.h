@@ -81,6 +81,9 @@ struct tg_geometry {
     double area;       /* domain area, m2 */
     double *coord;     /* ns positions (m) of the stored indices, same along x and y */
     double *weight;    /* ns*ns quadrature weights (m2) of the domain integral; 0 off-domain */
+    int holds_planetary_pv; /* 1: beta (y - y0) is a field on this grid and part of q (basin);
+                               0: y is periodic, so q is the eddy PV and the planetary
+                               gradient enters as a separate tendency term */
     const tg_geometry_ops *ops;
     void *impl;        /* owned by the implementation */
     int spectrum_nbins;   /* bins of ops->ke_spectrum (0: not available) */

@@ -86,7 +86,7 @@ tg_model *tg_model_create(const tg_config *cfg, tg_status *st)
     m->lap1 = alloc_fields(m->npl);
     m->lap2 = alloc_fields(m->npl);
     m->rowbuf = alloc_fields(ns);
-    m->rowsums = alloc_fields(8L * ns);
+    m->rowsums = alloc_fields(10L * ns);
     m->rowidx = calloc((size_t)ns, sizeof(long));
     if (!m->q || !m->psi || !m->zeta || !m->phi || !m->tend || !m->term || !m->q0 ||
         !m->beta_y || !m->wind_forcing || !m->lap1 || !m->lap2 || !m->rowbuf || !m->rowsums ||
@@ -96,15 +96,36 @@ tg_model *tg_model_create(const tg_config *cfg, tg_status *st)
         goto fail;
     }
 
-    /* Planetary PV beta (y - y0), y0 the central latitude; wind forcing. */
+    /* Planetary PV beta (y - y0), y0 the central latitude, when the grid
+     * can hold it (basin); otherwise beta enters the mean-flow term. */
     const double y0 = 0.5 * g->length;
     const double rhoH = cfg->reference_density_kg_m3 * cfg->thickness_m[0];
+    const double beta_in_q = g->holds_planetary_pv ? cfg->beta_per_m_per_s : 0.0;
     for (int j = 0; j < ns; j++)
         for (int i = 0; i < ns; i++) {
             double y = g->coord[j];
-            m->beta_y[(long)j * ns + i] = cfg->beta_per_m_per_s * (y - y0);
+            m->beta_y[(long)j * ns + i] = beta_in_q * (y - y0);
             m->wind_forcing[(long)j * ns + i] = wind_curl(cfg, y, g->length) / rhoH;
         }
+    /* Background flow and its PV gradient beta - (S U)_k (Phillips 1954). */
+    int any_u = 0;
+    for (int k = 0; k < m->nl; k++) {
+        m->U[k] = k < cfg->n_zonal_velocity ? cfg->zonal_velocity_m_s[k] : 0.0;
+        any_u |= m->U[k] != 0.0;
+    }
+    for (int k = 0; k < m->nl; k++) {
+        double su = 0.0;
+        for (int kk = 0; kk < m->nl; kk++)
+            su += m->modes.S[k][kk] * m->U[kk];
+        m->Qy[k] = (g->holds_planetary_pv ? 0.0 : cfg->beta_per_m_per_s) - su;
+    }
+    /* Terms this configuration has (budget.nc lists these). */
+    m->term_active[TG_TERM_ADVECTION] = 1;
+    m->term_active[TG_TERM_WIND] = 1;
+    m->term_active[TG_TERM_BOTTOM_DRAG] = 1;
+    m->term_active[TG_TERM_VISCOSITY] = 1;
+    m->term_active[TG_TERM_MEAN_FLOW] = !g->holds_planetary_pv || any_u;
+    m->term_active[TG_TERM_CLOSURE] = 1;
     /* State of rest: psi = 0, so q = beta (y - y0) in every layer. */
     for (int k = 0; k < m->nl; k++)
         memcpy(m->q + k * m->npl, m->beta_y, sizeof(double) * m->npl);
@@ -253,8 +274,13 @@ static void q_from_psi(tg_model *m)
     tg_geometry *g = m->geom;
     const int nl = m->nl, ns = g->ns;
     const long npl = m->npl;
-    for (int k = 0; k < nl; k++)
+    for (int k = 0; k < nl; k++) {
+        /* When the output nodes do not include the ring (periodic), the
+         * ring must come from the geometry before the stencil reads it. */
+        if (g->o0 == g->a0)
+            g->ops->fill_ring(g, m->psi + k * npl, 0.0);
         tg_laplacian(g, m->psi + k * npl, m->zeta + k * npl);
+    }
     for (int k = 0; k < nl; k++)
         for (int j = g->a0; j < g->a1; j++)
             for (int i = g->a0; i < g->a1; i++) {
@@ -368,7 +394,8 @@ double tg_model_max_cfl(tg_model *m, int *layer, double *x, double *y)
     int kbest = 0;
     for (int k = 0; k < m->nl; k++) {
         long w;
-        double c = tg_max_cfl(m->geom, m->psi + k * m->npl, m->dt, &w, m->rowbuf, m->rowidx);
+        double c = tg_max_cfl(m->geom, m->psi + k * m->npl, m->U[k], m->dt, &w, m->rowbuf,
+                              m->rowidx);
         if (c > best || isnan(c)) {
             best = isnan(c) ? INFINITY : c;
             at = w;

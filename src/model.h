@@ -10,6 +10,15 @@
  *             + closure tendency                                   (closure.h)
  * with zeta_k = lap psi_k and y0 the central latitude of the domain.
  *
+ * Periodic geometry (geometry.h, holds_planetary_pv = 0): q is the eddy PV
+ * lap psi + S psi, and a uniform imposed zonal flow U_k (background
+ * streamfunction -U_k y) adds the term
+ *   -U_k dq_k/dx - (beta - (S U)_k) dpsi_k/dx                  mean flow
+ * (Phillips 1954, Tellus 6, 273-286; Vallis 2017 section 9.6): advection of
+ * eddy PV by the background flow and of the background PV gradient by the
+ * eddies. Its energy rate is the release of available potential energy from
+ * the imposed shear.
+ *
  * tg_model_create does all the set-up: geometry (transforms, Helmholtz
  * tables), vertical modes, forcing fields and every work array. After it,
  * nothing in the model allocates.
@@ -31,6 +40,7 @@ enum {
     TG_TERM_WIND,
     TG_TERM_BOTTOM_DRAG,
     TG_TERM_VISCOSITY,
+    TG_TERM_MEAN_FLOW,   /* periodic: imposed background flow and planetary gradient */
     TG_TERM_CLOSURE,
     TG_NTERMS
 };
@@ -57,6 +67,11 @@ typedef struct tg_model {
     long step;                    /* steps since day 0 */
     double time_s;                /* step * dt */
 
+    /* Background (periodic geometry): uniform zonal flow and PV gradient. */
+    double U[TG_MAX_LAYERS];      /* m s-1 */
+    double Qy[TG_MAX_LAYERS];     /* beta - (S U)_k, m-1 s-1 */
+    int term_active[TG_NTERMS];   /* which terms this configuration has */
+
     /* Fixed fields, npl each. */
     double *beta_y;         /* beta (y - y0), s-1 */
     double *wind_forcing;   /* curl(tau) / (rho0 H_1), s-2 */
@@ -68,7 +83,7 @@ typedef struct tg_model {
     double *term;           /* nl*npl one term's tendency */
     double *q0;             /* nl*npl state at the start of the step */
     double *rowbuf;         /* ns */
-    double *rowsums;        /* 8*ns: per-row budget sums of the fused terms (terms.c) */
+    double *rowsums;        /* 10*ns: per-row budget sums of the fused terms (terms.c) */
     long *rowidx;           /* ns */
     int nout;               /* output points per side */
 

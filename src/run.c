@@ -118,12 +118,12 @@ static void log_summary(const tg_model *m, const tg_diag *d, const tg_term_rates
     for (int k = 0; k < m->nl && len < sizeof z; k++)
         len += (size_t)snprintf(z + len, sizeof z - len, "%s%.4e", k ? " " : "", d->enstrophy[k]);
     tg_log(TG_LOG_INFO,
-           "day %.2f step %ld: energy %.6e m2 s-2 (wind %+.3e, drag %+.3e, viscosity %+.3e, "
-           "closure %+.3e m2 s-3), enstrophy [%s] s-2, max CFL %.3f, worst relative budget "
-           "residual since last line: energy %.1e, enstrophy %.1e",
+           "day %.2f step %ld: energy %.6e m2 s-2 (wind %+.3e, mean flow %+.3e, drag %+.3e, "
+           "viscosity %+.3e, closure %+.3e m2 s-3), enstrophy [%s] s-2, max CFL %.3f, worst "
+           "relative budget residual since last line: energy %.1e, enstrophy %.1e",
            m->time_s / TG_SECONDS_PER_DAY, m->step, d->energy, r->energy[TG_TERM_WIND],
-           r->energy[TG_TERM_BOTTOM_DRAG], r->energy[TG_TERM_VISCOSITY],
-           r->energy[TG_TERM_CLOSURE], z, d->max_cfl, eres, zres);
+           r->energy[TG_TERM_MEAN_FLOW], r->energy[TG_TERM_BOTTOM_DRAG],
+           r->energy[TG_TERM_VISCOSITY], r->energy[TG_TERM_CLOSURE], z, d->max_cfl, eres, zres);
 }
 
 static tg_code check_outputs_free(const char *dir, const run_ctx *c, int overwrite, tg_status *st)
@@ -196,7 +196,7 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
         rc = st->code;
         goto done;
     }
-    tg_budget_layout_init(&lay, m->nl);
+    tg_budget_layout_init(&lay, m->nl, m->term_active);
     bf = tg_budget_create(c.path_budget, &c.grid, lay.var, lay.n, st);
     if (!bf) {
         rc = st->code;
@@ -273,7 +273,7 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
         tg_budget_relative_residual(m->nl, dt, &before, &after, &rates, &eres, &zres);
         worst_e = fmax(worst_e, eres);
         worst_z = fmax(worst_z, zres);
-        int n = tg_budget_pack(m->nl, dt, &before, &after, &rates, rec);
+        int n = tg_budget_pack(&lay, dt, &before, &after, &rates, rec);
         (void)n;
         if ((rc = tg_budget_append(bf, m->time_s, m->step, rec, st)) != TG_OK)
             goto done;

@@ -51,12 +51,13 @@ static double rows_total(const tg_geometry *g, const double *rb)
  *   wind           curl(tau)/(rho0 H_1)                 top layer
  *   bottom drag    -r zeta_N                            bottom layer
  *   viscosity      A2 lap zeta_k - A4 lap^2 zeta_k
+ *   mean flow      -U_k dq_k/dx - Qy_k dpsi_k/dx         periodic (model.h)
  * tend_k is their sum; each row's energy and enstrophy sums of each term go
  * to m->rowsums (8 rows of ns), added up in row order afterwards. The
  * stencils are fdops.h's point kernels. */
-enum { F_ADV, F_WIND, F_DRAG, F_VISC, F_N };
+enum { F_ADV, F_WIND, F_DRAG, F_VISC, F_MEAN, F_N };
 static const int fused_term[F_N] = {TG_TERM_ADVECTION, TG_TERM_WIND, TG_TERM_BOTTOM_DRAG,
-                                    TG_TERM_VISCOSITY};
+                                    TG_TERM_VISCOSITY, TG_TERM_MEAN_FLOW};
 
 static void builtin_layer(tg_model *m, int k, int present[F_N])
 {
@@ -75,6 +76,10 @@ static void builtin_layer(tg_model *m, int k, int present[F_N])
     present[F_WIND] = wind;
     present[F_DRAG] = drag;
     present[F_VISC] = A2 != 0.0 || A4 != 0.0;
+    present[F_MEAN] = m->term_active[TG_TERM_MEAN_FLOW];
+    const double rx = 1.0 / (2.0 * g->dx);
+    const double cu = present[F_MEAN] ? -m->U[k] * rx : 0.0;
+    const double cq = present[F_MEAN] ? -m->Qy[k] * rx : 0.0;
     if (A4 != 0.0) {
         tg_laplacian(g, zeta, m->lap1);
         g->ops->fill_laplacian_ring(g, m->lap1);
@@ -89,14 +94,16 @@ static void builtin_layer(tg_model *m, int k, int present[F_N])
         const double *pc = psi + r0, *qc = q + r0, *zc = zeta + r0, *w = wf + r0, *b2 = l2 + r0;
         double *o = tend + r0;
         double e0 = 0.0, z0 = 0.0, e1 = 0.0, z1 = 0.0, e2 = 0.0, z2 = 0.0, e3 = 0.0, z3 = 0.0;
-#pragma omp simd reduction(+ : e0, z0, e1, z1, e2, z2, e3, z3)
+        double e4 = 0.0, z4 = 0.0;
+#pragma omp simd reduction(+ : e0, z0, e1, z1, e2, z2, e3, z3, e4, z4)
         for (int i = a0; i < a1; i++) {
             const double adv = -rj * tg_arakawa_at(pc, pc + ns, pc - ns, qc, qc + ns, qc - ns, i);
             const double vw = cw * w[i];
             const double vd = cd * zc[i];
             const double vv = A2 * rl * tg_lap5_at(zc, zc + ns, zc - ns, i) + cb * b2[i];
+            const double vm = cu * tg_ddx2_at(qc, i) + cq * tg_ddx2_at(pc, i);
             const double dp = pc[i] - wall, qq = qc[i];
-            o[i] = adv + vw + vd + vv;
+            o[i] = adv + vw + vd + vv + vm;
             e0 += adv * dp;
             z0 += adv * qq;
             e1 += vw * dp;
@@ -105,6 +112,8 @@ static void builtin_layer(tg_model *m, int k, int present[F_N])
             z2 += vd * qq;
             e3 += vv * dp;
             z3 += vv * qq;
+            e4 += vm * dp;
+            z4 += vm * qq;
         }
         rs[j] = e0;
         rs[ns + j] = z0;
@@ -114,6 +123,8 @@ static void builtin_layer(tg_model *m, int k, int present[F_N])
         rs[5 * ns + j] = z2;
         rs[6 * ns + j] = e3;
         rs[7 * ns + j] = z3;
+        rs[8 * ns + j] = e4;
+        rs[9 * ns + j] = z4;
     }
 }
 

@@ -4,6 +4,8 @@
  * terminal right now, so that a log line first clears it. */
 #define _POSIX_C_SOURCE 200809L
 #include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
 #include <time.h>
 #include <unistd.h>
 
@@ -24,6 +26,11 @@ void cli_log_to_stderr(tg_log_level level, const char *line, void *user)
     (void)user;
     if (g_quiet && level > TG_LOG_WARN)
         return;
+    if (level >= TG_LOG_DEBUG) {
+        const char *env = getenv("TWINGYRE_LOG");
+        if (!env || strcmp(env, "debug") != 0)
+            return;
+    }
     if (g_line_open) {
         fputs("\r\033[K", stderr);
         g_line_open = 0;

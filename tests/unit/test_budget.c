@@ -65,7 +65,11 @@ static tg_model *make_model(const tg_config *cfg)
 START_TEST(layout_names_and_count)
 {
     const int nl = _i + 1;
+    /* A basin run lists every term but the periodic mean-flow conversion. */
     static const char *const terms[] = {"advection", "wind", "bottom_drag", "viscosity", "closure"};
+    static const char *const all_terms[TG_NTERMS] = {"advection", "wind", "bottom_drag",
+                                                     "viscosity", "mean_flow_conversion",
+                                                     "closure"};
     char expect[40][48];
     int kind[40], n = 0;
 #define WANT(nm, k)                                                                               \
@@ -96,7 +100,7 @@ START_TEST(layout_names_and_count)
 
     tg_budget_layout lay;
     memset(&lay, 0, sizeof lay);
-    tg_budget_layout_init(&lay, nl);
+    tg_budget_layout_init(&lay, nl, NULL);
     ck_assert_int_eq(lay.n, n);
     ck_assert_int_eq(lay.n, nl > 1 ? 19 : 18);
     int values = 0;
@@ -111,7 +115,7 @@ START_TEST(layout_names_and_count)
         values += kind[v] == 0 ? 1 : (kind[v] == 1 ? nl : nl - 1);
     }
     for (int t = 0; t < TG_NTERMS; t++)
-        ck_assert_str_eq(tg_term_name(t), terms[t]);
+        ck_assert_str_eq(tg_term_name(t), all_terms[t]);
 
     /* a packed record has one value per layer/interface of each variable */
     tg_diag b, a;
@@ -120,7 +124,19 @@ START_TEST(layout_names_and_count)
     memset(&a, 0, sizeof a);
     memset(&r, 0, sizeof r);
     double rec[64];
-    ck_assert_int_eq(tg_budget_pack(nl, 1.0, &b, &a, &r, rec), values);
+    ck_assert_int_eq(tg_budget_pack(&lay, 1.0, &b, &a, &r, rec), values);
+
+    /* With every term active (periodic with a background flow) the layout
+     * gains energy_mean_flow_conversion and enstrophy_mean_flow_conversion,
+     * in term order, and a record grows by 1 + nl values. */
+    int all[TG_NTERMS];
+    for (int t = 0; t < TG_NTERMS; t++)
+        all[t] = 1;
+    tg_budget_layout lay2;
+    tg_budget_layout_init(&lay2, nl, all);
+    ck_assert_int_eq(lay2.n, lay.n + 2);
+    ck_assert_str_eq(lay2.var[6].name, "energy_mean_flow_conversion");
+    ck_assert_int_eq(tg_budget_pack(&lay2, 1.0, &b, &a, &r, rec), values + 1 + nl);
 }
 END_TEST
 
@@ -197,7 +213,9 @@ START_TEST(budget_closes)
                       "library enstrophy residual %g, %g", lz, res_z_all);
 
         double rec[64];
-        int n = tg_budget_pack(nl, m->dt, &b, &a, &r, rec);
+        tg_budget_layout lay;
+        tg_budget_layout_init(&lay, nl, NULL);
+        int n = tg_budget_pack(&lay, m->dt, &b, &a, &r, rec);
         ck_assert_int_eq(n, 8 + 8 * nl + nl + 1 + (nl - 1));
         ck_assert(rec[0] == a.energy);
         ck_assert(fabs(rec[7] - (tend - sum)) <= 1e-9 * big); /* energy_residual */

@@ -212,7 +212,7 @@ END_TEST
 START_TEST(test_key_table)
 {
     int n = tg_config_key_count();
-    ck_assert_int_eq(n, 25);
+    ck_assert_int_eq(n, 26);
     ck_assert(n <= TG_CONFIG_MAX_KEYS);
     ck_assert_ptr_null(tg_config_key(-1));
     ck_assert_ptr_null(tg_config_key(n));
@@ -508,11 +508,25 @@ START_TEST(test_geometry_rules)
     ck_assert_int_eq(load_and_check("pts3.ini", "[grid]\npoints = 17\n", &cfg, &st, path, sizeof path), TG_OK);
     ck_assert_int_eq(load_and_check("pts4.ini", "[grid]\npoints = 4097\n", &cfg, &st, path, sizeof path), TG_OK);
 
-    /* Periodic: points must be 2^k; wind must be none for now. A periodic
-     * config that passes every other rule is refused, naming the geometry
-     * line, until the periodic geometry is built. */
-    check_expect("per1.ini", "[grid]\ngeometry = periodic\npoints = 128\n[wind]\nprofile = none\n", 2,
-                 "[grid] geometry: periodic geometry is not available in this version", NULL);
+    /* Periodic: points must be 2^k; wind must be none for now. */
+    const char *periodic_ok = "[grid]\ngeometry = periodic\npoints = 128\n[wind]\nprofile = none\n";
+    ck_assert_msg(load_and_check("per1.ini", periodic_ok, &cfg, &st, path, sizeof path) == TG_OK,
+                  "%s", st.msg);
+
+    /* The background flow: one value per layer, periodic geometry only. */
+    ck_assert_int_eq(load_and_check("bg1.ini",
+                                    "[grid]\ngeometry = periodic\npoints = 64\n[wind]\nprofile = none\n"
+                                    "[background]\nzonal_velocity_m_s = 0.05, -0.01\n",
+                                    &cfg, &st, path, sizeof path), TG_OK);
+    ck_assert_int_eq(cfg.n_zonal_velocity, 2);
+    ck_assert(cfg.zonal_velocity_m_s[1] == -0.01);
+    check_expect("bg2.ini", "[background]\nzonal_velocity_m_s = 0.05, 0\n", 2,
+                 "[background] zonal_velocity_m_s: a uniform background flow needs geometry = periodic",
+                 NULL);
+    check_expect("bg3.ini",
+                 "[grid]\ngeometry = periodic\npoints = 64\n[wind]\nprofile = none\n"
+                 "[background]\nzonal_velocity_m_s = 0.05\n",
+                 7, "[background] zonal_velocity_m_s: expected one value per layer (2), got 1", NULL);
     check_expect("per2.ini", "[grid]\ngeometry = periodic\npoints = 129\n[wind]\nprofile = none\n", 3,
                  "[grid] points: periodic geometry (line 2) needs 2^k points", "got 129");
     check_expect("per2b.ini", "[grid]\ngeometry = periodic\n[wind]\nprofile = none\n", 2,
@@ -531,8 +545,7 @@ START_TEST(test_geometry_rules)
                  7, "[grid] wall_slip_coefficient: wall keys do not apply to periodic geometry", NULL);
 
     /* The same from --set. */
-    const char *periodic_ok = "[grid]\ngeometry = periodic\npoints = 128\n[wind]\nprofile = none\n";
-    ck_assert_int_eq(load_and_check("per7.ini", periodic_ok, &cfg, &st, path, sizeof path), TG_ERR_CONFIG);
+    ck_assert_int_eq(load_and_check("per7.ini", periodic_ok, &cfg, &st, path, sizeof path), TG_OK);
     ck_assert_int_eq(tg_config_set(&cfg, "grid.wall_condition=no_slip", &st), TG_OK);
     ck_assert_int_eq(tg_config_check(&cfg, path, &st), TG_ERR_CONFIG);
     ck_assert_msg(strncmp(st.msg, "--set grid.wall_condition=no_slip: ", 35) == 0, "%s", st.msg);
