@@ -1,8 +1,7 @@
 /* registry.c - the table of named closure schemes (closure.h).
  *
- * Adding a scheme: write closures/NAME.c defining a tg_closure_ops, declare
- * it here, and add one line to the table. The core ships the hook with no
- * scheme registered yet.
+ * The schemes are listed once, in schemes.h; this file turns that list into
+ * declarations and a table, and looks names up in it.
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
@@ -10,7 +9,14 @@
 
 #include "../src/closure.h"
 
+#define TG_SCHEME(name) extern const tg_closure_ops tg_scheme_##name;
+#include "schemes.h"
+#undef TG_SCHEME
+
 static const tg_closure_ops *const table[] = {
+#define TG_SCHEME(name) &tg_scheme_##name,
+#include "schemes.h"
+#undef TG_SCHEME
     NULL /* end of table */
 };
 

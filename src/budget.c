@@ -36,6 +36,7 @@ void tg_budget_layout_init(tg_budget_layout *lay, int nl, const int *active)
 {
     int n = 0;
     lay->nl = nl;
+    lay->ncomp = 0;
     for (int t = 0; t < TG_NTERMS; t++)
         lay->active[t] = term_on(active, t);
 #define ADD(nm, un, ln, pl)                                                                  \
@@ -79,6 +80,25 @@ void tg_budget_layout_init(tg_budget_layout *lay, int nl, const int *active)
     lay->n = n;
 }
 
+void tg_budget_layout_components(tg_budget_layout *lay, int ncomp, const char *const *labels)
+{
+    int n = lay->n;
+    for (int c = 0; c < ncomp && n + 2 <= TG_BUDGET_MAX_VARS; c++) {
+        snprintf(lay->name[n], sizeof lay->name[n], "energy_closure_%s", labels[c]);
+        snprintf(lay->words[n], sizeof lay->words[n], "energy rate from the closure component %s",
+                 labels[c]);
+        lay->var[n] = (tg_budget_var){lay->name[n], "m2 s-3", lay->words[n], 0};
+        n++;
+        snprintf(lay->name[n], sizeof lay->name[n], "enstrophy_closure_%s", labels[c]);
+        snprintf(lay->words[n], sizeof lay->words[n],
+                 "enstrophy rate from the closure component %s", labels[c]);
+        lay->var[n] = (tg_budget_var){lay->name[n], "s-3", lay->words[n], 1};
+        n++;
+        lay->ncomp = c + 1;
+    }
+    lay->n = n;
+}
+
 int tg_budget_pack(const tg_budget_layout *lay, double dt, const tg_diag *b, const tg_diag *a,
                    const tg_term_rates *r, double *v)
 {
@@ -112,6 +132,11 @@ int tg_budget_pack(const tg_budget_layout *lay, double dt, const tg_diag *b, con
     v[n++] = a->max_cfl;
     for (int i = 0; i + 1 < nl; i++)
         v[n++] = a->mass_error[i];
+    for (int c = 0; c < lay->ncomp; c++) {
+        v[n++] = r->comp_energy[c];
+        for (int k = 0; k < nl; k++)
+            v[n++] = r->comp_enstrophy[c][k];
+    }
     return n;
 }
 

@@ -33,11 +33,12 @@ const char *tg_term_name(int t);
 
 /* The budget.nc variable descriptions for nl layers; the strings live in
  * the struct, so it owns everything the descriptors point at. */
-#define TG_BUDGET_MAX_VARS 32
+#define TG_BUDGET_MAX_VARS (32 + 2 * TG_MAX_CLOSURES)
 typedef struct {
     int n;                      /* variables */
     int nl;                     /* layers */
     int active[TG_NTERMS];      /* terms listed (tg_model's term_active) */
+    int ncomp;                  /* closure components with their own variables */
     tg_budget_var var[TG_BUDGET_MAX_VARS];
     char name[TG_BUDGET_MAX_VARS][48];
     char words[TG_BUDGET_MAX_VARS][128];
@@ -47,6 +48,10 @@ typedef struct {
  * term except the periodic-only mean-flow conversion. The residuals always
  * use every term. */
 void tg_budget_layout_init(tg_budget_layout *lay, int nl, const int *active);
+
+/* Adds energy_closure_LABEL and enstrophy_closure_LABEL for each closure
+ * component (after the totals), in `use` order. */
+void tg_budget_layout_components(tg_budget_layout *lay, int ncomp, const char *const *labels);
 
 /* Packs one record in the order of tg_budget_vars; returns the count. */
 int tg_budget_pack(const tg_budget_layout *lay, double dt, const tg_diag *before,

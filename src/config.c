@@ -22,6 +22,8 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include "config.h"
+#include "closure.h"
+#include "closure_host.h"
 
 #include <ini.h>
 
@@ -284,12 +286,67 @@ static int starts_section(int i)
     return i == 0 || strcmp(rows[i - 1].info.section, rows[i].info.section) != 0;
 }
 
-static int section_exists(const char *section)
+static int core_section_exists(const char *section)
 {
     for (int i = 0; i < K_COUNT; i++)
         if (strcmp(rows[i].info.section, section) == 0)
             return 1;
     return 0;
+}
+
+/* Sections the closure layer validates later: [closure], a registered
+ * scheme's name, or plugin.NAME. */
+static int closure_section(const char *section)
+{
+    return strcmp(section, "closure") == 0 || tg_closure_find(section) != NULL ||
+           (strncmp(section, "plugin.", 7) == 0 && section[7] != '\0');
+}
+
+static int section_exists(const char *section)
+{
+    return core_section_exists(section) || closure_section(section);
+}
+
+/* Stores one closure key = value; returns 0 or writes why. */
+static int store_raw(tg_config *cfg, const char *section, const char *key, const char *value,
+                     int line, char *why, size_t n)
+{
+    if (strlen(section) >= sizeof cfg->raw[0].section || strlen(key) >= sizeof cfg->raw[0].key ||
+        strlen(value) >= sizeof cfg->raw[0].value) {
+        snprintf(why, n, "section, key or value too long");
+        return -1;
+    }
+    for (int i = 0; i < cfg->nraw; i++) {
+        tg_raw_entry *e = &cfg->raw[i];
+        if (strcmp(e->section, section) == 0 && strcmp(e->key, key) == 0) {
+            if (line > 0 && e->line > 0) {
+                snprintf(why, n, "set twice, on line %d and again on line %d; keep one", e->line,
+                         line);
+                return -1;
+            }
+            snprintf(e->value, sizeof e->value, "%s", value); /* --set replaces */
+            e->line = line;
+            return 0;
+        }
+    }
+    if (cfg->nraw >= TG_MAX_RAW) {
+        snprintf(why, n, "too many closure settings (at most %d)", TG_MAX_RAW);
+        return -1;
+    }
+    tg_raw_entry *e = &cfg->raw[cfg->nraw++];
+    snprintf(e->section, sizeof e->section, "%s", section);
+    snprintf(e->key, sizeof e->key, "%s", key);
+    snprintf(e->value, sizeof e->value, "%s", value);
+    e->line = line;
+    return 0;
+}
+
+const tg_raw_entry *tg_config_raw(const tg_config *cfg, const char *section, const char *key)
+{
+    for (int i = 0; i < cfg->nraw; i++)
+        if (strcmp(cfg->raw[i].section, section) == 0 && strcmp(cfg->raw[i].key, key) == 0)
+            return &cfg->raw[i];
+    return NULL;
 }
 
 /* ------------------------------------------------------------------ */
@@ -364,6 +421,19 @@ static int suggest_key(const char *section, const char *name)
         int score = 2 * d + (strcmp(rows[i].info.section, section) != 0);
         if (score < best_score) {
             best_score = score;
+            best = i;
+        }
+    }
+    return best;
+}
+
+int tg_config_suggest(const char *given, const char *const *cands, int n)
+{
+    int best = -1, best_d = INT_MAX;
+    for (int i = 0; i < n; i++) {
+        int d = edit_distance(given, cands[i]);
+        if (close_enough(given, cands[i], d) && d < best_d) {
+            best_d = d;
             best = i;
         }
     }
@@ -1034,6 +1104,13 @@ static int on_pair(void *user, const char *section, const char *name, const char
             load_fail(c, line, "%s: key comes before any [section] header", name);
         return 0;
     }
+    if (closure_section(section)) {
+        if (store_raw(c->work, section, name, value, line, why, sizeof why) != 0) {
+            load_fail(c, line, "[%s] %s: %s", section, name, why);
+            return 0;
+        }
+        return 1;
+    }
     int i = tg_config_key_index(section, name);
     if (i < 0) {
         explain_unknown_key(section, name, STYLE_FILE, why, sizeof why);
@@ -1232,6 +1309,11 @@ tg_code tg_config_set(tg_config *cfg, const char *assignment, tg_status *st)
         explain_unknown_section(section, STYLE_SET, why, sizeof why);
         return tg_fail(st, TG_ERR_CONFIG, "--set %s: %s", assignment, why);
     }
+    if (closure_section(section)) {
+        if (store_raw(cfg, section, key, value, 0, why, sizeof why) != 0)
+            return tg_fail(st, TG_ERR_CONFIG, "--set %s: %s", assignment, why);
+        return TG_OK;
+    }
     int i = tg_config_key_index(section, key);
     if (i < 0) {
         explain_unknown_key(section, key, STYLE_SET, why, sizeof why);
@@ -1427,6 +1509,11 @@ tg_code tg_config_check(const tg_config *cfg, const char *origin, tg_status *st)
                             path, bad ? strerror(e) : "the file is empty");
     }
 
+    /* Closure sections, against the schemes' parameter tables. */
+    tg_code crc = tg_closure_check_config(cfg, origin, st);
+    if (crc != TG_OK)
+        return crc;
+
     /* Keys that are set but have no effect: worth a warning, not an error. */
     if (!periodic && cfg->set_by_user[K_WALL_SLIP] && cfg->wall_condition != TG_WALL_PARTIAL_SLIP)
         tg_log(TG_LOG_WARN, "[grid] wall_slip_coefficient is ignored unless wall_condition = partial_slip");
@@ -1511,6 +1598,11 @@ char *tg_config_to_ini(const tg_config *cfg)
             sb_printf(&b, "%-40s ; %s\n", line, comment);
         else
             sb_printf(&b, "%s\n", line);
+    }
+    char *cl = tg_closure_config_ini(cfg);
+    if (cl) {
+        sb_printf(&b, "%s", cl);
+        free(cl);
     }
     if (b.oom) {
         free(b.s);

@@ -31,6 +31,17 @@ typedef enum { TG_SET_DEFAULT = 0, TG_SET_FILE = 1, TG_SET_OPTION = 2 } tg_set_o
 /* Upper bound on the number of rows in the key table (checked in config.c). */
 #define TG_CONFIG_MAX_KEYS 32
 
+#define TG_MAX_RAW 96
+#define TG_RAW_TEXT 200
+
+/* One key = value of a closure section, as written. */
+typedef struct {
+    char section[64];
+    char key[64];
+    char value[TG_RAW_TEXT];
+    int line;            /* line in the config file; 0 when from --set */
+} tg_raw_entry;
+
 typedef struct tg_config {
     /* [grid] */
     tg_geometry_kind geometry;      /* geometry = basin | periodic */
@@ -80,6 +91,16 @@ typedef struct tg_config {
     double checkpoint_every_days;   /* interval between checkpoint rewrites, days (0: only at the end) */
     double log_every_days;          /* interval between budget summary lines in the log, days */
 
+    /* [closure] and each scheme's own section, kept as written; the
+     * closure layer (closure_host.c) validates them against the schemes'
+     * parameter tables in tg_config_check. Sections accepted here: closure,
+     * every registered scheme name, and plugin.NAME for plugins. */
+    int nraw;
+    tg_raw_entry raw[TG_MAX_RAW];
+
+    /* Not a config key: the ensemble member (--member), 0 by default. */
+    int member;
+
     /* Bookkeeping for messages, indexed by key-table row (tg_config_key). */
     unsigned char set_by_user[TG_CONFIG_MAX_KEYS]; /* tg_set_origin of each key */
     int set_line[TG_CONFIG_MAX_KEYS];              /* config-file line when TG_SET_FILE, else 0 */
@@ -124,6 +145,13 @@ const tg_key_info *tg_config_key(int i);
 
 /* Row index of [section] key in the key table, or -1 when there is no such key. */
 int tg_config_key_index(const char *section, const char *key);
+
+/* Index of the candidate closest to `given` by edit distance when it is
+ * close enough to suggest, else -1 (the "did you mean" rule of the config). */
+int tg_config_suggest(const char *given, const char *const *cands, int n);
+
+/* Finds a raw closure entry; NULL when absent. */
+const tg_raw_entry *tg_config_raw(const tg_config *cfg, const char *section, const char *key);
 
 /* Prints the reference table (Markdown) used in README. */
 void tg_config_print_reference(FILE *out);

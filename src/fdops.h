@@ -44,6 +44,15 @@ static inline double tg_ddx2_at(const double *c, int i)
     return c[i + 1] - c[i - 1];
 }
 
+/* Lateral viscosity on vorticity at one node: A2 lap zeta - A4 lap2, with
+ * rl = 1/dx^2 and lap2 the (precomputed) Laplacian of lap zeta. Used by the
+ * core's dissipation (terms.c) and by closures (tg_viscosity_layer). */
+static inline double tg_visc_at(const double *zc, const double *zn, const double *zs, int i,
+                                double A2rl, double A4, const double *lap2)
+{
+    return A2rl * tg_lap5_at(zc, zn, zs, i) - A4 * lap2[i];
+}
+
 /* out = five-point Laplacian of f on the active nodes. */
 void tg_laplacian(const tg_geometry *g, const double *f, double *out);
 
@@ -57,6 +66,21 @@ void tg_laplacian(const tg_geometry *g, const double *f, double *out);
  * keeps a wall term that vanishes at first order in dx; the budget logs it
  * as enstrophy_advection (tests/unit/test_arakawa.c checks its form). */
 void tg_jacobian(const tg_geometry *g, const double *psi, const double *q, double *out);
+
+/* out = df/dx and df/dy by centred differences on the active nodes. */
+void tg_ddx(const tg_geometry *g, const double *f, double *out);
+void tg_ddy(const tg_geometry *g, const double *f, double *out);
+
+/* out = div(nu grad f) on the active nodes, five-point flux form with nu
+ * averaged to the cell faces (common practice; it reduces to nu lap f for
+ * constant nu and conserves the domain integral of f up to wall fluxes). */
+void tg_div_nu_grad(const tg_geometry *g, const double *nu, const double *f, double *out);
+
+/* out = A2 lap zeta - A4 lap^2 zeta for one layer. zeta's ring must hold the
+ * wall vorticity; lap1 and lap2 are work arrays (ns*ns). The core's
+ * dissipation uses the same point kernel (tg_visc_at). */
+void tg_viscosity_layer(const tg_geometry *g, const double *zeta, double A2, double A4,
+                        double *lap1, double *lap2, double *out);
 
 /* out = alpha*out + beta*f on the active nodes. */
 void tg_axpby(const tg_geometry *g, double alpha, double *out, double beta, const double *f);

@@ -191,6 +191,21 @@ static void basin_fill_vorticity_ring(const tg_geometry *g, double *z, const dou
     z[0] = z[N] = z[(long)N * ns] = z[(long)N * ns + N] = 0.0;
 }
 
+static void basin_fill_ring_extend(const tg_geometry *g, double *f)
+{
+    const int ns = g->ns, N = ns - 1;
+    for (int k = 1; k < N; k++) {
+        f[k] = f[ns + k];
+        f[(long)N * ns + k] = f[(long)(N - 1) * ns + k];
+        f[(long)k * ns] = f[(long)k * ns + 1];
+        f[(long)k * ns + N] = f[(long)k * ns + N - 1];
+    }
+    f[0] = f[ns + 1];
+    f[N] = f[ns + N - 1];
+    f[(long)N * ns] = f[(long)(N - 1) * ns + 1];
+    f[(long)N * ns + N] = f[(long)(N - 1) * ns + N - 1];
+}
+
 static void basin_fill_laplacian_ring(const tg_geometry *g, double *lap)
 {
     basin_fill_ring(g, lap, 0.0);
@@ -238,6 +253,7 @@ static const tg_geometry_ops basin_ops = {
     .solve_mode = basin_solve_mode,
     .fill_ring = basin_fill_ring,
     .fill_vorticity_ring = basin_fill_vorticity_ring,
+    .fill_ring_extend = basin_fill_ring_extend,
     .fill_laplacian_ring = basin_fill_laplacian_ring,
     .filter_gaussian = basin_filter_gaussian,
     .ke_spectrum = basin_ke_spectrum,

@@ -193,12 +193,18 @@ static void periodic_ke_spectrum(tg_geometry *g, const double *psi, double wall_
     }
 }
 
+static void periodic_fill_ring_extend(const tg_geometry *g, double *f)
+{
+    halo_copy(g, f);
+}
+
 static const tg_geometry_ops periodic_ops = {
     .destroy = periodic_destroy,
     .setup_modes = periodic_setup_modes,
     .solve_mode = periodic_solve_mode,
     .fill_ring = periodic_fill_ring,
     .fill_vorticity_ring = periodic_fill_vorticity_ring,
+    .fill_ring_extend = periodic_fill_ring_extend,
     .fill_laplacian_ring = periodic_fill_laplacian_ring,
     .filter_gaussian = periodic_filter_gaussian,
     .ke_spectrum = periodic_ke_spectrum,

@@ -46,6 +46,11 @@ typedef struct {
      * vorticity of the wall condition; periodic: the halo). */
     void (*fill_vorticity_ring)(const tg_geometry *g, double *zeta, const double *psi);
 
+    /* Fills the ring with zero normal gradient (basin: each wall node takes
+     * the value of its interior neighbour; periodic: the halo), for
+     * coefficient fields such as an eddy viscosity. */
+    void (*fill_ring_extend)(const tg_geometry *g, double *f);
+
     /* Fills the ring of the Laplacian of vorticity, needed for the
      * biharmonic operator (basin: zero on the walls; periodic: the halo). */
     void (*fill_laplacian_ring)(const tg_geometry *g, double *lap);

@@ -18,10 +18,8 @@ void tg_model_destroy(tg_model *m)
 {
     if (!m)
         return;
+    tg_closure_host_destroy(m->closures);
     tg_geometry_destroy(m->geom);
-    for (int c = 0; c < m->nclosures; c++)
-        if (m->closures[c] && m->closures[c]->ops->destroy)
-            m->closures[c]->ops->destroy(m->closures[c]);
     double *arrays[] = {m->q,   m->psi,  m->zeta, m->beta_y, m->wind_forcing, m->phi,
                         m->lap1, m->lap2, m->tend, m->term,  m->q0,           m->rowbuf, m->rowsums};
     for (size_t i = 0; i < sizeof arrays / sizeof arrays[0]; i++)
@@ -126,6 +124,10 @@ tg_model *tg_model_create(const tg_config *cfg, tg_status *st)
     m->term_active[TG_TERM_VISCOSITY] = 1;
     m->term_active[TG_TERM_MEAN_FLOW] = !g->holds_planetary_pv || any_u;
     m->term_active[TG_TERM_CLOSURE] = 1;
+    m->closures = tg_closure_host_create(cfg, m->geom, &m->modes, st);
+    if (!m->closures)
+        goto fail;
+
     /* State of rest: psi = 0, so q = beta (y - y0) in every layer. */
     for (int k = 0; k < m->nl; k++)
         memcpy(m->q + k * m->npl, m->beta_y, sizeof(double) * m->npl);

@@ -29,6 +29,7 @@
 #define TG_MODEL_H
 
 #include "closure.h"
+#include "closure_host.h"
 #include "config.h"
 #include "geometry.h"
 #include "modes.h"
@@ -49,6 +50,9 @@ enum {
 typedef struct {
     double energy[TG_NTERMS];                  /* W kg-1 (m2 s-3) */
     double enstrophy[TG_NTERMS][TG_MAX_LAYERS];/* s-3 */
+    /* Each closure component's share of TG_TERM_CLOSURE, in `use` order. */
+    double comp_energy[TG_MAX_CLOSURES];
+    double comp_enstrophy[TG_MAX_CLOSURES][TG_MAX_LAYERS];
 } tg_term_rates;
 
 typedef struct tg_model {
@@ -87,9 +91,8 @@ typedef struct tg_model {
     long *rowidx;           /* ns */
     int nout;               /* output points per side */
 
-    /* Closures (none registered yet: the hook is called with n = 0). */
-    int nclosures;
-    tg_closure *closures[8];
+    /* Closure components (closure_host.h); never NULL after create. */
+    tg_closure_host *closures;
 } tg_model;
 
 tg_model *tg_model_create(const tg_config *cfg, tg_status *st);

@@ -5,12 +5,17 @@
 
 #include "fdops.h"
 
-static void add_weighted(tg_term_rates *acc, const tg_term_rates *r, double w, int nl)
+static void add_weighted(tg_term_rates *acc, const tg_term_rates *r, double w, int nl, int nc)
 {
     for (int t = 0; t < TG_NTERMS; t++) {
         acc->energy[t] += w * r->energy[t];
         for (int k = 0; k < nl; k++)
             acc->enstrophy[t][k] += w * r->enstrophy[t][k];
+    }
+    for (int c = 0; c < nc; c++) {
+        acc->comp_energy[c] += w * r->comp_energy[c];
+        for (int k = 0; k < nl; k++)
+            acc->comp_enstrophy[c][k] += w * r->comp_enstrophy[c][k];
     }
 }
 
@@ -49,11 +54,14 @@ tg_code tg_step(tg_model *m, tg_term_rates *rates, tg_status *st)
             return rc;
         }
         if (rates)
-            add_weighted(rates, &stage_rates, w[s], m->nl);
+            add_weighted(rates, &stage_rates, w[s], m->nl, tg_closure_host_count(m->closures));
         combine(m, a[s], b[s]);
         if (s == 2)
             m->step++;
         tg_model_derive(m);
     }
-    return TG_OK;
+    /* Closures advance their own variables once per completed step. */
+    tg_closure_input in = {.psi = m->psi, .q = m->q, .zeta = m->zeta, .wall = m->wall,
+                           .step = m->step, .stage = 0};
+    return tg_closure_host_advance(m->closures, &in, st);
 }

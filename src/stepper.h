@@ -7,6 +7,8 @@
  * which is q^{n+1} = q^n + dt (L(q^n)/6 + L(q1)/6 + 2 L(q2)/3). Each term's
  * energy and enstrophy rates are combined with the same weights, so the
  * budget of a step is the rate each term contributed over that step.
+ * After the step, closures with a per-step hook advance their own state
+ * (e.g. the AR(1) noise, held fixed across the stages of a step).
  *
  * Part of twingyre. GPL-3.0-or-later.
  */

@@ -15,28 +15,6 @@
 #include "fdops.h"
 #include "model.h"
 
-/* Zeroes the active block of one layer's term. */
-static void zero_layer(const tg_model *m, double *t)
-{
-    const tg_geometry *g = m->geom;
-    for (int j = g->a0; j < g->a1; j++)
-        memset(t + (long)j * g->ns + g->a0, 0, sizeof(double) * (g->a1 - g->a0));
-}
-
-/* Rates of layer k's part of m->term, added into rates, then tend += term. */
-static void account(tg_model *m, int k, int which, tg_term_rates *rates)
-{
-    const tg_geometry *g = m->geom;
-    const long off = k * m->npl;
-    if (rates) {
-        double ek = tg_sum_prod(g, m->term + off, m->psi + off, m->wall[k], m->rowbuf);
-        double zk = tg_sum_prod(g, m->term + off, m->q + off, 0.0, m->rowbuf);
-        rates->energy[which] += -m->cfg.thickness_m[k] * ek / (m->Htot * g->area);
-        rates->enstrophy[which][k] += zk / g->area;
-    }
-    tg_axpby(g, 1.0, m->tend + off, 1.0, m->term + off);
-}
-
 /* Row sums in row order, times dx^2, as tg_sum_prod forms them. */
 static double rows_total(const tg_geometry *g, const double *rb)
 {
@@ -86,7 +64,6 @@ static void builtin_layer(tg_model *m, int k, int present[F_N])
         tg_laplacian(g, m->lap1, m->lap2);
     }
     const double cw = wind ? 1.0 : 0.0, cd = drag ? -c->bottom_drag_per_s : 0.0;
-    const double cb = -A4;
     const double *wf = m->wind_forcing, *l2 = A4 != 0.0 ? m->lap2 : m->wind_forcing;
 #pragma omp parallel for schedule(static)
     for (int j = a0; j < a1; j++) {
@@ -100,7 +77,7 @@ static void builtin_layer(tg_model *m, int k, int present[F_N])
             const double adv = -rj * tg_arakawa_at(pc, pc + ns, pc - ns, qc, qc + ns, qc - ns, i);
             const double vw = cw * w[i];
             const double vd = cd * zc[i];
-            const double vv = A2 * rl * tg_lap5_at(zc, zc + ns, zc - ns, i) + cb * b2[i];
+            const double vv = tg_visc_at(zc, zc + ns, zc - ns, i, A2 * rl, A4, b2);
             const double vm = cu * tg_ddx2_at(qc, i) + cq * tg_ddx2_at(pc, i);
             const double dp = pc[i] - wall, qq = qc[i];
             o[i] = adv + vw + vd + vv + vm;
@@ -151,21 +128,31 @@ tg_code tg_model_tendency(tg_model *m, int stage, tg_term_rates *rates, tg_statu
         }
     }
 
-    /* Closures: each writes its tendency for every layer into m->term. */
-    for (int ci = 0; ci < m->nclosures; ci++) {
-        tg_closure *cl = m->closures[ci];
-        tg_closure_view v = {
-            .nlayers = nl, .ns = g->ns, .a0 = g->a0, .a1 = g->a1, .dx = g->dx, .dt = m->dt,
-            .step = m->step, .stage = stage, .psi = m->psi, .q = m->q, .zeta = m->zeta,
-            .thickness_m = c->thickness_m,
-        };
-        for (int k = 0; k < nl; k++)
-            zero_layer(m, m->term + k * npl);
-        tg_code rc = cl->ops->add_tendency(cl, &v, m->term, st);
+    /* Closures: the host evaluates every component (closure_host.h); each
+     * component's rates are kept apart and summed into TG_TERM_CLOSURE. */
+    const int nc = tg_closure_host_count(m->closures);
+    if (nc > 0) {
+        tg_closure_input in = {.psi = m->psi, .q = m->q, .zeta = m->zeta, .wall = m->wall,
+                               .step = m->step, .stage = stage};
+        tg_code rc = tg_closure_host_eval(m->closures, &in, st);
         if (rc != TG_OK)
             return rc;
-        for (int k = 0; k < nl; k++)
-            account(m, k, TG_TERM_CLOSURE, rates);
+        for (int ci = 0; ci < nc; ci++) {
+            const double *t = tg_closure_host_tend(m->closures, ci);
+            for (int k = 0; k < nl; k++) {
+                const long off = k * npl;
+                if (rates) {
+                    double ek = tg_sum_prod(g, t + off, m->psi + off, m->wall[k], m->rowbuf);
+                    double zk = tg_sum_prod(g, t + off, m->q + off, 0.0, m->rowbuf);
+                    double e = -c->thickness_m[k] * ek / (m->Htot * g->area);
+                    rates->comp_energy[ci] += e;
+                    rates->energy[TG_TERM_CLOSURE] += e;
+                    rates->comp_enstrophy[ci][k] += zk / g->area;
+                    rates->enstrophy[TG_TERM_CLOSURE][k] += zk / g->area;
+                }
+                tg_axpby(g, 1.0, m->tend + off, 1.0, t + off);
+            }
+        }
     }
     return TG_OK;
 }

@@ -20,6 +20,7 @@ typedef struct {
     int quiet;
     int overwrite;
     int threads;           /* 0: leave OpenMP's default */
+    int member;            /* --member K: ensemble member of stochastic closures */
 } cli_opts;
 
 /* Parses argv[first..] into o. Unknown options are a usage error (message in
@@ -53,6 +54,7 @@ void cli_progress_done(cli_progress *p);
 
 int cmd_run(int argc, char **argv);
 int cmd_describe(int argc, char **argv);
+int cmd_closures(int argc, char **argv);
 
 /* Exit status of a library code (README, "Exit codes"). */
 int cli_exit_code(tg_code code);

@@ -36,7 +36,8 @@ tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts 
         key[kl] = '\0';
         if (!allowed(allow, key))
             return tg_fail(st, TG_ERR_USAGE, "unknown option '%s' (see --help)", a);
-        int takes_value = !strcmp(key, "set") || !strcmp(key, "out") || !strcmp(key, "threads");
+        int takes_value = !strcmp(key, "set") || !strcmp(key, "out") || !strcmp(key, "threads") ||
+                          !strcmp(key, "member");
         if (takes_value) {
             if (eq)
                 val = eq + 1;
@@ -59,6 +60,12 @@ tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts 
             if (*val == '\0' || *end != '\0' || t < 1 || t > 1024)
                 return tg_fail(st, TG_ERR_USAGE, "--threads needs a whole number from 1 to 1024, got '%s'", val);
             o->threads = (int)t;
+        } else if (!strcmp(key, "member")) {
+            char *end;
+            long k = strtol(val, &end, 10);
+            if (*val == '\0' || *end != '\0' || k < 0 || k > 1000000)
+                return tg_fail(st, TG_ERR_USAGE, "--member needs a whole number from 0 to 1000000, got '%s'", val);
+            o->member = (int)k;
         } else if (!strcmp(key, "quiet")) {
             o->quiet = 1;
         } else if (!strcmp(key, "overwrite")) {
@@ -84,6 +91,7 @@ tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st)
             return tg_fail(st, TG_ERR_USAGE, "--out path is too long");
         strcpy(cfg->out_directory, o->out_dir);
     }
+    cfg->member = o->member;
     return tg_config_check(cfg, o->config_path, st);
 }
 

@@ -19,12 +19,14 @@ static void usage(FILE *f)
             "  run CONFIG       run one experiment; writes DIR/fields.nc, DIR/budget.nc,\n"
             "                   DIR/checkpoint.nc\n"
             "  describe CONFIG  print the resolved config and the derived scales\n"
+            "  closures [NAME]  list the closure schemes, their parameters and sources\n"
             "\n"
             "options of run and describe:\n"
             "  --set SECTION.KEY=VALUE  override one config key (repeatable)\n"
             "  --out DIR                output directory (overrides [output] directory)\n"
             "  --overwrite              (run) replace fields.nc and budget.nc already in DIR\n"
             "  --threads N              (run) OpenMP threads (default: OMP_NUM_THREADS)\n"
+            "  --member K               ensemble member of stochastic closures (default 0)\n"
             "  --quiet                  (run) no progress and no summary lines\n"
             "\n"
             "  --help                   this text\n"
@@ -60,6 +62,9 @@ int main(int argc, char **argv)
         return cmd_run(argc, argv);
     if (!strcmp(cmd, "describe"))
         return cmd_describe(argc, argv);
-    fprintf(stderr, "twingyre: unknown command '%s' (commands: run, describe; see --help)\n", cmd);
+    if (!strcmp(cmd, "closures"))
+        return cmd_closures(argc, argv);
+    fprintf(stderr, "twingyre: unknown command '%s' (commands: run, describe, closures; see --help)\n",
+            cmd);
     return 1;
 }

@@ -1,0 +1,595 @@
+/* closure_host.c - resolving, creating and running closure components (closure_host.h). */
+#include "closure_host.h"
+
+#include <dlfcn.h>
+#include <math.h>
+#include <stdarg.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "fdops.h"
+
+/* ------------------------------------------------------------------ */
+/* Plugins                                                             */
+/* ------------------------------------------------------------------ */
+
+const tg_closure_ops *tg_closure_load_plugin(const char *path, tg_status *st)
+{
+    /* The handle stays open for the life of the process: the ops table
+     * and its functions live in the plugin. */
+    void *h = dlopen(path, RTLD_NOW | RTLD_LOCAL);
+    if (!h) {
+        tg_fail(st, TG_ERR_CONFIG, "cannot load closure plugin %s: %s", path, dlerror());
+        return NULL;
+    }
+    void *sym = dlsym(h, TG_CLOSURE_ENTRY);
+    if (!sym) {
+        tg_fail(st, TG_ERR_CONFIG, "closure plugin %s has no function %s()", path,
+                TG_CLOSURE_ENTRY);
+        dlclose(h);
+        return NULL;
+    }
+    const tg_closure_ops *(*entry)(void);
+    memcpy(&entry, &sym, sizeof entry); /* object to function pointer, POSIX-sanctioned */
+    const tg_closure_ops *ops = entry();
+    if (!ops || ops->abi != TG_CLOSURE_ABI || !ops->name || !ops->create || !ops->tendency) {
+        tg_fail(st, TG_ERR_CONFIG,
+                "closure plugin %s: its table is incomplete or built for interface version %d "
+                "(this program has %d); rebuild it against this closure.h",
+                path, ops ? ops->abi : -1, TG_CLOSURE_ABI);
+        return NULL;
+    }
+    return ops;
+}
+
+/* ------------------------------------------------------------------ */
+/* Resolution                                                          */
+/* ------------------------------------------------------------------ */
+
+/* "ORIGIN:LINE: [section] key" or "--set section.key=value". */
+static void where(const tg_raw_entry *e, const char *origin, char *out, size_t n)
+{
+    if (e->line > 0)
+        snprintf(out, n, "%s:%d: [%s] %s", origin ? origin : "config", e->line, e->section,
+                 e->key);
+    else
+        snprintf(out, n, "--set %s.%s=%s", e->section, e->key, e->value);
+}
+
+static char *trim(char *s)
+{
+    while (*s == ' ' || *s == '\t')
+        s++;
+    char *e = s + strlen(s);
+    while (e > s && (e[-1] == ' ' || e[-1] == '\t'))
+        *--e = '\0';
+    return s;
+}
+
+static tg_code parse_param(const tg_closure_param *p, const char *value, double *num, char *text,
+                           char *why, size_t n)
+{
+    char *end;
+    switch (p->kind) {
+    case TG_PARAM_TEXT:
+        if (value[0] == '\0') {
+            snprintf(why, n, "expected a value, got nothing");
+            return TG_ERR_CONFIG;
+        }
+        snprintf(text, TG_RAW_TEXT, "%s", value);
+        *num = 0.0;
+        return TG_OK;
+    case TG_PARAM_BOOL:
+        if (!strcmp(value, "true") || !strcmp(value, "yes") || !strcmp(value, "1"))
+            *num = 1.0;
+        else if (!strcmp(value, "false") || !strcmp(value, "no") || !strcmp(value, "0"))
+            *num = 0.0;
+        else {
+            snprintf(why, n, "expected true or false, got '%s'", value);
+            return TG_ERR_CONFIG;
+        }
+        return TG_OK;
+    case TG_PARAM_INT:
+    case TG_PARAM_REAL: {
+        double v = strtod(value, &end);
+        if (value[0] == '\0' || *end != '\0' || !isfinite(v) ||
+            (p->kind == TG_PARAM_INT && v != floor(v))) {
+            snprintf(why, n, "expected %s from %g to %g, got '%s'",
+                     p->kind == TG_PARAM_INT ? "a whole number" : "a real number", p->lo, p->hi,
+                     value);
+            return TG_ERR_CONFIG;
+        }
+        if (v < p->lo || v > p->hi) {
+            snprintf(why, n, "expected %s from %g to %g, got '%s'",
+                     p->kind == TG_PARAM_INT ? "a whole number" : "a real number", p->lo, p->hi,
+                     value);
+            return TG_ERR_CONFIG;
+        }
+        *num = v;
+        return TG_OK;
+    }
+    }
+    snprintf(why, n, "unknown parameter kind");
+    return TG_ERR_INTERNAL;
+}
+
+tg_code tg_closure_spec_resolve(const tg_config *cfg, const char *origin, tg_closure_spec *spec,
+                                tg_status *st)
+{
+    char at[512], why[512];
+    memset(spec, 0, sizeof *spec);
+    const tg_raw_entry *use = tg_config_raw(cfg, "closure", "use");
+
+    /* 1. The list of components. */
+    if (use) {
+        char list[TG_RAW_TEXT];
+        snprintf(list, sizeof list, "%s", use->value);
+        where(use, origin, at, sizeof at);
+        char *save = NULL;
+        int nnone = 0, nitems = 0;
+        for (char *tok = strtok_r(list, ",", &save); tok; tok = strtok_r(NULL, ",", &save)) {
+            char *name = trim(tok);
+            nitems++;
+            if (name[0] == '\0')
+                return tg_fail(st, TG_ERR_CONFIG, "%s: an empty name in the list", at);
+            if (!strcmp(name, "none")) {
+                nnone++;
+                continue;
+            }
+            if (spec->n >= TG_MAX_CLOSURES)
+                return tg_fail(st, TG_ERR_CONFIG, "%s: at most %d components", at,
+                               TG_MAX_CLOSURES);
+            tg_closure_choice *c = &spec->c[spec->n];
+            snprintf(c->use, sizeof c->use, "%s", name);
+            if (!strncmp(name, "plugin:", 7)) {
+                tg_status ps;
+                tg_status_clear(&ps);
+                c->ops = tg_closure_load_plugin(name + 7, &ps);
+                if (!c->ops)
+                    return tg_fail(st, TG_ERR_CONFIG, "%s: %s", at, ps.msg);
+                snprintf(c->section, sizeof c->section, "plugin.%s", c->ops->name);
+            } else {
+                c->ops = tg_closure_find(name);
+                if (!c->ops) {
+                    const char *names[64];
+                    int nn = tg_closure_count();
+                    for (int i = 0; i < nn && i < 64; i++)
+                        names[i] = tg_closure_ops_at(i)->name;
+                    int s = tg_config_suggest(name, names, nn < 64 ? nn : 64);
+                    if (s >= 0)
+                        return tg_fail(st, TG_ERR_CONFIG,
+                                       "%s: unknown closure '%s'; did you mean %s? "
+                                       "(`twingyre closures` lists them)",
+                                       at, name, names[s]);
+                    return tg_fail(st, TG_ERR_CONFIG,
+                                   "%s: unknown closure '%s' (`twingyre closures` lists them; "
+                                   "a plugin is plugin:PATH.so)",
+                                   at, name);
+                }
+                snprintf(c->section, sizeof c->section, "%s", c->ops->name);
+            }
+            snprintf(c->label, sizeof c->label, "%s", c->ops->name);
+            for (int i = 0; i < spec->n; i++)
+                if (!strcmp(spec->c[i].label, c->label))
+                    return tg_fail(st, TG_ERR_CONFIG, "%s: '%s' is used twice", at, c->label);
+            if (c->ops->nparams > TG_CLOSURE_MAX_PARAMS)
+                return tg_fail(st, TG_ERR_CONFIG, "%s: '%s' has %d parameters (at most %d)", at,
+                               c->label, c->ops->nparams, TG_CLOSURE_MAX_PARAMS);
+            for (int p = 0; p < c->ops->nparams; p++) {
+                const tg_closure_param *pp = &c->ops->params[p];
+                c->params[p] = pp->def;
+                snprintf(c->texts[p], sizeof c->texts[p], "%s",
+                         pp->kind == TG_PARAM_TEXT && pp->def_text ? pp->def_text : "");
+            }
+            spec->n++;
+        }
+        if (nnone && nitems > 1)
+            return tg_fail(st, TG_ERR_CONFIG, "%s: 'none' cannot be combined with schemes", at);
+    }
+
+    /* 2. Every closure key = value. */
+    unsigned char seen[TG_MAX_CLOSURES][TG_CLOSURE_MAX_PARAMS];
+    memset(seen, 0, sizeof seen);
+    for (int r = 0; r < cfg->nraw; r++) {
+        const tg_raw_entry *e = &cfg->raw[r];
+        where(e, origin, at, sizeof at);
+        if (!strcmp(e->section, "closure")) {
+            if (strcmp(e->key, "use") != 0) {
+                const char *cand[] = {"use"};
+                if (tg_config_suggest(e->key, cand, 1) == 0)
+                    return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; did you mean [closure] use?",
+                                   at);
+                return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; [closure] has only 'use'", at);
+            }
+            continue;
+        }
+        tg_closure_choice *c = NULL;
+        int ci = -1;
+        for (int i = 0; i < spec->n; i++)
+            if (!strcmp(spec->c[i].section, e->section)) {
+                c = &spec->c[i];
+                ci = i;
+            }
+        if (!c) {
+            tg_log(TG_LOG_WARN, "%s: ignored, [%s] is not among [closure] use", at, e->section);
+            continue;
+        }
+        int p = -1;
+        for (int i = 0; i < c->ops->nparams; i++)
+            if (!strcmp(c->ops->params[i].key, e->key))
+                p = i;
+        if (p < 0) {
+            const char *names[TG_CLOSURE_MAX_PARAMS];
+            for (int i = 0; i < c->ops->nparams; i++)
+                names[i] = c->ops->params[i].key;
+            int s = tg_config_suggest(e->key, names, c->ops->nparams);
+            if (s >= 0)
+                return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; did you mean [%s] %s?", at,
+                               e->section, names[s]);
+            char keys[512] = "";
+            for (int i = 0; i < c->ops->nparams; i++) {
+                size_t l = strlen(keys);
+                snprintf(keys + l, sizeof keys - l, "%s%s", i ? ", " : "", names[i]);
+            }
+            return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; [%s] has: %s", at, e->section,
+                           c->ops->nparams ? keys : "no keys");
+        }
+        char value[TG_RAW_TEXT];
+        snprintf(value, sizeof value, "%s", e->value);
+        if (parse_param(&c->ops->params[p], trim(value), &c->params[p], c->texts[p], why,
+                        sizeof why) != TG_OK)
+            return tg_fail(st, TG_ERR_CONFIG, "%s: %s", at, why);
+        seen[ci][p] = 1;
+    }
+
+    /* 3. Required text values. */
+    for (int i = 0; i < spec->n; i++) {
+        const tg_closure_choice *c = &spec->c[i];
+        for (int p = 0; p < c->ops->nparams; p++)
+            if (c->ops->params[p].kind == TG_PARAM_TEXT && c->texts[p][0] == '\0')
+                return tg_fail(st, TG_ERR_CONFIG, "%s: [%s] %s is required (%s)",
+                               origin ? origin : "config", c->section, c->ops->params[p].key,
+                               c->ops->params[p].meaning);
+    }
+    return TG_OK;
+}
+
+tg_code tg_closure_check_config(const tg_config *cfg, const char *origin, tg_status *st)
+{
+    tg_closure_spec *spec = malloc(sizeof *spec);
+    if (!spec)
+        return tg_fail(st, TG_ERR_NOMEM, "no memory to check the closure settings");
+    tg_code rc = tg_closure_spec_resolve(cfg, origin, spec, st);
+    free(spec);
+    return rc;
+}
+
+/* Shortest %g form that reads back to the same double. */
+static void fmt_real(double v, char *out, size_t n)
+{
+    for (int prec = 15; prec <= 17; prec++) {
+        snprintf(out, n, "%.*g", prec, v);
+        if (strtod(out, NULL) == v)
+            return;
+    }
+}
+
+char *tg_closure_config_ini(const tg_config *cfg)
+{
+    tg_closure_spec *spec = malloc(sizeof *spec);
+    if (!spec)
+        return NULL;
+    tg_status st;
+    if (tg_closure_spec_resolve(cfg, NULL, spec, &st) != TG_OK) {
+        free(spec);
+        return NULL;
+    }
+    size_t cap = 4096, len = 0;
+    char *s = malloc(cap);
+    if (!s) {
+        free(spec);
+        return NULL;
+    }
+#define OUT(...)                                                                          \
+    do {                                                                                  \
+        int need_ = snprintf(NULL, 0, __VA_ARGS__);                                       \
+        if (len + (size_t)need_ + 1 > cap) {                                              \
+            cap = 2 * (len + (size_t)need_ + 1);                                          \
+            char *t_ = realloc(s, cap);                                                   \
+            if (!t_) {                                                                    \
+                free(s);                                                                  \
+                free(spec);                                                               \
+                return NULL;                                                              \
+            }                                                                             \
+            s = t_;                                                                       \
+        }                                                                                 \
+        len += (size_t)snprintf(s + len, cap - len, __VA_ARGS__);                         \
+    } while (0)
+    OUT("\n[closure]\nuse = ");
+    if (spec->n == 0)
+        OUT("none\n");
+    for (int i = 0; i < spec->n; i++)
+        OUT("%s%s", spec->c[i].use, i + 1 < spec->n ? ", " : "\n");
+    for (int i = 0; i < spec->n; i++) {
+        const tg_closure_choice *c = &spec->c[i];
+        if (c->ops->nparams == 0)
+            continue;
+        OUT("\n[%s]\n", c->section);
+        for (int p = 0; p < c->ops->nparams; p++) {
+            const tg_closure_param *pp = &c->ops->params[p];
+            char v[TG_RAW_TEXT + 8];
+            if (pp->kind == TG_PARAM_TEXT)
+                snprintf(v, sizeof v, "%s", c->texts[p]);
+            else if (pp->kind == TG_PARAM_BOOL)
+                snprintf(v, sizeof v, "%s", c->params[p] != 0.0 ? "true" : "false");
+            else
+                fmt_real(c->params[p], v, sizeof v);
+            char line[TG_RAW_TEXT + 80];
+            snprintf(line, sizeof line, "%s = %s", pp->key, v);
+            if (pp->unit && pp->unit[0])
+                OUT("%-40s ; %s\n", line, pp->unit);
+            else
+                OUT("%s\n", line);
+        }
+    }
+#undef OUT
+    free(spec);
+    return s;
+}
+
+/* ------------------------------------------------------------------ */
+/* Running                                                             */
+/* ------------------------------------------------------------------ */
+
+struct tg_closure_host {
+    tg_geometry *g;
+    int nl;
+    long npl;
+    double dt;
+    int n;
+    tg_closure_spec spec;
+    void *state[TG_MAX_CLOSURES];
+    double *tend[TG_MAX_CLOSURES];     /* nl*npl each */
+    const char *names[TG_MAX_CLOSURES];
+    const double *tends[TG_MAX_CLOSURES];
+    double *u, *v;                     /* nl*npl */
+    double *lap1, *lap2;               /* npl, for the viscosity tool */
+    double S[TG_MAX_LAYERS * TG_MAX_LAYERS];
+    tg_closure_tools tools;
+};
+
+static void t_laplacian(void *ctx, const double *f, double *out)
+{
+    tg_closure_host *h = ctx;
+    tg_laplacian(h->g, f, out);
+}
+static void t_jacobian(void *ctx, const double *a, const double *b, double *out)
+{
+    tg_closure_host *h = ctx;
+    tg_jacobian(h->g, a, b, out);
+}
+static void t_ddx(void *ctx, const double *f, double *out)
+{
+    tg_closure_host *h = ctx;
+    tg_ddx(h->g, f, out);
+}
+static void t_ddy(void *ctx, const double *f, double *out)
+{
+    tg_closure_host *h = ctx;
+    tg_ddy(h->g, f, out);
+}
+static void t_div_nu_grad(void *ctx, const double *nu, const double *f, double *out)
+{
+    tg_closure_host *h = ctx;
+    tg_div_nu_grad(h->g, nu, f, out);
+}
+static void t_viscosity(void *ctx, const double *zeta, double A2, double A4, double *out)
+{
+    tg_closure_host *h = ctx;
+    tg_viscosity_layer(h->g, zeta, A2, A4, h->lap1, h->lap2, out);
+}
+static void t_fill_ring(void *ctx, double *f, tg_ring_kind how)
+{
+    tg_closure_host *h = ctx;
+    if (how == TG_RING_EXTEND)
+        h->g->ops->fill_ring_extend(h->g, f);
+    else
+        h->g->ops->fill_ring(h->g, f, 0.0);
+}
+static void t_filter(void *ctx, double *f, double width)
+{
+    tg_closure_host *h = ctx;
+    h->g->ops->filter_gaussian(h->g, f, width);
+}
+
+void tg_closure_host_destroy(tg_closure_host *h)
+{
+    if (!h)
+        return;
+    for (int c = 0; c < h->n; c++) {
+        if (h->state[c] && h->spec.c[c].ops->destroy)
+            h->spec.c[c].ops->destroy(h->state[c]);
+        free(h->tend[c]);
+    }
+    free(h->u);
+    free(h->v);
+    free(h->lap1);
+    free(h->lap2);
+    free(h);
+}
+
+tg_closure_host *tg_closure_host_create(const tg_config *cfg, tg_geometry *g, const tg_modes *md,
+                                        tg_status *st)
+{
+    tg_closure_host *h = calloc(1, sizeof *h);
+    if (!h) {
+        tg_fail(st, TG_ERR_NOMEM, "closures: no memory");
+        return NULL;
+    }
+    if (tg_closure_spec_resolve(cfg, NULL, &h->spec, st) != TG_OK) {
+        free(h);
+        return NULL;
+    }
+    h->g = g;
+    h->nl = cfg->nlayers;
+    h->npl = (long)g->ns * g->ns;
+    h->dt = cfg->step_s;
+    h->tools = (tg_closure_tools){.ctx = h, .laplacian = t_laplacian, .jacobian = t_jacobian,
+                                  .ddx = t_ddx, .ddy = t_ddy, .div_nu_grad = t_div_nu_grad,
+                                  .viscosity = t_viscosity, .fill_ring = t_fill_ring,
+                                  .filter_gaussian = t_filter};
+    for (int k = 0; k < h->nl; k++)
+        for (int j = 0; j < h->nl; j++)
+            h->S[k * h->nl + j] = md->S[k][j];
+    if (h->spec.n == 0)
+        return h;
+    const long nf = h->nl * h->npl;
+    h->u = calloc((size_t)nf, sizeof(double));
+    h->v = calloc((size_t)nf, sizeof(double));
+    h->lap1 = calloc((size_t)h->npl, sizeof(double));
+    h->lap2 = calloc((size_t)h->npl, sizeof(double));
+    if (!h->u || !h->v || !h->lap1 || !h->lap2) {
+        tg_fail(st, TG_ERR_NOMEM, "closures: no memory for work arrays");
+        tg_closure_host_destroy(h);
+        return NULL;
+    }
+    for (int c = 0; c < h->spec.n; c++) {
+        tg_closure_choice *ch = &h->spec.c[c];
+        h->tend[c] = calloc((size_t)nf, sizeof(double));
+        if (!h->tend[c]) {
+            tg_fail(st, TG_ERR_NOMEM, "closures: no memory for the tendency of %s", ch->label);
+            tg_closure_host_destroy(h);
+            return NULL;
+        }
+        h->n = c + 1;
+        h->names[c] = ch->label;
+        h->tends[c] = h->tend[c];
+        const char *texts[TG_CLOSURE_MAX_PARAMS];
+        for (int p = 0; p < TG_CLOSURE_MAX_PARAMS; p++)
+            texts[p] = ch->texts[p];
+        tg_closure_setup s = {.nlayers = h->nl, .ns = g->ns, .a0 = g->a0, .a1 = g->a1,
+                              .dx = g->dx, .length = g->length, .dt = h->dt,
+                              .thickness_m = cfg->thickness_m,
+                              .reduced_gravity = cfg->reduced_gravity_m_s2,
+                              .f0 = cfg->coriolis_f0_per_s, .beta = cfg->beta_per_m_per_s,
+                              .stretching = h->S, .seed = cfg->seed, .member = cfg->member,
+                              .params = ch->params, .texts = texts, .config_dir = "",
+                              .tools = &h->tools};
+        tg_status cs;
+        tg_status_clear(&cs);
+        if (ch->ops->create(&s, &h->state[c], &cs) != TG_OK) {
+            tg_fail(st, cs.code ? cs.code : TG_ERR_CONFIG, "closure %s: %s", ch->label, cs.msg);
+            tg_closure_host_destroy(h);
+            return NULL;
+        }
+    }
+    return h;
+}
+
+int tg_closure_host_count(const tg_closure_host *h)
+{
+    return h ? h->n : 0;
+}
+
+const char *tg_closure_host_label(const tg_closure_host *h, int c)
+{
+    return h->spec.c[c].label;
+}
+
+const tg_closure_ops *tg_closure_host_ops(const tg_closure_host *h, int c)
+{
+    return h->spec.c[c].ops;
+}
+
+const double *tg_closure_host_tend(const tg_closure_host *h, int c)
+{
+    return h->tend[c];
+}
+
+/* Velocities u = -psi_y, v = psi_x on the active nodes; rings extended. */
+static void velocities(tg_closure_host *h, const double *psi)
+{
+    for (int k = 0; k < h->nl; k++) {
+        double *u = h->u + k * h->npl, *v = h->v + k * h->npl;
+        tg_ddy(h->g, psi + k * h->npl, u);
+        tg_axpby(h->g, -1.0, u, 0.0, u);
+        tg_ddx(h->g, psi + k * h->npl, v);
+        h->g->ops->fill_ring_extend(h->g, u);
+        h->g->ops->fill_ring_extend(h->g, v);
+    }
+}
+
+static tg_closure_view make_view(tg_closure_host *h, const tg_closure_input *in, int ndone)
+{
+    const tg_geometry *g = h->g;
+    return (tg_closure_view){.nlayers = h->nl, .ns = g->ns, .a0 = g->a0, .a1 = g->a1,
+                             .dx = g->dx, .dt = h->dt, .step = in->step, .stage = in->stage,
+                             .psi = in->psi, .q = in->q, .zeta = in->zeta, .u = h->u, .v = h->v,
+                             .wall = in->wall, .ndone = ndone, .done_names = h->names,
+                             .done_tend = h->tends, .tools = &h->tools};
+}
+
+tg_code tg_closure_host_eval(tg_closure_host *h, const tg_closure_input *in, tg_status *st)
+{
+    if (!h || h->n == 0)
+        return TG_OK;
+    velocities(h, in->psi);
+    for (int c = 0; c < h->n; c++) {
+        const tg_closure_choice *ch = &h->spec.c[c];
+        tg_closure_view v = make_view(h, in, c);
+        memset(h->tend[c], 0, sizeof(double) * h->nl * h->npl);
+        tg_status cs;
+        tg_status_clear(&cs);
+        if (ch->ops->tendency(h->state[c], &v, h->tend[c], &cs) != TG_OK)
+            return tg_fail(st, cs.code ? cs.code : TG_ERR_NUMERIC, "closure %s at step %ld: %s",
+                           ch->label, in->step, cs.msg);
+    }
+    return TG_OK;
+}
+
+tg_code tg_closure_host_advance(tg_closure_host *h, const tg_closure_input *in, tg_status *st)
+{
+    if (!h || h->n == 0)
+        return TG_OK;
+    int any = 0;
+    for (int c = 0; c < h->n; c++)
+        any |= h->spec.c[c].ops->advance != NULL;
+    if (!any)
+        return TG_OK;
+    velocities(h, in->psi);
+    for (int c = 0; c < h->n; c++) {
+        const tg_closure_choice *ch = &h->spec.c[c];
+        if (!ch->ops->advance)
+            continue;
+        tg_closure_view v = make_view(h, in, c);
+        tg_status cs;
+        tg_status_clear(&cs);
+        if (ch->ops->advance(h->state[c], &v, &cs) != TG_OK)
+            return tg_fail(st, cs.code ? cs.code : TG_ERR_NUMERIC, "closure %s after step %ld: %s",
+                           ch->label, in->step, cs.msg);
+    }
+    return TG_OK;
+}
+
+size_t tg_closure_host_state_size(const tg_closure_host *h, int c)
+{
+    const tg_closure_ops *o = h->spec.c[c].ops;
+    return (o->state_size && o->state_save && o->state_load) ? o->state_size(h->state[c]) : 0;
+}
+
+void tg_closure_host_state_save(const tg_closure_host *h, int c, double *buf)
+{
+    const tg_closure_ops *o = h->spec.c[c].ops;
+    if (o->state_save)
+        o->state_save(h->state[c], buf);
+}
+
+tg_code tg_closure_host_state_load(tg_closure_host *h, int c, const double *buf, size_t n,
+                                   tg_status *st)
+{
+    const tg_closure_ops *o = h->spec.c[c].ops;
+    if (!o->state_load)
+        return TG_OK;
+    return o->state_load(h->state[c], buf, n, st);
+}
