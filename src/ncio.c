@@ -251,15 +251,58 @@ struct tg_fields_file {
     int ncid;
     char *path;
     int nx, ny, nlayers;
-    int v_time, v_psi, v_q;
+    int nbins;   /* 0: the file has no spectrum */
+    int v_time, v_psi, v_q, v_spec;
     size_t nrec; /* records written */
 };
 
-tg_fields_file *tg_fields_create(const char *path, const tg_nc_grid *g, tg_status *st)
+/* The wavenumber dimension and coordinate, and ke_spectrum(time, layer,
+ * wavenumber), in define mode. */
+static tg_code def_spectrum(int ncid, const char *path, const tg_nc_wavenumbers *wn, int d_time,
+                            int d_layer, int *v_k, int *v_spec, tg_status *st)
+{
+    tg_code code;
+    int d_k;
+    if ((code = nc_check(nc_def_dim(ncid, "wavenumber", (size_t)wn->nbins, &d_k), path,
+                         "defining dimension \"wavenumber\"", NULL, st)) ||
+        (code = nc_check(nc_def_var(ncid, "wavenumber", NC_DOUBLE, 1, &d_k, v_k), path,
+                         "defining the variable", "wavenumber", st)) ||
+        (code = put_text(ncid, *v_k, "units", "rad m-1", path, "wavenumber", st)) ||
+        (code = put_text(ncid, *v_k, "long_name", "isotropic wavenumber, bin centre", path,
+                         "wavenumber", st)) ||
+        (code = nc_check(nc_put_att_double(ncid, *v_k, "bin_width", NC_DOUBLE, 1,
+                                           &wn->bin_width),
+                         path, "writing attribute \"bin_width\"", "wavenumber", st)) ||
+        (code = put_text(ncid, *v_k, "comment",
+                         "bin b holds the wavenumbers K with k_b - bin_width/2 <= K < "
+                         "k_b + bin_width/2; bin_width is in rad m-1",
+                         path, "wavenumber", st)))
+        return code;
+    int dims[3] = {d_time, d_layer, d_k};
+    if ((code = nc_check(nc_def_var(ncid, "ke_spectrum", NC_DOUBLE, 3, dims, v_spec), path,
+                         "defining the variable", "ke_spectrum", st)) ||
+        (code = put_text(ncid, *v_spec, "units", "m3 s-2", path, "ke_spectrum", st)) ||
+        (code = put_text(ncid, *v_spec, "long_name",
+                         "kinetic energy spectral density per unit mass; its sum times the bin "
+                         "width equals kinetic_energy in budget.nc",
+                         path, "ke_spectrum", st)))
+        return code;
+    return TG_OK;
+}
+
+tg_fields_file *tg_fields_create(const char *path, const tg_nc_grid *g,
+                                 const tg_nc_wavenumbers *wn, tg_status *st)
 {
     tg_code code;
     if (check_grid(path, g, st))
         return NULL;
+    if (wn && (wn->nbins < 1 || !wn->k || !(wn->bin_width > 0.0))) {
+        tg_fail(st, TG_ERR_INTERNAL,
+                "%s: wavenumber axis is incomplete (need nbins >= 1, bin centres and a bin "
+                "width > 0; got %d bins, width %g rad/m)",
+                path, wn->nbins, wn->bin_width);
+        return NULL;
+    }
 
     tg_fields_file *f = calloc(1, sizeof *f);
     if (!f) {
@@ -276,10 +319,12 @@ tg_fields_file *tg_fields_create(const char *path, const tg_nc_grid *g, tg_statu
     f->nx = g->nx;
     f->ny = g->ny;
     f->nlayers = g->nlayers;
+    f->nbins = wn ? wn->nbins : 0;
+    f->v_spec = -1;
 
     int ncid = -1;
     grid_ids ids;
-    int d_time;
+    int d_time, v_k = -1;
     NC_TRY(nc_create(path, NC_CLOBBER | NC_64BIT_OFFSET, &ncid), "creating the file", NULL);
     int old_fill;
     NC_TRY(nc_set_fill(ncid, NC_NOFILL, &old_fill), "setting no-fill mode", NULL);
@@ -293,12 +338,16 @@ tg_fields_file *tg_fields_create(const char *path, const tg_nc_grid *g, tg_statu
     int dims[4] = {d_time, ids.d_layer, ids.d_y, ids.d_x};
     if ((code = def_psi_q(ncid, path, 4, dims, &f->v_psi, &f->v_q, st)))
         goto fail;
+    if (wn && (code = def_spectrum(ncid, path, wn, d_time, ids.d_layer, &v_k, &f->v_spec, st)))
+        goto fail;
     if ((code = put_globals(ncid, path, g, "twingyre snapshots of streamfunction and potential "
                                            "vorticity", st)))
         goto fail;
     NC_TRY(nc_enddef(ncid), "finishing the header", NULL);
     if ((code = put_grid(ncid, path, g, &ids, st)))
         goto fail;
+    if (wn)
+        NC_TRY(nc_put_var_double(ncid, v_k, wn->k), "writing coordinates", "wavenumber");
     NC_TRY(nc_sync(ncid), "syncing the file", NULL);
     f->ncid = ncid;
     return f;
@@ -312,10 +361,15 @@ fail:
 }
 
 tg_code tg_fields_append(tg_fields_file *f, double time_s, const double *psi, const double *q,
-                         tg_status *st)
+                         const double *ke_spectrum, tg_status *st)
 {
     if (!f || !psi || !q)
         return tg_fail(st, TG_ERR_INTERNAL, "fields append: missing file handle or data");
+    if ((f->nbins > 0) != (ke_spectrum != NULL))
+        return tg_fail(st, TG_ERR_INTERNAL,
+                       "%s: fields append: %s", f->path,
+                       f->nbins > 0 ? "the file has ke_spectrum but no spectrum was given"
+                                    : "a spectrum was given but the file has no ke_spectrum");
     tg_code code;
     const char *path = f->path;
     double days = time_s / TG_SECONDS_PER_DAY;
@@ -325,6 +379,12 @@ tg_code tg_fields_append(tg_fields_file *f, double time_s, const double *psi, co
     NC_TRY(nc_put_var1_double(f->ncid, f->v_time, &t, &days), "writing a record", "time");
     NC_TRY(nc_put_vara_double(f->ncid, f->v_psi, start, count, psi), "writing a record", "psi");
     NC_TRY(nc_put_vara_double(f->ncid, f->v_q, start, count, q), "writing a record", "q");
+    if (f->nbins > 0) {
+        size_t sstart[3] = {t, 0, 0};
+        size_t scount[3] = {1, (size_t)f->nlayers, (size_t)f->nbins};
+        NC_TRY(nc_put_vara_double(f->ncid, f->v_spec, sstart, scount, ke_spectrum),
+               "writing a record", "ke_spectrum");
+    }
     NC_TRY(nc_sync(f->ncid), "syncing the file", NULL);
     f->nrec = t + 1;
     return TG_OK;

@@ -11,7 +11,8 @@
  * source ("twingyre VERSION"), history (UTC creation time and command line),
  * command_line and resolved_config. Coordinates: layer (int, 1 at the top),
  * y and x (double, m, projection_y/x_coordinate, distance from the domain
- * origin), time (double, days, calendar noleap).
+ * origin), time (double, days, calendar noleap) and, in fields.nc when asked
+ * for, wavenumber (double, rad m-1, the spectrum's bin centres).
  *
  * Arrays passed in and out are contiguous: value (layer k, y index j,
  * x index i) at [(k*ny + j)*nx + i].
@@ -35,17 +36,36 @@ typedef struct {
     const char *title;        /* global attribute "title" */
 } tg_nc_grid;
 
-/* ---- fields.nc: snapshots of psi (m2 s-1) and q (s-1), dims (time, layer, y, x) ---- */
+/* ---- fields.nc: snapshots of psi (m2 s-1) and q (s-1), dims (time, layer, y, x),
+ *      and optionally the kinetic-energy spectrum ke_spectrum (m3 s-2),
+ *      dims (time, layer, wavenumber) ---- */
 typedef struct tg_fields_file tg_fields_file;
+
+/* The wavenumber axis of ke_spectrum (spectrum.h makes one per geometry). */
+typedef struct {
+    int nbins;             /* >= 1 */
+    const double *k;       /* nbins bin centres, rad m-1 */
+    double bin_width;      /* rad m-1, > 0: sum_b E_b bin_width is the layer's kinetic energy */
+} tg_nc_wavenumbers;
 
 /* Creates (clobbering) the file. The time coordinate is in days with CF units
  * "days since 0001-01-01 00:00:00" and calendar "noleap": model day 0 is the
- * start of an idealized year 1 (no real date is implied). */
-tg_fields_file *tg_fields_create(const char *path, const tg_nc_grid *g, tg_status *st);
+ * start of an idealized year 1 (no real date is implied).
+ * wn (may be NULL: no spectrum in the file) adds the dimension and
+ * coordinate variable "wavenumber" (units "rad m-1", with the double
+ * attribute bin_width in rad m-1) and the variable
+ * ke_spectrum(time, layer, wavenumber), the kinetic energy per unit mass per
+ * unit wavenumber, whose sum over wavenumber times bin_width equals
+ * kinetic_energy of budget.nc at the same time. wn is read during the call only. */
+tg_fields_file *tg_fields_create(const char *path, const tg_nc_grid *g,
+                                 const tg_nc_wavenumbers *wn, tg_status *st);
 /* Appends one snapshot at model time `time_s` (seconds since the experiment's day 0);
- * psi and q are nlayers*ny*nx. Syncs the file so it is readable if the run dies. */
+ * psi and q are nlayers*ny*nx. ke_spectrum is nlayers*nbins, layer k bin b
+ * at [k*nbins + b]; it is required when the file was created with
+ * wavenumbers and must be NULL otherwise (TG_ERR_INTERNAL). Syncs the file
+ * so it is readable if the run dies. */
 tg_code tg_fields_append(tg_fields_file *f, double time_s, const double *psi, const double *q,
-                         tg_status *st);
+                         const double *ke_spectrum, tg_status *st);
 /* Closes and frees (frees even on error). */
 tg_code tg_fields_close(tg_fields_file *f, tg_status *st);
 

@@ -1,5 +1,6 @@
 /* run.c - the experiment driver (run.h): initial state, stepping, output,
- * faults and stop requests. Everything is allocated before the first step. */
+ * faults and stop requests. Everything is allocated before the first step,
+ * including the kinetic-energy spectrum written with each snapshot. */
 #define _POSIX_C_SOURCE 200809L
 #include "run.h"
 
@@ -16,6 +17,7 @@
 #include "fdops.h"
 #include "model.h"
 #include "ncio.h"
+#include "spectrum.h"
 #include "stepper.h"
 
 #ifndef PACKAGE_VERSION
@@ -56,23 +58,94 @@ typedef struct {
     const tg_config *cfg;
     tg_nc_grid grid;
     double *psi_out, *q_out;
+    tg_spectrum *spec;   /* one layer's spectrum, made at set-up */
+    double *spec_out;    /* nl*nbins, layer k at k*nbins: what a snapshot writes */
     char path_fields[TG_PATH_LEN + 16], path_budget[TG_PATH_LEN + 16], path_ckpt[TG_PATH_LEN + 16];
+    /* Closure components' own state, written to the checkpoint as extras. */
+    int nextra;
+    char extra_name[TG_MAX_CLOSURES][96];
+    const char *extra_names[TG_MAX_CLOSURES];
+    double *extra_buf[TG_MAX_CLOSURES];
+    const double *extra_data[TG_MAX_CLOSURES];
+    size_t extra_len[TG_MAX_CLOSURES];
+    int extra_comp[TG_MAX_CLOSURES];
 } run_ctx;
+
+/* Buffers for the closure components that keep their own state. */
+static tg_code setup_extras(run_ctx *c, tg_status *st)
+{
+    const tg_closure_host *h = c->m->closures;
+    for (int k = 0; k < tg_closure_host_count(h); k++) {
+        size_t n = tg_closure_host_state_size(h, k);
+        if (n == 0)
+            continue;
+        int e = c->nextra;
+        snprintf(c->extra_name[e], sizeof c->extra_name[e], "closure_state_%s",
+                 tg_closure_host_label(h, k));
+        c->extra_buf[e] = malloc(sizeof(double) * n);
+        if (!c->extra_buf[e])
+            return tg_fail(st, TG_ERR_NOMEM, "run: no memory for the state of closure %s",
+                           tg_closure_host_label(h, k));
+        c->extra_names[e] = c->extra_name[e];
+        c->extra_data[e] = c->extra_buf[e];
+        c->extra_len[e] = n;
+        c->extra_comp[e] = k;
+        c->nextra++;
+    }
+    return TG_OK;
+}
+
+/* Resumes the closures' own state from a checkpoint; a checkpoint written
+ * without that component leaves the component's fresh state (with a warning). */
+static tg_code load_extras(run_ctx *c, const char *path, tg_status *st)
+{
+    for (int e = 0; e < c->nextra; e++) {
+        tg_status rs;
+        tg_status_clear(&rs);
+        if (tg_checkpoint_read_extra(path, c->extra_name[e], c->extra_buf[e], c->extra_len[e],
+                                     &rs) != TG_OK) {
+            tg_log(TG_LOG_WARN, "%s: no %s of the right size (%s); closure %s starts afresh", path,
+                   c->extra_name[e], rs.msg, tg_closure_host_label(c->m->closures, c->extra_comp[e]));
+            continue;
+        }
+        tg_code rc = tg_closure_host_state_load(c->m->closures, c->extra_comp[e], c->extra_buf[e],
+                                                c->extra_len[e], st);
+        if (rc != TG_OK)
+            return rc;
+    }
+    return TG_OK;
+}
 
 static tg_code write_checkpoint(run_ctx *c, tg_status *st)
 {
     tg_model_pack(c->m, c->m->psi, c->psi_out);
     tg_model_pack(c->m, c->m->q, c->q_out);
+    for (int e = 0; e < c->nextra; e++)
+        tg_closure_host_state_save(c->m->closures, c->extra_comp[e], c->extra_buf[e]);
     tg_checkpoint ck = {.time_s = c->m->time_s, .step = c->m->step, .psi = c->psi_out,
-                        .q = c->q_out, .nextra = 0};
+                        .q = c->q_out, .nextra = c->nextra, .extra_names = c->extra_names,
+                        .extra_data = c->extra_data, .extra_len = c->extra_len};
     return tg_checkpoint_write(c->path_ckpt, &c->grid, &ck, st);
 }
 
+/* Writes psi, q and each layer's kinetic-energy spectrum. The spectrum reads
+ * the derived psi (with its wall value) and only scratch of the geometry,
+ * so the state, and hence the run, does not depend on when snapshots are
+ * taken. */
 static tg_code write_snapshot(run_ctx *c, tg_fields_file *f, tg_status *st)
 {
-    tg_model_pack(c->m, c->m->psi, c->psi_out);
-    tg_model_pack(c->m, c->m->q, c->q_out);
-    return tg_fields_append(f, c->m->time_s, c->psi_out, c->q_out, st);
+    tg_model *m = c->m;
+    tg_code rc;
+    const int nb = c->spec->nbins;
+    for (int k = 0; k < m->nl; k++) {
+        if ((rc = tg_spectrum_compute(c->spec, m->geom, m->psi + k * m->npl, m->wall[k], st)) !=
+            TG_OK)
+            return rc;
+        memcpy(c->spec_out + (size_t)k * nb, c->spec->e, sizeof(double) * (size_t)nb);
+    }
+    tg_model_pack(m, m->psi, c->psi_out);
+    tg_model_pack(m, m->q, c->q_out);
+    return tg_fields_append(f, m->time_s, c->psi_out, c->q_out, c->spec_out, st);
 }
 
 static tg_code initial_state(run_ctx *c, long nsteps, tg_status *st)
@@ -101,6 +174,9 @@ static tg_code initial_state(run_ctx *c, long nsteps, tg_status *st)
                                nsteps);
             m->step = info.step;
             tg_model_set_q(m, c->q_out);
+            tg_code rc2 = load_extras(c, cfg->initial_path, st);
+            if (rc2 != TG_OK)
+                return rc2;
         } else {
             tg_model_set_psi(m, c->psi_out);
         }
@@ -165,10 +241,21 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
     const long nout3 = (long)m->nl * m->nout * m->nout;
     c.psi_out = malloc(sizeof(double) * nout3);
     c.q_out = malloc(sizeof(double) * nout3);
-    rec = malloc(sizeof(double) * (8 * TG_NTERMS + 8) * TG_MAX_LAYERS);
+    rec = malloc(sizeof(double) * TG_BUDGET_MAX_VARS * TG_MAX_LAYERS);
     cfg_text = tg_config_to_ini(cfg);
     if (!c.psi_out || !c.q_out || !rec || !cfg_text) {
         rc = tg_fail(st, TG_ERR_NOMEM, "run: no memory for output buffers");
+        goto done;
+    }
+    c.spec = tg_spectrum_create(m->geom, st);
+    if (!c.spec) {
+        rc = st->code ? st->code : TG_ERR_INTERNAL;
+        goto done;
+    }
+    c.spec_out = malloc(sizeof(double) * (size_t)m->nl * (size_t)c.spec->nbins);
+    if (!c.spec_out) {
+        rc = tg_fail(st, TG_ERR_NOMEM, "run: no memory for %d layers of %d spectrum bins",
+                     m->nl, c.spec->nbins);
         goto done;
     }
 
@@ -180,6 +267,8 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
                                ? steps_for(cfg->log_every_days, dt) : 1;
     const long ckpt_every = steps_for(cfg->checkpoint_every_days, dt);
 
+    if ((rc = setup_extras(&c, st)) != TG_OK)
+        goto done;
     if ((rc = initial_state(&c, nsteps, st)) != TG_OK)
         goto done;
 
@@ -191,12 +280,21 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
                           .config_text = cfg_text,
                           .command_line = opt->command_line ? opt->command_line : "",
                           .title = "twingyre layered quasi-geostrophic experiment"};
-    ff = tg_fields_create(c.path_fields, &c.grid, st);
+    const tg_nc_wavenumbers wn = {.nbins = c.spec->nbins, .k = c.spec->k,
+                                  .bin_width = c.spec->dk};
+    ff = tg_fields_create(c.path_fields, &c.grid, &wn, st);
     if (!ff) {
         rc = st->code;
         goto done;
     }
     tg_budget_layout_init(&lay, m->nl, m->term_active);
+    {
+        const char *labels[TG_MAX_CLOSURES];
+        int nc = tg_closure_host_count(m->closures);
+        for (int k = 0; k < nc; k++)
+            labels[k] = tg_closure_host_label(m->closures, k);
+        tg_budget_layout_components(&lay, nc, labels);
+    }
     bf = tg_budget_create(c.path_budget, &c.grid, lay.var, lay.n, st);
     if (!bf) {
         rc = st->code;
@@ -333,6 +431,10 @@ done:
     free(rec);
     free(c.psi_out);
     free(c.q_out);
+    for (int e = 0; e < c.nextra; e++)
+        free(c.extra_buf[e]);
+    free(c.spec_out);
+    tg_spectrum_destroy(c.spec);
     tg_model_destroy(c.m);
     return rc;
 }

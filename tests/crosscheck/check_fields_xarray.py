@@ -1,6 +1,8 @@
 #!/usr/bin/python3
 """check_fields_xarray.py - opens twingyre's fields.nc and budget.nc with
-xarray (an independent netCDF/CF reader) and checks the CF-1.8 metadata.
+xarray (an independent netCDF/CF reader) and checks the CF-1.8 metadata, and
+that the kinetic-energy spectrum of each snapshot adds up to the kinetic
+energy of the budget record at the same time.
 
 Usage: /usr/bin/python3 check_fields_xarray.py FIELDS.nc BUDGET.nc
 
@@ -11,6 +13,18 @@ section numbers from memory): 2.6.1 (Conventions attribute), 3.1 (units),
 cftime), and the standard name table (projection_x_coordinate,
 projection_y_coordinate, time).
 
+The spectrum check: ke_spectrum(time, layer, wavenumber) summed over
+wavenumber and multiplied by the bin width (attribute bin_width of
+wavenumber) must equal kinetic_energy(time, layer) of budget.nc to 1e-10
+relative. The spectrum is normalized so that this is Parseval's relation for
+the discrete Fourier (periodic) or type-I sine (basin) transform, with the
+eigenvalue of the five-point Laplacian as the |K|^2 weight (Parseval's
+theorem for the DFT: Press et al. 2007, Numerical Recipes 3rd ed., section
+12.1, section number from memory; src/spectrum.h). The budget record at the
+same time is the state the snapshot holds (a record describes the step that
+ends at its time); day 0 of a fresh run has a snapshot but no budget record
+and is skipped.
+
 Prints one line per check, then "N passed, N failed" as the last line; exits
 1 when a check failed, 2 when the files cannot be opened.
 
@@ -18,6 +32,8 @@ Part of twingyre. GPL-3.0-or-later.
 """
 import datetime
 import sys
+
+SPECTRUM_RTOL = 1e-10
 
 try:
     import cftime
@@ -107,6 +123,100 @@ def check_fields(c, path):
                     f"{label}: layer runs 1..N", f"got {list(layers)}")
         else:
             c.check(False, f"{label}: has layer", f"no variable 'layer' in {path}")
+        check_spectrum_metadata(c, ds, path, label)
+
+
+def check_spectrum_metadata(c, ds, path, label):
+    """wavenumber coordinate and ke_spectrum(time, layer, wavenumber) (CF-1.8
+    1.3 coordinate variables, 3.1 units, 3.2 long_name)."""
+    if "wavenumber" not in ds.variables:
+        c.check(False, f"{label}: has wavenumber", f"no variable 'wavenumber' in {path}")
+        return
+    k = ds["wavenumber"]
+    c.check(k.dims == ("wavenumber",), f"{label}: wavenumber is a coordinate on dim wavenumber",
+            f"dims {k.dims}")
+    check_attr(c, k, "units", "rad m-1", label)
+    check_attr(c, k, "long_name", "isotropic wavenumber, bin centre", label)
+    width = k.attrs.get("bin_width")
+    ok = width is not None and float(width) > 0.0
+    c.check(ok, f"{label}: wavenumber:bin_width is a positive number", f"got {width!r}")
+    if ok:
+        kv = k.values
+        d = kv[1:] - kv[:-1]
+        c.check(kv.size >= 1 and abs(kv[0] - width) <= 1e-12 * width
+                and bool((abs(d - width) <= 1e-12 * width).all()),
+                f"{label}: wavenumber bin centres are b * bin_width, b = 1, 2, ...",
+                f"first {kv[:3]}, bin_width {width}")
+    if "ke_spectrum" not in ds.variables:
+        c.check(False, f"{label}: has ke_spectrum", f"no variable 'ke_spectrum' in {path}")
+        return
+    v = ds["ke_spectrum"]
+    c.check(v.dims == ("time", "layer", "wavenumber"),
+            f"{label}: ke_spectrum dims (time, layer, wavenumber)", f"got {v.dims}")
+    check_attr(c, v, "units", "m3 s-2", label)
+    c.check(bool(v.attrs.get("long_name")), f"{label}: ke_spectrum has a long_name")
+    vals = v.values
+    c.check(bool((vals >= 0.0).all()) and bool(abs(vals).max() < float("inf")),
+            f"{label}: ke_spectrum is finite and non-negative",
+            f"min {vals.min()!r}, max {vals.max()!r}")
+
+
+def check_spectrum_sum(c, fields_path, budget_path):
+    """sum(ke_spectrum * bin_width) == budget kinetic_energy at the same time."""
+    label = "spectrum"
+    # Raw day numbers: the same double time_s / 86400 in both files.
+    with xr.open_dataset(fields_path, decode_times=False) as f, \
+            xr.open_dataset(budget_path, decode_times=False) as b:
+        for name, ds, path in (("ke_spectrum", f, fields_path), ("kinetic_energy", b, budget_path)):
+            if name not in ds.variables:
+                c.check(False, f"{label}: has {name}", f"no variable {name!r} in {path}")
+                return
+        width = float(f["wavenumber"].attrs["bin_width"])
+        spec = f["ke_spectrum"].transpose("time", "layer", "wavenumber").values
+        ke = b["kinetic_energy"].transpose("time", "layer").values
+        ft = f["time"].values
+        bt = b["time"].values
+        if ke.shape[1] != spec.shape[1]:
+            c.check(False, f"{label}: same layer count in both files",
+                    f"{spec.shape[1]} vs {ke.shape[1]}")
+            return
+        matched = 0
+        worst = 0.0
+        worst_at = None
+        for i, t in enumerate(ft):
+            hits = [j for j, u in enumerate(bt) if abs(u - t) <= 1e-9 * max(1.0, abs(t))]
+            if not hits:
+                if bt.size == 0 or t < bt[0]:
+                    print(f"# {label}: snapshot at day {t:g} precedes the first budget record "
+                          "(the initial state); skipped")
+                    continue
+                c.check(False, f"{label}: snapshot at day {t:g} has a budget record",
+                        "no budget record at that time")
+                continue
+            if len(hits) > 1:
+                c.check(False, f"{label}: one budget record at day {t:g}",
+                        f"{len(hits)} records")
+                continue
+            j = hits[0]
+            total = spec[i].sum(axis=-1) * width
+            for k in range(ke.shape[1]):
+                den = max(abs(ke[j, k]), 1e-300)
+                rel = abs(total[k] - ke[j, k]) / den
+                if not rel <= worst:  # also catches NaN
+                    worst, worst_at = rel, (t, k + 1, total[k], ke[j, k])
+            matched += 1
+        c.check(matched > 0, f"{label}: some snapshot has a budget record at its time",
+                f"snapshot days {list(ft)}, budget days {bt[:3]}..{bt[-3:]}")
+        if matched:
+            detail = ""
+            if worst_at is not None:
+                t, k, tot, e = worst_at
+                detail = (f"worst at day {t:g}, layer {k}: sum E dk = {tot!r}, "
+                          f"kinetic_energy = {e!r}, relative difference {worst:.3e}")
+            c.check(worst <= SPECTRUM_RTOL,
+                    f"{label}: sum(ke_spectrum) * bin_width equals kinetic_energy to "
+                    f"{SPECTRUM_RTOL:g} relative at {matched} snapshot(s) "
+                    f"(worst {worst:.2e})", detail)
 
 
 def check_budget(c, path):
@@ -138,13 +248,15 @@ def main(argv):
         print("0 passed, 1 failed")
         return 2
     c = Checks()
-    for check, path in ((check_fields, argv[1]), (check_budget, argv[2])):
+    for check, paths in ((check_fields, argv[1:2]), (check_budget, argv[2:3]),
+                         (check_spectrum_sum, argv[1:3])):
         try:
-            check(c, path)
+            check(c, *paths)
         except Exception as exc:  # a crash in a check is a failed check, not a traceback
-            c.check(False, f"{check.__name__} ran to the end", f"{path}: {type(exc).__name__}: {exc}")
+            c.check(False, f"{check.__name__} ran to the end",
+                    f"{' / '.join(paths)}: {type(exc).__name__}: {exc}")
     if c.failed:
-        print(f"FAILED: {c.failed} CF metadata check(s) failed for {argv[1]} / {argv[2]}")
+        print(f"FAILED: {c.failed} check(s) failed for {argv[1]} / {argv[2]}")
     print(f"{c.passed} passed, {c.failed} failed")
     return 1 if c.failed else 0
 

@@ -1,5 +1,6 @@
-/* test_ncio.c - Check suite for src/ncio.c: fields, budget, checkpoint files
- * and reading an initial state.
+/* test_ncio.c - Check suite for src/ncio.c: fields (with and without the
+ * kinetic-energy spectrum), budget, checkpoint files and reading an initial
+ * state.
  *
  * Files are written into a fresh directory under $TMPDIR (removed at the end),
  * or into $TG_TEST_OUTDIR when set (kept, so tests/crosscheck/
@@ -49,6 +50,34 @@ static void fill_field(double *a, int rec, int nl, int ny, int nx, int which)
         for (int j = 0; j < ny; j++)
             for (int i = 0; i < nx; i++)
                 a[((size_t)k * ny + j) * nx + i] = field_value(rec, k, j, i, which);
+}
+
+/* Spectrum values of record rec, layer k, bin b (full mantissas, positive). */
+static double spectrum_value(int rec, int k, int b)
+{
+    return 1.0e-2 / 3.0 * (1.5 + cos(0.53 * b + 1.7 * k + 0.29 * rec)) / (b + 1.0);
+}
+
+static void fill_spectrum(double *a, int rec, int nl, int nbins)
+{
+    for (int k = 0; k < nl; k++)
+        for (int b = 0; b < nbins; b++)
+            a[(size_t)k * nbins + b] = spectrum_value(rec, k, b);
+}
+
+/* A wavenumber axis like a 1000/3 km basin's: bin b at (b + 1) dk. */
+typedef struct {
+    double k[16];
+    tg_nc_wavenumbers w;
+} test_wavenumbers;
+
+static void make_wavenumbers(test_wavenumbers *t, int nbins)
+{
+    t->w.nbins = nbins;
+    t->w.bin_width = 3.14159265358979323846 / (1.0e6 / 3.0);
+    for (int b = 0; b < nbins; b++)
+        t->k[b] = (b + 1) * t->w.bin_width;
+    t->w.k = t->k;
 }
 
 typedef struct {
@@ -101,37 +130,46 @@ static size_t dim_len(int ncid, const char *name)
     return n;
 }
 
-/* Writes a fields file of `nrec` records; used by several tests. */
-static void write_fields(const char *path, int nx, int ny, int nl, int nrec)
+/* Writes a fields file of `nrec` records with a spectrum of `nbins` bins
+ * (0: no spectrum); used by several tests. */
+static void write_fields(const char *path, int nx, int ny, int nl, int nbins, int nrec)
 {
     test_grid t;
+    test_wavenumbers w;
     make_grid(&t, nx, ny, nl);
+    make_wavenumbers(&w, nbins);
     size_t n = (size_t)nl * ny * nx;
     double *psi = malloc(n * sizeof *psi), *q = malloc(n * sizeof *q);
+    double *spec = nbins > 0 ? malloc((size_t)nl * nbins * sizeof *spec) : NULL;
     ck_assert_ptr_nonnull(psi);
     ck_assert_ptr_nonnull(q);
+    ck_assert(nbins == 0 || spec != NULL);
     tg_status st;
     tg_status_clear(&st);
-    tg_fields_file *f = tg_fields_create(path, &t.g, &st);
+    tg_fields_file *f = tg_fields_create(path, &t.g, nbins > 0 ? &w.w : NULL, &st);
     ck_assert_msg(f != NULL, "%s", st.msg);
     for (int r = 0; r < nrec; r++) {
         fill_field(psi, r, nl, ny, nx, 0);
         fill_field(q, r, nl, ny, nx, 1);
-        ck_assert_int_eq(tg_fields_append(f, 86400.0 * 1.5 * r, psi, q, &st), TG_OK);
+        if (spec)
+            fill_spectrum(spec, r, nl, nbins);
+        ck_assert_msg(tg_fields_append(f, 86400.0 * 1.5 * r, psi, q, spec, &st) == TG_OK, "%s",
+                      st.msg);
     }
     ck_assert_msg(tg_fields_close(f, &st) == TG_OK, "%s", st.msg);
     free(psi);
     free(q);
+    free(spec);
 }
 
 /* ---- fields.nc ---- */
 
 START_TEST(test_fields_round_trip)
 {
-    enum { NX = 5, NY = 4, NL = 2, NREC = 3 };
+    enum { NX = 5, NY = 4, NL = 2, NB = 6, NREC = 3 };
     char path[4200];
     path_in_dir(path, sizeof path, "fields.nc");
-    write_fields(path, NX, NY, NL, NREC);
+    write_fields(path, NX, NY, NL, NB, NREC);
 
     int ncid, fmt;
     ck_assert_int_eq(nc_open(path, NC_NOWRITE, &ncid), NC_NOERR);
@@ -141,6 +179,7 @@ START_TEST(test_fields_round_trip)
     ck_assert_uint_eq(dim_len(ncid, "layer"), NL);
     ck_assert_uint_eq(dim_len(ncid, "y"), NY);
     ck_assert_uint_eq(dim_len(ncid, "x"), NX);
+    ck_assert_uint_eq(dim_len(ncid, "wavenumber"), NB);
     int unlim;
     ck_assert_int_eq(nc_inq_unlimdim(ncid, &unlim), NC_NOERR);
     int dtime;
@@ -169,6 +208,13 @@ START_TEST(test_fields_round_trip)
     assert_att(ncid, "y", "standard_name", "projection_y_coordinate");
     assert_att(ncid, "psi", "units", "m2 s-1");
     assert_att(ncid, "q", "units", "s-1");
+    /* CF-1.8 section 3.1 (units: udunits strings), 3.2 (long_name). */
+    assert_att(ncid, "wavenumber", "units", "rad m-1");
+    assert_att(ncid, "wavenumber", "long_name", "isotropic wavenumber, bin centre");
+    assert_att(ncid, "ke_spectrum", "units", "m3 s-2");
+    assert_att(ncid, "ke_spectrum", "long_name",
+               "kinetic energy spectral density per unit mass; its sum times the bin width "
+               "equals kinetic_energy in budget.nc");
 
     int v, ndims, dimids[4], layer[NL];
     ck_assert_int_eq(nc_inq_varid(ncid, "psi", &v), NC_NOERR);
@@ -180,6 +226,44 @@ START_TEST(test_fields_round_trip)
     ck_assert_int_eq(nc_get_var_int(ncid, v, layer), NC_NOERR);
     for (int k = 0; k < NL; k++)
         ck_assert_int_eq(layer[k], k + 1);
+
+    /* ke_spectrum(time, layer, wavenumber); wavenumber a coordinate variable
+     * (CF-1.8 section 1.3: a 1-D variable named after its dimension). */
+    int dlayer, dk;
+    ck_assert_int_eq(nc_inq_dimid(ncid, "layer", &dlayer), NC_NOERR);
+    ck_assert_int_eq(nc_inq_dimid(ncid, "wavenumber", &dk), NC_NOERR);
+    ck_assert_int_eq(nc_inq_varid(ncid, "ke_spectrum", &v), NC_NOERR);
+    ck_assert_int_eq(nc_inq_varndims(ncid, v, &ndims), NC_NOERR);
+    ck_assert_int_eq(ndims, 3);
+    ck_assert_int_eq(nc_inq_vardimid(ncid, v, dimids), NC_NOERR);
+    ck_assert_int_eq(dimids[0], dtime);
+    ck_assert_int_eq(dimids[1], dlayer);
+    ck_assert_int_eq(dimids[2], dk);
+    test_wavenumbers w;
+    make_wavenumbers(&w, NB);
+    double ks[NB], width = 0.0;
+    nc_type wtype;
+    size_t wlen;
+    ck_assert_int_eq(nc_inq_varid(ncid, "wavenumber", &v), NC_NOERR);
+    ck_assert_int_eq(nc_inq_varndims(ncid, v, &ndims), NC_NOERR);
+    ck_assert_int_eq(ndims, 1);
+    ck_assert_int_eq(nc_inq_vardimid(ncid, v, dimids), NC_NOERR);
+    ck_assert_int_eq(dimids[0], dk);
+    ck_assert_int_eq(nc_get_var_double(ncid, v, ks), NC_NOERR);
+    ck_assert_mem_eq(ks, w.k, sizeof ks);
+    ck_assert_int_eq(nc_inq_att(ncid, v, "bin_width", &wtype, &wlen), NC_NOERR);
+    ck_assert_int_eq(wtype, NC_DOUBLE);
+    ck_assert_uint_eq(wlen, 1);
+    ck_assert_int_eq(nc_get_att_double(ncid, v, "bin_width", &width), NC_NOERR);
+    ck_assert_double_eq(width, w.w.bin_width);
+    double sgot[NL * NB], swant[NL * NB];
+    ck_assert_int_eq(nc_inq_varid(ncid, "ke_spectrum", &v), NC_NOERR);
+    for (int r = 0; r < NREC; r++) {
+        size_t start[3] = {(size_t)r, 0, 0}, count[3] = {1, NL, NB};
+        ck_assert_int_eq(nc_get_vara_double(ncid, v, start, count, sgot), NC_NOERR);
+        fill_spectrum(swant, r, NL, NB);
+        ck_assert_mem_eq(sgot, swant, sizeof sgot);
+    }
 
     test_grid t;
     make_grid(&t, NX, NY, NL);
@@ -236,13 +320,17 @@ START_TEST(test_fields_killed_writer)
         /* Child: write three records and vanish without closing the file. */
         double psi[NL * NY * NX], q[NL * NY * NX];
         tg_status st;
-        tg_fields_file *f = tg_fields_create(path, &t.g, &st);
+        double spec[NL * 4];
+        test_wavenumbers w;
+        make_wavenumbers(&w, 4);
+        tg_fields_file *f = tg_fields_create(path, &t.g, &w.w, &st);
         if (!f)
             _exit(2);
         for (int r = 0; r < 3; r++) {
             fill_field(psi, r, NL, NY, NX, 0);
             fill_field(q, r, NL, NY, NX, 1);
-            if (tg_fields_append(f, 86400.0 * r, psi, q, &st) != TG_OK)
+            fill_spectrum(spec, r, NL, 4);
+            if (tg_fields_append(f, 86400.0 * r, psi, q, spec, &st) != TG_OK)
                 _exit(3);
         }
         _exit(0);
@@ -255,6 +343,13 @@ START_TEST(test_fields_killed_writer)
     int ncid;
     ck_assert_int_eq(nc_open(path, NC_NOWRITE, &ncid), NC_NOERR);
     ck_assert_uint_eq(dim_len(ncid, "time"), 3);
+    double sgot[NL * 4], swant[NL * 4];
+    int v;
+    ck_assert_int_eq(nc_inq_varid(ncid, "ke_spectrum", &v), NC_NOERR);
+    size_t start[3] = {2, 0, 0}, count[3] = {1, NL, 4};
+    ck_assert_int_eq(nc_get_vara_double(ncid, v, start, count, sgot), NC_NOERR);
+    fill_spectrum(swant, 2, NL, 4);
+    ck_assert_mem_eq(sgot, swant, sizeof sgot);
     ck_assert_int_eq(nc_close(ncid), NC_NOERR);
 
     double psi[NL * NY * NX], q[NL * NY * NX], want[NL * NY * NX];
@@ -536,7 +631,7 @@ START_TEST(test_initial_mismatch)
 {
     char path[4200];
     path_in_dir(path, sizeof path, "mismatch_fields.nc");
-    write_fields(path, 5, 4, 2, 2);
+    write_fields(path, 5, 4, 2, 3, 2);
     double buf[3 * 6 * 5];
     tg_status st;
     tg_status_clear(&st);
@@ -587,7 +682,7 @@ START_TEST(test_initial_bad_files)
 
     /* A fields file with no records yet. */
     path_in_dir(path, sizeof path, "empty_fields.nc");
-    write_fields(path, 2, 2, 1, 0);
+    write_fields(path, 2, 2, 1, 0, 0);
     ck_assert_int_eq(tg_initial_read(path, 2, 2, 1, buf, NULL, NULL, &st), TG_ERR_IO);
     ck_assert_msg(strstr(st.msg, "no records") != NULL, "message: %s", st.msg);
 
@@ -612,7 +707,7 @@ START_TEST(test_unwritable_directory)
     tg_status_clear(&st);
 
     path_in_dir(path, sizeof path, "no_such_dir/fields.nc");
-    ck_assert_ptr_null(tg_fields_create(path, &t.g, &st));
+    ck_assert_ptr_null(tg_fields_create(path, &t.g, NULL, &st));
     ck_assert_int_eq(st.code, TG_ERR_IO);
     ck_assert_msg(strstr(st.msg, path) != NULL, "message: %s", st.msg);
     ck_assert_msg(strstr(st.msg, "creating the file failed") != NULL, "message: %s", st.msg);
@@ -641,7 +736,7 @@ START_TEST(test_bad_arguments)
     tg_status_clear(&st);
     char path[4200];
     path_in_dir(path, sizeof path, "bad_grid.nc");
-    ck_assert_ptr_null(tg_fields_create(path, &t.g, &st));
+    ck_assert_ptr_null(tg_fields_create(path, &t.g, NULL, &st));
     ck_assert_int_eq(st.code, TG_ERR_INTERNAL);
     make_grid(&t, 3, 3, 2);
     const tg_budget_var bad = {"energy_total", "J m-2", "total energy", 3};
@@ -652,12 +747,69 @@ START_TEST(test_bad_arguments)
 }
 END_TEST
 
+/* A file without a spectrum has neither wavenumber nor ke_spectrum; a
+ * spectrum given to the wrong kind of file, or an incomplete wavenumber
+ * axis, is the caller's mistake (TG_ERR_INTERNAL). */
+START_TEST(test_fields_spectrum_optional)
+{
+    enum { NX = 3, NY = 3, NL = 2, NB = 4 };
+    char path[4200];
+    test_grid t;
+    test_wavenumbers w;
+    make_grid(&t, NX, NY, NL);
+    make_wavenumbers(&w, NB);
+    double psi[NL * NY * NX], q[NL * NY * NX], spec[NL * NB];
+    fill_field(psi, 0, NL, NY, NX, 0);
+    fill_field(q, 0, NL, NY, NX, 1);
+    fill_spectrum(spec, 0, NL, NB);
+    tg_status st;
+    tg_status_clear(&st);
+
+    path_in_dir(path, sizeof path, "fields_no_spectrum.nc");
+    tg_fields_file *f = tg_fields_create(path, &t.g, NULL, &st);
+    ck_assert_msg(f != NULL, "%s", st.msg);
+    ck_assert_int_eq(tg_fields_append(f, 0.0, psi, q, spec, &st), TG_ERR_INTERNAL);
+    ck_assert_msg(strstr(st.msg, "the file has no ke_spectrum") != NULL, "message: %s", st.msg);
+    ck_assert_msg(tg_fields_append(f, 0.0, psi, q, NULL, &st) == TG_OK, "%s", st.msg);
+    ck_assert_msg(tg_fields_close(f, &st) == TG_OK, "%s", st.msg);
+    int ncid, id;
+    ck_assert_int_eq(nc_open(path, NC_NOWRITE, &ncid), NC_NOERR);
+    ck_assert_uint_eq(dim_len(ncid, "time"), 1);
+    ck_assert_int_eq(nc_inq_dimid(ncid, "wavenumber", &id), NC_EBADDIM);
+    ck_assert_int_eq(nc_inq_varid(ncid, "ke_spectrum", &id), NC_ENOTVAR);
+    ck_assert_int_eq(nc_close(ncid), NC_NOERR);
+
+    path_in_dir(path, sizeof path, "fields_spectrum_missing.nc");
+    f = tg_fields_create(path, &t.g, &w.w, &st);
+    ck_assert_msg(f != NULL, "%s", st.msg);
+    ck_assert_int_eq(tg_fields_append(f, 0.0, psi, q, NULL, &st), TG_ERR_INTERNAL);
+    ck_assert_msg(strstr(st.msg, "no spectrum was given") != NULL, "message: %s", st.msg);
+    ck_assert_msg(tg_fields_close(f, &st) == TG_OK, "%s", st.msg);
+
+    path_in_dir(path, sizeof path, "fields_bad_axis.nc");
+    tg_nc_wavenumbers bad = w.w;
+    bad.bin_width = 0.0;
+    ck_assert_ptr_null(tg_fields_create(path, &t.g, &bad, &st));
+    ck_assert_int_eq(st.code, TG_ERR_INTERNAL);
+    ck_assert_msg(strstr(st.msg, "wavenumber axis") != NULL, "message: %s", st.msg);
+    bad = w.w;
+    bad.nbins = 0;
+    ck_assert_ptr_null(tg_fields_create(path, &t.g, &bad, &st));
+    ck_assert_int_eq(st.code, TG_ERR_INTERNAL);
+    bad = w.w;
+    bad.k = NULL;
+    ck_assert_ptr_null(tg_fields_create(path, &t.g, &bad, &st));
+    ck_assert_int_eq(st.code, TG_ERR_INTERNAL);
+}
+END_TEST
+
 static Suite *ncio_suite(void)
 {
     Suite *s = suite_create("ncio");
     TCase *tc = tcase_create("files");
     tcase_add_test(tc, test_fields_round_trip);
     tcase_add_test(tc, test_fields_killed_writer);
+    tcase_add_test(tc, test_fields_spectrum_optional);
     tcase_add_test(tc, test_budget_buffering);
     tcase_add_test(tc, test_budget_one_layer);
     tcase_add_test(tc, test_checkpoint_round_trip);
