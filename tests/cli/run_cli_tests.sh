@@ -698,6 +698,20 @@ else
     notok "found at least 10 bad configs in tests/cli/bad" "found $nbad in $BAD"
 fi
 
+# The closure listing: every registered scheme with its parameters and source.
+tg closures
+if [ "$rc" -eq 0 ] && has "viscosity_m2_per_s" "$T/out" && has "source:" "$T/out"; then
+    ok "closures lists the schemes with their parameters and sources"
+else
+    notok "closures lists the schemes with their parameters and sources" "$(err_tail)"
+fi
+tg closures no_such_scheme
+if [ "$rc" -eq 1 ] && has "no closure scheme named" "$T/err"; then
+    ok "closures NAME with an unknown name: exit 1 and a message"
+else
+    notok "closures NAME with an unknown name: exit 1 and a message" "$(err_tail)"
+fi
+
 # Bad --set assignments.
 tg run "$SMALL" --out "$T/bad_set1" --quiet --set time.step_s
 expect_bad set1 "--set time.step_s (no '=')" 2 "--set time.step_s" "no '='"
