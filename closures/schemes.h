@@ -8,3 +8,14 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 TG_SCHEME(viscosity)
+TG_SCHEME(smagorinsky)
+TG_SCHEME(smagorinsky_biharmonic)
+TG_SCHEME(leith)
+TG_SCHEME(leith_qg)
+TG_SCHEME(gradient_model)
+TG_SCHEME(stochastic_additive)
+TG_SCHEME(stochastic_scaling)
+TG_SCHEME(coefficients)
+TG_SCHEME(backscatter)
+TG_SCHEME(backscatter_budget)
+TG_SCHEME(thickness_diffusion)

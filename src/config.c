@@ -78,12 +78,17 @@ static const char *const wind_names[] = {
     [TG_WIND_DOUBLE_GYRE] = "double_gyre", [TG_WIND_SINGLE_GYRE] = "single_gyre",
     [TG_WIND_NONE] = "none", NULL};
 
+static const char *const twin_filter_names[] = {
+    [TG_TWIN_FILTER_SHARP] = "sharp", [TG_TWIN_FILTER_GAUSSIAN] = "gaussian", NULL};
+
 static int get_geometry(const tg_config *c) { return (int)c->geometry; }
 static void put_geometry(tg_config *c, int v) { c->geometry = (tg_geometry_kind)v; }
 static int get_wall(const tg_config *c) { return (int)c->wall_condition; }
 static void put_wall(tg_config *c, int v) { c->wall_condition = (tg_wall_kind)v; }
 static int get_wind(const tg_config *c) { return (int)c->wind_profile; }
 static void put_wind(tg_config *c, int v) { c->wind_profile = (tg_wind_kind)v; }
+static int get_twin_filter(const tg_config *c) { return (int)c->twin_filter; }
+static void put_twin_filter(tg_config *c, int v) { c->twin_filter = (tg_twin_filter)v; }
 
 /* Row indices; the table below is indexed by them, in reference order. */
 enum {
@@ -96,6 +101,8 @@ enum {
     K_STEP, K_DURATION, K_MAX_CFL,
     K_INITIAL_STATE, K_NOISE, K_SEED,
     K_OUT_DIRECTORY, K_SNAPSHOT_EVERY, K_CHECKPOINT_EVERY, K_LOG_EVERY,
+    K_TWIN_REF_POINTS, K_TWIN_COARSE_POINTS, K_TWIN_SPINUP, K_TWIN_ANALYSIS, K_TWIN_SAMPLE,
+    K_TWIN_COMPARE, K_TWIN_MEMBERS, K_TWIN_FILTER, K_TWIN_WIDTH,
     K_COUNT
 };
 
@@ -253,6 +260,59 @@ static const key_row rows[K_COUNT] = {
         .info = {"output", "log_every_days", "days", "real", "30", "> 0, at least one step",
                  "interval between budget summary lines in the log"},
         .off = OFF(log_every_days), REAL_GT0("a real number > 0")},
+
+    /* [twin]: read by `twingyre twin` only (twin.h) */
+    [K_TWIN_REF_POINTS] = {
+        .info = {"twin", "reference_points", "", "integer", "513",
+                 "like [grid] points (basin 2^k + 1, periodic 2^k), more than coarse_points",
+                 "grid points per side of the fine reference run of a twin experiment"},
+        .kind = V_INT, .off = OFF(twin_reference_points), .lo_kind = B_INCL, .lo = 16,
+        .hi_kind = B_INCL, .hi = 4097,
+        .expect = "an integer from 16 to 4097 (2^k + 1 for a basin, 2^k for periodic geometry)"},
+    [K_TWIN_COARSE_POINTS] = {
+        .info = {"twin", "coarse_points", "", "integer", "129",
+                 "like [grid] points; coarse spacing = r x reference spacing, r an integer >= 2",
+                 "grid points per side of the coarse runs (e.g. 513 -> 129 is r = 4)"},
+        .kind = V_INT, .off = OFF(twin_coarse_points), .lo_kind = B_INCL, .lo = 16,
+        .hi_kind = B_INCL, .hi = 4097,
+        .expect = "an integer from 16 to 4097 (2^k + 1 for a basin, 2^k for periodic geometry)"},
+    [K_TWIN_SPINUP] = {
+        .info = {"twin", "spinup_days", "days", "real", "3600",
+                 ">= 0, a whole number of reference steps",
+                 "reference run before the analysis window starts (from [initial] state)"},
+        .off = OFF(twin_spinup_days), REAL_GE0("a real number >= 0")},
+    [K_TWIN_ANALYSIS] = {
+        .info = {"twin", "analysis_days", "days", "real", "1800",
+                 "> 0, a whole number of sample intervals",
+                 "length of the analysis window: sampled reference and coarse runs"},
+        .off = OFF(twin_analysis_days), REAL_GT0("a real number > 0")},
+    [K_TWIN_SAMPLE] = {
+        .info = {"twin", "sample_every_days", "days", "real", "10",
+                 "> 0, a whole number of steps of both the reference and the coarse runs",
+                 "interval between samples (subgrid.nc records, coarse-run snapshots)"},
+        .off = OFF(twin_sample_every_days), REAL_GT0("a real number > 0")},
+    [K_TWIN_COMPARE] = {
+        .info = {"twin", "compare", "", "text", "none",
+                 "comma-separated closure names (`twingyre closures`), plugin:PATH.so or none; "
+                 "at most 7 besides none",
+                 "closures of the coarse runs, one coarse run each; none (no closure) is always run"},
+        .kind = V_TEXT, .off = OFF(twin_compare),
+        .expect = "a comma-separated list of closure names"},
+    [K_TWIN_MEMBERS] = {
+        .info = {"twin", "members", "", "integer", "3", "1 to 100",
+                 "ensemble members run for each stochastic closure (deterministic ones run once)"},
+        .kind = V_INT, .off = OFF(twin_members), .lo_kind = B_INCL, .lo = 1, .hi_kind = B_INCL,
+        .hi = 100, .expect = "an integer from 1 to 100"},
+    [K_TWIN_FILTER] = {
+        .info = {"twin", "filter", "", "choice", "gaussian", "sharp, gaussian",
+                 "coarse-graining filter: sharp spectral cutoff at the coarse grid, or Gaussian"},
+        .kind = V_CHOICE, .choices = twin_filter_names, .get = get_twin_filter,
+        .put = put_twin_filter, .expect = "one of sharp, gaussian"},
+    [K_TWIN_WIDTH] = {
+        .info = {"twin", "filter_width_factor", "", "real", "2", "> 0, at most 16",
+                 "Gaussian filter width in coarse grid spacings (filter = gaussian only)"},
+        .kind = V_REAL, .off = OFF(twin_filter_width_factor), .lo_kind = B_EXCL, .lo = 0.0,
+        .hi_kind = B_INCL, .hi = 16.0, .expect = "a real number > 0 and at most 16"},
 };
 
 #undef REAL_GT0
@@ -302,9 +362,57 @@ static int closure_section(const char *section)
            (strncmp(section, "plugin.", 7) == 0 && section[7] != '\0');
 }
 
+/* [twin.reference] and [twin.coarse]: overrides kept as written. */
+static int twin_override_section(const char *section)
+{
+    return strcmp(section, "twin.reference") == 0 || strcmp(section, "twin.coarse") == 0;
+}
+
 static int section_exists(const char *section)
 {
-    return core_section_exists(section) || closure_section(section);
+    return core_section_exists(section) || closure_section(section) ||
+           twin_override_section(section);
+}
+
+/* Stores one twin override "section.key = value"; returns 0 or writes why. */
+static int store_twin_raw(tg_config *cfg, const char *section, const char *key,
+                          const char *value, int line, char *why, size_t n)
+{
+    if (strlen(key) >= sizeof cfg->twin_raw[0].key ||
+        strlen(value) >= sizeof cfg->twin_raw[0].value) {
+        snprintf(why, n, "key or value too long (at most %zu and %zu characters)",
+                 sizeof cfg->twin_raw[0].key - 1, sizeof cfg->twin_raw[0].value - 1);
+        return -1;
+    }
+    const char *dot = strchr(key, '.');
+    if (!dot || dot == key || dot[1] == '\0') {
+        snprintf(why, n, "expected an override written as section.key = value "
+                         "(e.g. dissipation.viscosity_m2_per_s = 500)");
+        return -1;
+    }
+    for (int i = 0; i < cfg->ntwin_raw; i++) {
+        tg_raw_entry *e = &cfg->twin_raw[i];
+        if (strcmp(e->section, section) == 0 && strcmp(e->key, key) == 0) {
+            if (line > 0 && e->line > 0) {
+                snprintf(why, n, "set twice, on line %d and again on line %d; keep one", e->line,
+                         line);
+                return -1;
+            }
+            snprintf(e->value, sizeof e->value, "%s", value);
+            e->line = line;
+            return 0;
+        }
+    }
+    if (cfg->ntwin_raw >= TG_MAX_TWIN_RAW) {
+        snprintf(why, n, "too many twin overrides (at most %d)", TG_MAX_TWIN_RAW);
+        return -1;
+    }
+    tg_raw_entry *e = &cfg->twin_raw[cfg->ntwin_raw++];
+    snprintf(e->section, sizeof e->section, "%s", section);
+    snprintf(e->key, sizeof e->key, "%s", key);
+    snprintf(e->value, sizeof e->value, "%s", value);
+    e->line = line;
+    return 0;
 }
 
 /* Stores one closure key = value; returns 0 or writes why. */
@@ -1111,6 +1219,13 @@ static int on_pair(void *user, const char *section, const char *name, const char
         }
         return 1;
     }
+    if (twin_override_section(section)) {
+        if (store_twin_raw(c->work, section, name, value, line, why, sizeof why) != 0) {
+            load_fail(c, line, "[%s] %s: %s", section, name, why);
+            return 0;
+        }
+        return 1;
+    }
     int i = tg_config_key_index(section, name);
     if (i < 0) {
         explain_unknown_key(section, name, STYLE_FILE, why, sizeof why);
@@ -1298,6 +1413,16 @@ tg_code tg_config_set(tg_config *cfg, const char *assignment, tg_status *st)
     }
     char *section = trim(lhs, dot);
     char *key = trim(dot + 1, dot + 1 + strlen(dot + 1));
+    /* twin.reference.SECTION.KEY and twin.coarse.SECTION.KEY: overrides. */
+    if (strcmp(section, "twin") == 0 &&
+        (strncmp(key, "reference.", 10) == 0 || strncmp(key, "coarse.", 7) == 0)) {
+        char tsec[32];
+        size_t tl = strcspn(key, ".");
+        snprintf(tsec, sizeof tsec, "twin.%.*s", (int)tl, key);
+        if (store_twin_raw(cfg, tsec, key + tl + 1, value, 0, why, sizeof why) != 0)
+            return tg_fail(st, TG_ERR_CONFIG, "--set %s: %s", assignment, why);
+        return TG_OK;
+    }
     if (section[0] == '\0' || key[0] == '\0')
         return tg_fail(st, TG_ERR_CONFIG, "--set %s: expected section.key=value, the %s is empty",
                        assignment, section[0] ? "key" : "section");
@@ -1599,6 +1724,19 @@ char *tg_config_to_ini(const tg_config *cfg)
         else
             sb_printf(&b, "%s\n", line);
     }
+    for (int w = 0; w < 2; w++) {
+        const char *sec = w ? "twin.coarse" : "twin.reference";
+        int header = 0;
+        for (int i = 0; i < cfg->ntwin_raw; i++) {
+            const tg_raw_entry *e = &cfg->twin_raw[i];
+            if (strcmp(e->section, sec) != 0)
+                continue;
+            if (!header)
+                sb_printf(&b, "\n[%s]\n", sec);
+            header = 1;
+            sb_printf(&b, "%s = %s\n", e->key, e->value);
+        }
+    }
     char *cl = tg_closure_config_ini(cfg);
     if (cl) {
         sb_printf(&b, "%s", cl);
@@ -1641,4 +1779,210 @@ void tg_config_print_reference(FILE *out)
         md_cell(out, k->meaning);
         fputs("|\n", out);
     }
+}
+
+/* ------------------------------------------------------------------ */
+/* Twin experiments: [twin] rules and the derived configs              */
+/* ------------------------------------------------------------------ */
+
+/* Keys a twin sets itself; `coarse_only` ones may still be overridden for
+ * the reference. */
+static const struct {
+    const char *key;
+    int coarse_only;
+    const char *why;
+} twin_fixed[] = {
+    {"grid.geometry", 0, "both runs share the domain"},
+    {"grid.size_km", 0, "both runs share the domain"},
+    {"grid.points", 0, "use [twin] reference_points and coarse_points"},
+    {"layers.thickness_m", 0, "both runs need the same layers"},
+    {"layers.reduced_gravity_m_s2", 0, "both runs need the same layers"},
+    {"time.duration_days", 0, "the twin sets it from [twin] spinup_days and analysis_days"},
+    {"output.directory", 0, "the twin writes into its own output directory"},
+    {"initial.state", 1, "coarse runs start from the coarse-grained reference"},
+    {"output.snapshot_every_days", 1, "coarse runs write a snapshot at every [twin] sample"},
+    {"closure.use", 1, "[twin] compare chooses the closure of each coarse run"},
+};
+
+tg_code tg_config_twin_derive(const tg_config *base, int coarse, const char *origin,
+                              tg_config *out, tg_status *st)
+{
+    if (!base || !out)
+        return tg_fail(st, TG_ERR_INTERNAL, "tg_config_twin_derive: NULL argument");
+    const char *sec = coarse ? "twin.coarse" : "twin.reference";
+    const char *file = origin ? origin : "config file";
+    *out = *base;
+    out->points = coarse ? base->twin_coarse_points : base->twin_reference_points;
+    out->ntwin_raw = 0;
+    for (int r = 0; r < base->ntwin_raw; r++) {
+        const tg_raw_entry *e = &base->twin_raw[r];
+        if (strcmp(e->section, sec) != 0)
+            continue;
+        char where[TG_MSG_LEN];
+        if (e->line > 0)
+            snprintf(where, sizeof where, "%s:%d: [%s] %s", file, e->line, sec, e->key);
+        else
+            snprintf(where, sizeof where, "--set %s.%s=%s", sec, e->key, e->value);
+        if (strncmp(e->key, "twin.", 5) == 0)
+            return tg_fail(st, TG_ERR_CONFIG, "%s: [twin] keys cannot be overridden here", where);
+        for (size_t k = 0; k < sizeof twin_fixed / sizeof twin_fixed[0]; k++)
+            if (strcmp(e->key, twin_fixed[k].key) == 0 && (coarse || !twin_fixed[k].coarse_only))
+                return tg_fail(st, TG_ERR_CONFIG, "%s: cannot be overridden (%s)", where,
+                               twin_fixed[k].why);
+        char assignment[sizeof e->key + sizeof e->value + 2];
+        snprintf(assignment, sizeof assignment, "%s=%s", e->key, e->value);
+        tg_status s2;
+        tg_status_clear(&s2);
+        if (tg_config_set(out, assignment, &s2) != TG_OK) {
+            /* tg_config_set's message starts with "--set ASSIGNMENT: ". */
+            const char *msg = s2.msg;
+            char prefix[sizeof assignment + 16];
+            snprintf(prefix, sizeof prefix, "--set %s: ", assignment);
+            if (strncmp(msg, prefix, strlen(prefix)) == 0)
+                msg += strlen(prefix);
+            return tg_fail(st, TG_ERR_CONFIG, "%s: %s", where, msg);
+        }
+        char ksec[64];
+        size_t sl = strcspn(e->key, ".");
+        snprintf(ksec, sizeof ksec, "%.*s", (int)sl, e->key);
+        int i = tg_config_key_index(ksec, e->key + sl + (e->key[sl] == '.'));
+        if (i >= 0) {
+            out->set_by_user[i] = e->line > 0 ? TG_SET_FILE : TG_SET_OPTION;
+            out->set_line[i] = e->line;
+        }
+    }
+    return TG_OK;
+}
+
+/* Whether x is a whole multiple of unit (to 1e-9 relative). */
+static int whole_multiple(double x, double unit, long *n)
+{
+    double r = x / unit;
+    double k = floor(r + 0.5);
+    if (n)
+        *n = (long)k;
+    return fabs(r - k) <= 1e-9 * fmax(1.0, fabs(r));
+}
+
+tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_status *st)
+{
+    if (!base)
+        return tg_fail(st, TG_ERR_INTERNAL, "tg_config_check_twin: NULL config");
+    const int periodic = base->geometry == TG_GEOM_PERIODIC;
+    const int keys[2] = {K_TWIN_REF_POINTS, K_TWIN_COARSE_POINTS};
+    const int pts[2] = {base->twin_reference_points, base->twin_coarse_points};
+    char note[64];
+    key_note(base, K_GEOMETRY, note, sizeof note);
+    for (int w = 0; w < 2; w++) {
+        int p = pts[w];
+        if (!periodic && !(p >= 17 && p <= 4097 && is_pow2(p - 1)))
+            return key_fail(base, keys[w], origin, st,
+                            "a basin needs 2^k + 1 points with 17 <= points <= 4097 "
+                            "(e.g. 65, 129, 257, 513), got %d", p);
+        if (periodic && !(p >= 16 && p <= 4096 && is_pow2(p)))
+            return key_fail(base, keys[w], origin, st,
+                            "periodic geometry%s needs 2^k points with 16 <= points <= 4096 "
+                            "(e.g. 64, 128, 256, 512), got %d", note, p);
+    }
+    /* Spacing L/(points - 1) in a basin, L/points when periodic. */
+    const int cells_ref = periodic ? pts[0] : pts[0] - 1;
+    const int cells_coarse = periodic ? pts[1] : pts[1] - 1;
+    key_note(base, K_TWIN_REF_POINTS, note, sizeof note);
+    if (cells_ref % cells_coarse != 0 || cells_ref / cells_coarse < 2)
+        return key_fail(base, K_TWIN_COARSE_POINTS, origin, st,
+                        "the coarse grid spacing must be an integer multiple r >= 2 of the "
+                        "reference spacing, but %d %s cells per side against the reference's "
+                        "%d (reference_points%s = %d) gives r = %.6g; e.g. 513 -> 129 is r = 4",
+                        cells_coarse, periodic ? "periodic" : "basin", cells_ref, note, pts[0],
+                        (double)cells_ref / cells_coarse);
+
+    tg_config *ref = malloc(sizeof *ref), *crs = malloc(sizeof *crs);
+    if (!ref || !crs) {
+        free(ref);
+        free(crs);
+        return tg_fail(st, TG_ERR_NOMEM, "no memory to check the twin settings");
+    }
+    tg_code rc = tg_config_twin_derive(base, 0, origin, ref, st);
+    if (rc == TG_OK)
+        rc = tg_config_twin_derive(base, 1, origin, crs, st);
+    const double dref = ref->step_s, dcrs = crs->step_s;
+    free(ref);
+    free(crs);
+    if (rc != TG_OK)
+        return rc;
+
+    long n;
+    const double day = SECONDS_PER_DAY;
+    if (!whole_multiple(base->twin_spinup_days * day, dref, &n))
+        return key_fail(base, K_TWIN_SPINUP, origin, st,
+                        "%g days is not a whole number of reference steps of %g s",
+                        base->twin_spinup_days, dref);
+    if (!whole_multiple(base->twin_sample_every_days * day, dref, &n) || n < 1)
+        return key_fail(base, K_TWIN_SAMPLE, origin, st,
+                        "%g days is not a whole number (>= 1) of reference steps of %g s",
+                        base->twin_sample_every_days, dref);
+    if (!whole_multiple(base->twin_sample_every_days * day, dcrs, &n) || n < 1)
+        return key_fail(base, K_TWIN_SAMPLE, origin, st,
+                        "%g days is not a whole number (>= 1) of coarse steps of %g s",
+                        base->twin_sample_every_days, dcrs);
+    if (!whole_multiple(base->twin_analysis_days, base->twin_sample_every_days, &n) || n < 1) {
+        key_note(base, K_TWIN_SAMPLE, note, sizeof note);
+        return key_fail(base, K_TWIN_ANALYSIS, origin, st,
+                        "%g days is not a whole number (>= 1) of sample intervals "
+                        "(sample_every_days%s = %g)",
+                        base->twin_analysis_days, note, base->twin_sample_every_days);
+    }
+
+    /* The compare list: names separated by commas, no empty or repeated entry. */
+    const char *p = base->twin_compare;
+    char seen[TG_MAX_CLOSURES + 1][TG_RAW_TEXT];
+    int nseen = 0;
+    for (int item = 1;; item++) {
+        size_t len = strcspn(p, ",");
+        const char *s = p, *e = p + len;
+        while (s < e && isspace((unsigned char)*s))
+            s++;
+        while (e > s && isspace((unsigned char)e[-1]))
+            e--;
+        size_t l = (size_t)(e - s);
+        if (l == 0)
+            return key_fail(base, K_TWIN_COMPARE, origin, st, "entry %d is empty", item);
+        if (l >= TG_RAW_TEXT)
+            return key_fail(base, K_TWIN_COMPARE, origin, st, "entry %d is too long", item);
+        char name[TG_RAW_TEXT];
+        memcpy(name, s, l);
+        name[l] = '\0';
+        for (int k = 0; k < nseen; k++)
+            if (strcmp(seen[k], name) == 0)
+                return key_fail(base, K_TWIN_COMPARE, origin, st, "'%s' is listed twice", name);
+        if (strcmp(name, "none") != 0 && strncmp(name, "plugin:", 7) != 0 &&
+            !tg_closure_find(name)) {
+            const char *names[64];
+            int nn = tg_closure_count();
+            for (int i = 0; i < nn && i < 64; i++)
+                names[i] = tg_closure_ops_at(i)->name;
+            int sgi = tg_config_suggest(name, names, nn < 64 ? nn : 64);
+            if (sgi >= 0)
+                return key_fail(base, K_TWIN_COMPARE, origin, st,
+                                "unknown closure '%s'; did you mean %s? (`twingyre closures` "
+                                "lists them)", name, names[sgi]);
+            return key_fail(base, K_TWIN_COMPARE, origin, st,
+                            "unknown closure '%s' (`twingyre closures` lists them; a plugin is "
+                            "plugin:PATH.so)", name);
+        }
+        memcpy(seen[nseen++], name, l + 1);
+        int others = 0;
+        for (int k = 0; k < nseen; k++)
+            others += strcmp(seen[k], "none") != 0;
+        if (others > TG_MAX_CLOSURES - 1)
+            return key_fail(base, K_TWIN_COMPARE, origin, st,
+                            "at most %d closures besides none can be compared in one twin",
+                            TG_MAX_CLOSURES - 1);
+        if (p[len] == '\0')
+            break;
+        p += len + 1;
+    }
+    if (base->set_by_user[K_TWIN_WIDTH] && base->twin_filter != TG_TWIN_FILTER_GAUSSIAN)
+        tg_log(TG_LOG_WARN, "[twin] filter_width_factor is ignored unless filter = gaussian");
+    return TG_OK;
 }

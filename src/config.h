@@ -24,15 +24,17 @@ typedef enum { TG_GEOM_BASIN = 0, TG_GEOM_PERIODIC = 1 } tg_geometry_kind;
 typedef enum { TG_WALL_FREE_SLIP = 0, TG_WALL_PARTIAL_SLIP = 1, TG_WALL_NO_SLIP = 2 } tg_wall_kind;
 typedef enum { TG_WIND_DOUBLE_GYRE = 0, TG_WIND_SINGLE_GYRE = 1, TG_WIND_NONE = 2 } tg_wind_kind;
 typedef enum { TG_INIT_REST = 0, TG_INIT_NOISE = 1, TG_INIT_FILE = 2 } tg_init_kind;
+typedef enum { TG_TWIN_FILTER_SHARP = 0, TG_TWIN_FILTER_GAUSSIAN = 1 } tg_twin_filter;
 
 /* Where a key's value came from (tg_config.set_by_user[]). */
 typedef enum { TG_SET_DEFAULT = 0, TG_SET_FILE = 1, TG_SET_OPTION = 2 } tg_set_origin;
 
 /* Upper bound on the number of rows in the key table (checked in config.c). */
-#define TG_CONFIG_MAX_KEYS 32
+#define TG_CONFIG_MAX_KEYS 48
 
 #define TG_MAX_RAW 96
 #define TG_RAW_TEXT 200
+#define TG_MAX_TWIN_RAW 64
 
 /* One key = value of a closure section, as written. */
 typedef struct {
@@ -98,6 +100,24 @@ typedef struct tg_config {
     int nraw;
     tg_raw_entry raw[TG_MAX_RAW];
 
+    /* [twin]: the twin experiment of `twingyre twin` (twin.h); `run` ignores it. */
+    int twin_reference_points;      /* grid points per side of the reference */
+    int twin_coarse_points;         /* grid points per side of the coarse runs */
+    double twin_spinup_days;        /* reference spin-up before the analysis window, days */
+    double twin_analysis_days;      /* length of the analysis window, days */
+    double twin_sample_every_days;  /* interval between samples in the window, days */
+    char twin_compare[TG_PATH_LEN]; /* closures compared: NAME[, NAME...] as written */
+    int twin_members;               /* ensemble members of each stochastic closure */
+    tg_twin_filter twin_filter;     /* coarse-graining filter */
+    double twin_filter_width_factor;/* Gaussian filter width / coarse grid spacing */
+
+    /* [twin.reference] and [twin.coarse]: overrides "section.key = value"
+     * applied to the reference or to every coarse run, kept as written
+     * (section is "twin.reference" or "twin.coarse", key is "section.key");
+     * tg_config_twin_derive applies and checks them. */
+    int ntwin_raw;
+    tg_raw_entry twin_raw[TG_MAX_TWIN_RAW];
+
     /* Not a config key: the ensemble member (--member), 0 by default. */
     int member;
 
@@ -152,6 +172,27 @@ int tg_config_suggest(const char *given, const char *const *cands, int n);
 
 /* Finds a raw closure entry; NULL when absent. */
 const tg_raw_entry *tg_config_raw(const tg_config *cfg, const char *section, const char *key);
+
+/* Twin experiments (`twingyre twin`, twin.h). tg_config_check leaves [twin]
+ * alone (a plain run ignores it); these apply its rules.
+ *
+ * tg_config_twin_derive makes the config of the reference (coarse = 0) or
+ * of the coarse runs (coarse = 1) from base: grid points from [twin], then
+ * every override of [twin.reference] or [twin.coarse] in file order. An
+ * override of a key the twin sets itself (grid geometry, size and points,
+ * the layers, the run length, the output directory and, for coarse runs,
+ * the initial state, snapshot interval and [closure] use) is refused.
+ * Messages: "FILE:LINE: [twin.coarse] section.key: ...". out is not checked
+ * with tg_config_check (the caller does that). */
+tg_code tg_config_twin_derive(const tg_config *base, int coarse, const char *origin,
+                              tg_config *out, tg_status *st);
+
+/* [twin] rules: reference and coarse points of the geometry's form, the
+ * coarse spacing an integer multiple r >= 2 of the reference spacing, the
+ * spin-up a whole number of reference steps, the sample interval a whole
+ * number of steps of both runs, the window a whole number of samples, and
+ * the compare list well formed (its names are resolved by twin.c). */
+tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_status *st);
 
 /* Prints the reference table (Markdown) used in README. */
 void tg_config_print_reference(FILE *out);

@@ -88,15 +88,20 @@ static double solve_dirichlet(tg_geometry *g, basin *b, int m, const double *rhs
     tg_dst_forward(b->dst, rhs + ns + 1, ns, b->spec);
     const double *inv = b->invden[m], *w = b->wint;
     double *s = b->spec, *rb = b->rowbuf;
+    /* Divide by (lambda - F_m). The integral needs the odd wavenumbers
+     * only (even array indices kx, ky: index = wavenumber - 1); w is 0 at
+     * the others. */
 #pragma omp parallel for schedule(static)
     for (int kx = 0; kx < n; kx++) {
         double *row = s + (long)kx * n;
         const double *iv = inv + (long)kx * n;
-        double acc = 0.0;
-        for (int ky = 0; ky < n; ky++) {
+#pragma omp simd
+        for (int ky = 0; ky < n; ky++)
             row[ky] *= iv[ky];
-            acc += row[ky] * w[ky];
-        }
+        double acc = 0.0;
+        if (kx % 2 == 0)
+            for (int ky = 0; ky < n; ky += 2)
+                acc += row[ky] * w[ky];
         rb[kx] = acc * w[kx];
     }
     double integral = 0.0;
@@ -159,15 +164,27 @@ static tg_code basin_setup_modes(tg_geometry *g, int nmodes, const double *F, tg
     return TG_OK;
 }
 
-static double basin_solve_mode(tg_geometry *g, int m, double *rhs, double *phi)
+/* The particular solution phi_p into phi and the mass-constraint constant c
+ * (geometry.h, solve_mode_parts); phi = phi_p + c phi_h is the mode. */
+static double basin_solve_mode_parts(tg_geometry *g, int m, double *rhs, double *phi,
+                                     const double **homog)
 {
     basin *b = g->impl;
     double ip = solve_dirichlet(g, b, m, rhs, phi);
+    *homog = NULL;
     if (m == 0)
         return 0.0;
     /* Mass constraint: choose c so that the integral of phi_p + c phi_h vanishes. */
-    double c = -ip / b->intph[m];
-    const double *h = b->phih[m];
+    *homog = b->phih[m];
+    return -ip / b->intph[m];
+}
+
+static double basin_solve_mode(tg_geometry *g, int m, double *rhs, double *phi)
+{
+    const double *h;
+    double c = basin_solve_mode_parts(g, m, rhs, phi, &h);
+    if (!h)
+        return c;
     const long tot = (long)g->ns * g->ns;
 #pragma omp parallel for schedule(static)
     for (long k = 0; k < tot; k++)
@@ -247,16 +264,26 @@ static void basin_ke_spectrum(tg_geometry *g, const double *psi, double wall, do
         }
 }
 
+/* Coarse-graining filter (geometry.h, coarsen.h); defined at the end of the file. */
+static void *basin_filter_work_create(const tg_geometry *g, tg_status *st);
+static void basin_filter_work_destroy(void *work);
+static void basin_filter_field(const tg_geometry *g, void *work, double *f, int kind,
+                               double scale);
+
 static const tg_geometry_ops basin_ops = {
     .destroy = basin_destroy,
     .setup_modes = basin_setup_modes,
     .solve_mode = basin_solve_mode,
+    .solve_mode_parts = basin_solve_mode_parts,
     .fill_ring = basin_fill_ring,
     .fill_vorticity_ring = basin_fill_vorticity_ring,
     .fill_ring_extend = basin_fill_ring_extend,
     .fill_laplacian_ring = basin_fill_laplacian_ring,
     .filter_gaussian = basin_filter_gaussian,
     .ke_spectrum = basin_ke_spectrum,
+    .filter_work_create = basin_filter_work_create,
+    .filter_work_destroy = basin_filter_work_destroy,
+    .filter_field = basin_filter_field,
 };
 
 tg_geometry *tg_geom_basin_create(const tg_config *cfg, tg_status *st)
@@ -329,4 +356,178 @@ tg_geometry *tg_geom_basin_create(const tg_config *cfg, tg_status *st)
         return NULL;
     }
     return g;
+}
+
+/* ------------------------------------------------------------------ */
+/* Coarse-graining filter (geometry.h ops->filter_field)               */
+/* ------------------------------------------------------------------ */
+/*
+ * A sine series can only hold a field that vanishes on the walls, and the
+ * fields a twin coarse-grains do not (psi is a constant there, q carries
+ * beta (y - y0), velocities and fluxes have wall values). The filter
+ * therefore splits f = C[f_w] + d, where C[f_w] is the transfinite
+ * (Coons) patch of the wall values f_w,
+ *   C(s, t) = (1 - s) f_W(t) + s f_E(t) + (1 - t) f_S(s) + t f_N(s)
+ *             - [(1-s)(1-t) f_SW + s(1-t) f_SE + (1-s) t f_NW + s t f_NE],
+ * s = x/L, t = y/L (the bilinearly blended patch of Gordon & Hall 1973,
+ * Int. J. Numer. Methods Eng. 7, 461-477), which reproduces every bilinear
+ * field, and d
+ * vanishes on the walls. d is filtered in the 2-D sine basis with
+ * kx = pi mx/L, ky = pi my/L; each wall's values, minus the straight line
+ * between its corners, in the 1-D sine basis along the wall; the corners
+ * stay. The result is C[filtered walls] + filtered d. This is linear in f;
+ * constants and affine fields (psi's wall constant, beta (y - y0)) pass
+ * unchanged; and a field made of sine modes below the cutoff plus the
+ * patch of walls made of such modes (a field the coarse grid resolves)
+ * passes the sharp filter unchanged. For a wall term g(y)(1 - x/L) the
+ * Gaussian acts on g alone, as the infinite-domain Gaussian does on a
+ * field linear in x.
+ */
+
+typedef struct {
+    int N, n;
+    tg_dst *dst;
+    double *spec;    /* n*n sine coefficients */
+    double *d;       /* ns*ns: f minus the patch of its walls (interior) */
+    double *sine;    /* n*n: sin(pi m i / N), [(m-1) n + (i-1)] */
+    double *wall;    /* 4 (N+1): W, E, S, N walls as given, then filtered */
+    double *wfilt;   /* 4 (N+1) */
+    double *coef;    /* n */
+} basin_filter_work;
+
+static void basin_filter_work_destroy(void *work)
+{
+    basin_filter_work *w = work;
+    if (!w)
+        return;
+    tg_dst_destroy(w->dst);
+    free(w->spec);
+    free(w->d);
+    free(w->sine);
+    free(w->wall);
+    free(w->wfilt);
+    free(w->coef);
+    free(w);
+}
+
+static void *basin_filter_work_create(const tg_geometry *g, tg_status *st)
+{
+    basin_filter_work *w = calloc(1, sizeof *w);
+    if (!w) {
+        tg_fail(st, TG_ERR_NOMEM, "basin: no memory for the coarse-graining filter");
+        return NULL;
+    }
+    const int ns = g->ns, N = ns - 1, n = N - 1;
+    w->N = N;
+    w->n = n;
+    w->spec = malloc(sizeof(double) * (size_t)n * n);
+    w->d = calloc((size_t)ns * ns, sizeof(double));
+    w->sine = malloc(sizeof(double) * (size_t)n * n);
+    w->wall = malloc(sizeof(double) * 4 * (size_t)(N + 1));
+    w->wfilt = malloc(sizeof(double) * 4 * (size_t)(N + 1));
+    w->coef = malloc(sizeof(double) * (size_t)n);
+    if (!w->spec || !w->d || !w->sine || !w->wall || !w->wfilt || !w->coef) {
+        tg_fail(st, TG_ERR_NOMEM, "basin: no memory for the coarse-graining filter (%d points)",
+                ns);
+        basin_filter_work_destroy(w);
+        return NULL;
+    }
+    /* sin(pi m i / N) from the exact remainder of m i modulo 2N. */
+    for (int m = 1; m <= n; m++)
+        for (int i = 1; i <= n; i++)
+            w->sine[(long)(m - 1) * n + (i - 1)] =
+                sin(TG_PI * (double)(((long)m * i) % (2L * N)) / N);
+    w->dst = tg_dst_create(n, st);
+    if (!w->dst) {
+        basin_filter_work_destroy(w);
+        return NULL;
+    }
+    return w;
+}
+
+/* Transfer factor of wavenumber index m (k = pi m / L) in one direction. */
+static double basin_transfer_1d(int kind, double k, double scale)
+{
+    if (kind == TG_FILTER_SHARP)
+        return k < scale * (1.0 - 1e-9) ? 1.0 : 0.0;
+    return exp(-k * k * scale * scale / 24.0);
+}
+
+/* Filters one wall v[0..N] in place: the line between v[0] and v[N] stays,
+ * the rest is filtered in the 1-D sine basis. */
+static void basin_filter_wall(basin_filter_work *w, double *v, int kind, double kk, double scale)
+{
+    const int N = w->N, n = w->n;
+    const double v0 = v[0], vN = v[N];
+    for (int m = 1; m <= n; m++) {
+        const double *sr = w->sine + (long)(m - 1) * n;
+        double acc = 0.0;
+        for (int i = 1; i <= n; i++)
+            acc += (v[i] - (v0 + (vN - v0) * i / N)) * sr[i - 1];
+        w->coef[m - 1] = acc * basin_transfer_1d(kind, kk * m, scale) * (2.0 / N);
+    }
+    for (int i = 1; i <= n; i++) {
+        double acc = 0.0;
+        for (int m = 1; m <= n; m++)
+            acc += w->coef[m - 1] * w->sine[(long)(m - 1) * n + (i - 1)];
+        v[i] = v0 + (vN - v0) * i / N + acc;
+    }
+}
+
+/* The Coons patch of walls W, E, S, N (each N+1 values) at node (i, j). */
+static double coons(const double *W, const double *E, const double *S, const double *Nw, int N,
+                    int i, int j)
+{
+    const double s = (double)i / N, t = (double)j / N;
+    return (1.0 - s) * W[j] + s * E[j] + (1.0 - t) * S[i] + t * Nw[i] -
+           ((1.0 - s) * (1.0 - t) * S[0] + s * (1.0 - t) * S[N] + (1.0 - s) * t * Nw[0] +
+            s * t * Nw[N]);
+}
+
+static void basin_filter_field(const tg_geometry *g, void *work, double *f, int kind,
+                               double scale)
+{
+    basin_filter_work *w = work;
+    const int ns = g->ns, N = w->N, n = w->n;
+    const double kk = TG_PI / g->length;
+    double *W = w->wall, *E = W + (N + 1), *S = E + (N + 1), *Nw = S + (N + 1);
+    for (int k = 0; k <= N; k++) {
+        W[k] = f[(long)k * ns];
+        E[k] = f[(long)k * ns + N];
+        S[k] = f[k];
+        Nw[k] = f[(long)N * ns + k];
+    }
+    /* d = f - patch of the walls, on the interior. */
+    for (int j = 1; j < N; j++)
+        for (int i = 1; i < N; i++)
+            w->d[(long)j * ns + i] = f[(long)j * ns + i] - coons(W, E, S, Nw, N, i, j);
+    tg_dst_forward(w->dst, w->d + ns + 1, ns, w->spec);
+    for (int mx = 1; mx <= n; mx++) {
+        const double tx = basin_transfer_1d(kind, kk * mx, scale);
+        for (int my = 1; my <= n; my++) {
+            double t;
+            if (kind == TG_FILTER_SHARP)
+                t = tx * basin_transfer_1d(kind, kk * my, scale);
+            else
+                t = exp(-kk * kk * ((double)mx * mx + (double)my * my) * scale * scale / 24.0);
+            w->spec[(long)(mx - 1) * n + (my - 1)] *= t;
+        }
+    }
+    tg_dst_inverse(w->dst, w->spec, w->d + ns + 1, ns);
+    /* The walls, each along its own length. */
+    double *fW = w->wfilt, *fE = fW + (N + 1), *fS = fE + (N + 1), *fN = fS + (N + 1);
+    memcpy(w->wfilt, w->wall, sizeof(double) * 4 * (size_t)(N + 1));
+    basin_filter_wall(w, fW, kind, kk, scale);
+    basin_filter_wall(w, fE, kind, kk, scale);
+    basin_filter_wall(w, fS, kind, kk, scale);
+    basin_filter_wall(w, fN, kind, kk, scale);
+    for (int j = 1; j < N; j++)
+        for (int i = 1; i < N; i++)
+            f[(long)j * ns + i] = w->d[(long)j * ns + i] + coons(fW, fE, fS, fN, N, i, j);
+    for (int k = 0; k <= N; k++) {
+        f[(long)k * ns] = fW[k];
+        f[(long)k * ns + N] = fE[k];
+        f[k] = fS[k];
+        f[(long)N * ns + k] = fN[k];
+    }
 }

@@ -198,6 +198,12 @@ static void periodic_fill_ring_extend(const tg_geometry *g, double *f)
     halo_copy(g, f);
 }
 
+/* Coarse-graining filter (geometry.h, coarsen.h); defined at the end of the file. */
+static void *periodic_filter_work_create(const tg_geometry *g, tg_status *st);
+static void periodic_filter_work_destroy(void *work);
+static void periodic_filter_field(const tg_geometry *g, void *work, double *f, int kind,
+                                  double scale);
+
 static const tg_geometry_ops periodic_ops = {
     .destroy = periodic_destroy,
     .setup_modes = periodic_setup_modes,
@@ -208,6 +214,9 @@ static const tg_geometry_ops periodic_ops = {
     .fill_laplacian_ring = periodic_fill_laplacian_ring,
     .filter_gaussian = periodic_filter_gaussian,
     .ke_spectrum = periodic_ke_spectrum,
+    .filter_work_create = periodic_filter_work_create,
+    .filter_work_destroy = periodic_filter_work_destroy,
+    .filter_field = periodic_filter_field,
 };
 
 tg_geometry *tg_geom_periodic_create(const tg_config *cfg, tg_status *st)
@@ -224,6 +233,7 @@ tg_geometry *tg_geom_periodic_create(const tg_config *cfg, tg_status *st)
     g->ops = &periodic_ops;
     g->kind = TG_GEOM_PERIODIC;
     g->holds_planetary_pv = 0;
+    g->zero_mean = 1;
     const int P = cfg->points;
     if (P < 4 || P > (1 << 16) || (P & (P - 1)) != 0) {
         tg_fail(st, TG_ERR_CONFIG, "periodic: points must be 2^k (4 to %d), got %d", 1 << 16, P);
@@ -294,4 +304,80 @@ tg_geometry *tg_geom_periodic_create(const tg_config *cfg, tg_status *st)
         return NULL;
     }
     return g;
+}
+
+/* ------------------------------------------------------------------ */
+/* Coarse-graining filter (geometry.h ops->filter_field)               */
+/* ------------------------------------------------------------------ */
+
+/* The filter's own transform and coefficients, so that filtering never
+ * touches the arrays of the Helmholtz solves. */
+typedef struct {
+    int P;
+    long nspec;
+    tg_fft2 *fft;
+    double *spec;   /* 2 nspec doubles */
+} periodic_filter_work;
+
+static void periodic_filter_work_destroy(void *work)
+{
+    periodic_filter_work *w = work;
+    if (!w)
+        return;
+    tg_fft2_destroy(w->fft);
+    free(w->spec);
+    free(w);
+}
+
+static void *periodic_filter_work_create(const tg_geometry *g, tg_status *st)
+{
+    periodic_filter_work *w = calloc(1, sizeof *w);
+    if (!w) {
+        tg_fail(st, TG_ERR_NOMEM, "periodic: no memory for the coarse-graining filter");
+        return NULL;
+    }
+    w->P = g->ns - 2;
+    w->nspec = (long)(w->P / 2 + 1) * w->P;
+    w->spec = malloc(sizeof(double) * 2 * (size_t)w->nspec);
+    if (!w->spec) {
+        tg_fail(st, TG_ERR_NOMEM, "periodic: no memory for the coarse-graining filter");
+        periodic_filter_work_destroy(w);
+        return NULL;
+    }
+    w->fft = tg_fft2_create(w->P, st);
+    if (!w->fft) {
+        periodic_filter_work_destroy(w);
+        return NULL;
+    }
+    return w;
+}
+
+/* Sharp: keeps |kx|, |ky| < scale (signed integer wavenumbers times
+ * 2 pi / L; the relative margin 1e-9 keeps a wavenumber that equals the
+ * cutoff in exact arithmetic out whatever the rounding). Gaussian: the
+ * transfer function exp(-K^2 scale^2 / 24) of Pope 2000, Turbulent Flows,
+ * section 13.2. Both factors are even in kx and ky, as tg_fft2_inverse needs. */
+static void periodic_filter_field(const tg_geometry *g, void *work, double *f, int kind,
+                                  double scale)
+{
+    periodic_filter_work *w = work;
+    const int ns = g->ns, P = w->P;
+    const double dk = 2.0 * TG_PI / g->length, cut = scale * (1.0 - 1e-9);
+    const double c = scale * scale / 24.0;
+    tg_fft2_forward(w->fft, f + ns + 1, ns, w->spec);
+    double *s = w->spec;
+    for (int kx = 0; kx <= P / 2; kx++)
+        for (int ky = 0; ky < P; ky++) {
+            const int kys = ky <= P / 2 ? ky : P - ky; /* |signed ky| */
+            const long k = (long)kx * P + ky;
+            double t;
+            if (kind == TG_FILTER_SHARP)
+                t = (kx * dk < cut && kys * dk < cut) ? 1.0 : 0.0;
+            else
+                t = exp(-dk * dk * ((double)kx * kx + (double)kys * kys) * c);
+            s[2 * k] *= t;
+            s[2 * k + 1] *= t;
+        }
+    tg_fft2_inverse(w->fft, w->spec, f + ns + 1, ns);
+    halo_copy(g, f);
 }

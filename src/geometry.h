@@ -22,6 +22,9 @@
 
 typedef struct tg_geometry tg_geometry;
 
+/* Kinds of the coarse-graining filter (ops->filter_field). */
+typedef enum { TG_FILTER_SHARP = 0, TG_FILTER_GAUSSIAN = 1 } tg_filter_kind;
+
 typedef struct {
     void (*destroy)(tg_geometry *g);
 
@@ -74,6 +77,39 @@ typedef struct {
      * work: ns*ns doubles of caller-owned scratch. Fixed summation order. */
     void (*ke_spectrum)(tg_geometry *g, const double *psi, double wall_value, double *work,
                         double *E);
+
+    /* Optional (NULL when absent): the coarse-graining filter of coarsen.h.
+     * filter_work_create makes the scratch filter_field needs (the caller
+     * owns it and frees it with filter_work_destroy). filter_field filters
+     * the whole stored field f in place, ring included (fill the ring
+     * first) in the geometry's basis:
+     *   TG_FILTER_SHARP     keeps the coefficients with |kx| < scale and
+     *                       |ky| < scale (scale in rad m-1; kx, ky the
+     *                       continuous wavenumbers of the basis);
+     *   TG_FILTER_GAUSSIAN  multiplies every coefficient by
+     *                       exp(-K^2 scale^2 / 24), K^2 = kx^2 + ky^2,
+     *                       scale = the filter width in m (Pope 2000,
+     *                       Turbulent Flows, section 13.2).
+     * Linear in f; constant and affine fields pass unchanged where the basis
+     * can hold them. Periodic: the Fourier coefficients (the ring is then
+     * the halo). Basin: the field minus the transfinite (Coons) patch of its
+     * wall values is filtered in the sine basis, the wall values themselves
+     * (minus the line between the corners) in the 1-D sine basis along each
+     * wall, and the patch of the filtered walls is added back (geom_basin.c).
+     * Allocates nothing. */
+    void *(*filter_work_create)(const tg_geometry *g, tg_status *st);
+    void (*filter_work_destroy)(void *work);
+    void (*filter_field)(const tg_geometry *g, void *work, double *f, int kind, double scale);
+
+    /* Optional (NULL when absent): solve_mode in two parts, for a caller
+     * that adds the wall correction in a pass of its own. Same solve and
+     * same return value c as solve_mode, but phi is left as the particular
+     * solution phi_p (ring filled with 0 in a basin) and *homog points at
+     * the homogeneous solution phi_h (ns*ns, ring included, owned by the
+     * geometry; NULL when c is always 0, e.g. the barotropic mode), so
+     * that solve_mode's result is phi_p[p] + c * phi_h[p], bit for bit. */
+    double (*solve_mode_parts)(tg_geometry *g, int m, double *rhs, double *phi,
+                               const double **homog);
 } tg_geometry_ops;
 
 struct tg_geometry {
@@ -86,6 +122,8 @@ struct tg_geometry {
     double area;       /* domain area, m2 */
     double *coord;     /* ns positions (m) of the stored indices, same along x and y */
     double *weight;    /* ns*ns quadrature weights (m2) of the domain integral; 0 off-domain */
+    int zero_mean;     /* 1: every mode's solution has zero domain mean (periodic), so the
+                          layer means of psi carry no information */
     int holds_planetary_pv; /* 1: beta (y - y0) is a field on this grid and part of q (basin);
                                0: y is periodic, so q is the eddy PV and the planetary
                                gradient enters as a separate tendency term */

@@ -2,6 +2,7 @@
 #include "model.h"
 
 #include <math.h>
+#include <omp.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -20,8 +21,9 @@ void tg_model_destroy(tg_model *m)
         return;
     tg_closure_host_destroy(m->closures);
     tg_geometry_destroy(m->geom);
-    double *arrays[] = {m->q,   m->psi,  m->zeta, m->beta_y, m->wind_forcing, m->phi,
-                        m->lap1, m->lap2, m->tend, m->term,  m->q0,           m->rowbuf, m->rowsums};
+    double *arrays[] = {m->q,    m->psi,     m->zeta,  m->beta_y, m->wind_forcing,
+                        m->phi,  m->lap1,    m->lap2,  m->tend,   m->term,
+                        m->q0,   m->qnext,   m->rowbuf, m->rowsums, m->rowwork};
     for (size_t i = 0; i < sizeof arrays / sizeof arrays[0]; i++)
         free(arrays[i]);
     free(m->rowidx);
@@ -79,16 +81,21 @@ tg_model *tg_model_create(const tg_config *cfg, tg_status *st)
     m->tend = alloc_fields(nf);
     m->term = alloc_fields(nf);
     m->q0 = alloc_fields(nf);
+    m->qnext = alloc_fields(nf);
     m->beta_y = alloc_fields(m->npl);
     m->wind_forcing = alloc_fields(m->npl);
     m->lap1 = alloc_fields(m->npl);
-    m->lap2 = alloc_fields(m->npl);
+    m->lap2 = alloc_fields(nf);
     m->rowbuf = alloc_fields(ns);
-    m->rowsums = alloc_fields(10L * ns);
+    m->rowsums = alloc_fields(10L * m->nl * ns);
+    /* Two scratch rows per thread that a parallel region may have (terms.c);
+     * the regions that use them ask for no more threads than this. */
+    m->nwork = omp_get_max_threads() > 0 ? omp_get_max_threads() : 1;
+    m->rowwork = alloc_fields(2L * m->nwork * ns);
     m->rowidx = calloc((size_t)ns, sizeof(long));
     if (!m->q || !m->psi || !m->zeta || !m->phi || !m->tend || !m->term || !m->q0 ||
-        !m->beta_y || !m->wind_forcing || !m->lap1 || !m->lap2 || !m->rowbuf || !m->rowsums ||
-        !m->rowidx) {
+        !m->qnext || !m->beta_y || !m->wind_forcing || !m->lap1 || !m->lap2 || !m->rowbuf ||
+        !m->rowsums || !m->rowwork || !m->rowidx) {
         tg_fail(st, TG_ERR_NOMEM, "model: no memory for %d layers of %d x %d points", m->nl, ns,
                 ns);
         goto fail;
@@ -154,36 +161,79 @@ fail:
         }                                                                                 \
     } while (0)
 
-void tg_model_derive(tg_model *m)
+/* Modal right-hand sides of row j: phi_m = sum_k Pinv[m][k] (q_k - beta (y - y0))
+ * on the active nodes. The one copy of this sum: tg_model_derive and the
+ * fused stage pass (terms.c) both use it, so a state reached by stepping and
+ * the same state read back from a checkpoint invert to the same bits. */
+void tg_model_project_row(tg_model *m, const double *q, int j)
+{
+    const tg_geometry *g = m->geom;
+    const int nl = m->nl, a0 = g->a0, a1 = g->a1;
+    const long npl = m->npl, r0 = (long)j * g->ns;
+    const double by = m->beta_y[r0 + a0]; /* the same on the whole row */
+    for (int md = 0; md < nl; md++) {
+        double *r = m->phi + md * npl + r0;
+        const double *q0 = q + r0, p0 = m->modes.Pinv[md][0];
+#pragma omp simd
+        for (int i = a0; i < a1; i++)
+            r[i] = p0 * (q0[i] - by);
+        for (int k = 1; k < nl; k++) {
+            const double pk = m->modes.Pinv[md][k];
+            const double *qk = q + k * npl + r0;
+#pragma omp simd
+            for (int i = a0; i < a1; i++)
+                r[i] += pk * (qk[i] - by);
+        }
+    }
+}
+
+/* One mode's share of a row of psi_k: o (=, or += unless first) pk * phi_m,
+ * where phi_m = f + c h when the mode has a homogeneous part h (h may be
+ * NULL), over n values. */
+static inline void add_mode_row(double *restrict o, const double *f, const double *h, double c,
+                                double pk, int first, int n)
+{
+    if (h && first) {
+#pragma omp simd
+        for (int i = 0; i < n; i++)
+            o[i] = pk * (f[i] + c * h[i]);
+    } else if (h) {
+#pragma omp simd
+        for (int i = 0; i < n; i++)
+            o[i] += pk * (f[i] + c * h[i]);
+    } else if (first) {
+#pragma omp simd
+        for (int i = 0; i < n; i++)
+            o[i] = pk * f[i];
+    } else {
+#pragma omp simd
+        for (int i = 0; i < n; i++)
+            o[i] += pk * f[i];
+    }
+}
+
+void tg_model_invert(tg_model *m)
 {
     tg_geometry *g = m->geom;
     const int nl = m->nl, ns = g->ns, a0 = g->a0, a1 = g->a1;
     const long npl = m->npl;
     double cwall[TG_MAX_LAYERS];
+    const double *homog[TG_MAX_LAYERS];
 
-    /* Modal right-hand sides Pinv (q - beta (y - y0)) of every mode in one
-     * pass into phi, then one Helmholtz solve per mode, in place
-     * (geometry.h), which also sets the wall constants. */
-#pragma omp parallel for schedule(static)
-    for (int j = a0; j < a1; j++) {
-        const long r0 = (long)j * ns;
-        const double *by = m->beta_y + r0;
-        for (int md = 0; md < nl; md++) {
-            double *r = m->phi + md * npl + r0;
-            for (int i = a0; i < a1; i++)
-                r[i] = 0.0;
-            for (int k = 0; k < nl; k++) {
-                const double pk = m->modes.Pinv[md][k];
-                const double *qk = m->q + k * npl + r0;
-#pragma omp simd
-                for (int i = a0; i < a1; i++)
-                    r[i] += pk * (qk[i] - by[i]);
-            }
+    /* One Helmholtz solve per mode, in place (geometry.h). When the
+     * geometry can, it leaves the wall correction c phi_h to the pass
+     * below instead of making a pass of its own. */
+    for (int md = 0; md < nl; md++) {
+        double *f = m->phi + md * npl;
+        if (g->ops->solve_mode_parts) {
+            cwall[md] = g->ops->solve_mode_parts(g, md, f, f, &homog[md]);
+        } else {
+            cwall[md] = g->ops->solve_mode(g, md, f, f);
+            homog[md] = NULL;
         }
     }
-    for (int md = 0; md < nl; md++)
-        cwall[md] = g->ops->solve_mode(g, md, m->phi + md * npl, m->phi + md * npl);
-    /* Back to layers: psi = P phi on every stored node; on the active nodes
+    /* One pass over the rows: back to layers, psi_k = sum_m P[k][m] phi_m
+     * with phi_m = phi_p + c_m phi_h (every stored node); on the active nodes
      * of the same row, relative vorticity from the inverted relation
      * zeta_k = lap psi_k = q_k - beta (y - y0) - (S psi)_k, which the
      * Helmholtz solves satisfy to round-off (one pass instead of a stencil). */
@@ -191,26 +241,20 @@ void tg_model_derive(tg_model *m)
     for (int j = 0; j < ns; j++) {
         const long r0 = (long)j * ns;
         for (int k = 0; k < nl; k++) {
-            double *o = m->psi + k * npl + r0;
-            for (int i = 0; i < ns; i++)
-                o[i] = 0.0;
-            for (int md = 0; md < nl; md++) {
-                const double pk = m->modes.P[k][md];
-                const double *f = m->phi + md * npl + r0;
-#pragma omp simd
-                for (int i = 0; i < ns; i++)
-                    o[i] += pk * f[i];
-            }
+            for (int md = 0; md < nl; md++)
+                add_mode_row(m->psi + k * npl + r0, m->phi + md * npl + r0,
+                             homog[md] ? homog[md] + r0 : NULL, cwall[md], m->modes.P[k][md],
+                             md == 0, ns);
         }
         if (j < a0 || j >= a1)
             continue;
-        const double *by = m->beta_y + r0;
+        const double by = m->beta_y[r0 + a0]; /* the same on the whole row */
         for (int k = 0; k < nl; k++) {
             double *z = m->zeta + k * npl + r0;
             const double *qk = m->q + k * npl + r0;
 #pragma omp simd
             for (int i = a0; i < a1; i++)
-                z[i] = qk[i] - by[i];
+                z[i] = qk[i] - by;
             for (int kk = 0; kk < nl; kk++) {
                 const double s = m->modes.S[k][kk];
                 if (s == 0.0)
@@ -222,6 +266,8 @@ void tg_model_derive(tg_model *m)
             }
         }
     }
+    /* Rings: psi's wall value, the wall vorticity, then PV on the ring for
+     * the stencils of the Jacobian. */
     for (int k = 0; k < nl; k++) {
         double s = 0.0;
         for (int md = 0; md < nl; md++)
@@ -230,7 +276,6 @@ void tg_model_derive(tg_model *m)
         g->ops->fill_ring(g, m->psi + k * npl, s);
         g->ops->fill_vorticity_ring(g, m->zeta + k * npl, m->psi + k * npl);
     }
-    /* PV on the ring, for the stencils of the Jacobian. */
     for (int k = 0; k < nl; k++) {
         double *qk = m->q + k * npl;
         const double *zk = m->zeta + k * npl;
@@ -242,6 +287,15 @@ void tg_model_derive(tg_model *m)
         });
     }
     m->time_s = m->step * m->dt;
+}
+
+void tg_model_derive(tg_model *m)
+{
+    const tg_geometry *g = m->geom;
+#pragma omp parallel for schedule(static)
+    for (int j = g->a0; j < g->a1; j++)
+        tg_model_project_row(m, m->q, j);
+    tg_model_invert(m);
 }
 
 /* Copies an output-layout field into the stored layout of every layer. */
@@ -277,6 +331,19 @@ static void q_from_psi(tg_model *m)
     const int nl = m->nl, ns = g->ns;
     const long npl = m->npl;
     for (int k = 0; k < nl; k++) {
+        /* Where solutions have zero mean (periodic), a layer mean of the
+         * given psi would leave a uniform PV that the inversion drops but
+         * zeta = q - beta (y - y0) - S psi would keep: remove it first. */
+        if (g->zero_mean) {
+            double *f = m->psi + k * npl, s = 0.0;
+            for (int j = g->a0; j < g->a1; j++)
+                for (int i = g->a0; i < g->a1; i++)
+                    s += f[(long)j * ns + i];
+            s /= (double)(g->a1 - g->a0) * (g->a1 - g->a0);
+            for (int j = g->a0; j < g->a1; j++)
+                for (int i = g->a0; i < g->a1; i++)
+                    f[(long)j * ns + i] -= s;
+        }
         /* When the output nodes do not include the ring (periodic), the
          * ring must come from the geometry before the stencil reads it. */
         if (g->o0 == g->a0)
@@ -344,16 +411,29 @@ void tg_model_set_noise(tg_model *m, double amplitude, uint64_t seed)
 double tg_model_energy(tg_model *m)
 {
     const tg_geometry *g = m->geom;
+    const int nl = m->nl, ns = g->ns, a0 = g->a0, a1 = g->a1;
+    const long npl = m->npl;
+    /* One pass: each layer's row sums of (q - beta (y - y0)) (psi - c) into
+     * m->rowsums, formed as tg_sum_prod forms them; then the rows in order. */
+#pragma omp parallel for schedule(static)
+    for (int j = a0; j < a1; j++) {
+        const long r0 = (long)j * ns;
+        const double *by = m->beta_y + r0;
+        for (int k = 0; k < nl; k++) {
+            const double *qk = m->q + k * npl + r0, *pk = m->psi + k * npl + r0;
+            const double c = m->wall[k];
+            double s = 0.0;
+            for (int i = a0; i < a1; i++)
+                s += (qk[i] - by[i]) * (pk[i] - c);
+            m->rowsums[(long)k * ns + j] = s;
+        }
+    }
     double e = 0.0;
-    for (int k = 0; k < m->nl; k++) {
-        const double *qk = m->q + k * m->npl;
-        double *r = m->lap1; /* q - beta (y - y0) */
-        for (int j = g->a0; j < g->a1; j++)
-            for (int i = g->a0; i < g->a1; i++) {
-                long p = (long)j * g->ns + i;
-                r[p] = qk[p] - m->beta_y[p];
-            }
-        e += m->cfg.thickness_m[k] * tg_sum_prod(g, r, m->psi + k * m->npl, m->wall[k], m->rowbuf);
+    for (int k = 0; k < nl; k++) {
+        double s = 0.0;
+        for (int j = a0; j < a1; j++)
+            s += m->rowsums[(long)k * ns + j];
+        e += m->cfg.thickness_m[k] * (s * g->dx * g->dx);
     }
     return -0.5 * e / (m->Htot * g->area);
 }
@@ -378,14 +458,39 @@ void tg_model_enstrophy(tg_model *m, double *z)
 void tg_model_mass_error(tg_model *m, double *err)
 {
     const tg_geometry *g = m->geom;
-    for (int i = 0; i + 1 < m->nl; i++) {
-        double *d = m->lap1;
-        const double *a = m->psi + i * m->npl, *b = m->psi + (i + 1) * m->npl;
-        for (long p = 0; p < m->npl; p++)
-            d[p] = a[p] - b[p];
-        double num = tg_integral(g, d, 0.0, 0, m->rowbuf);
-        double den = tg_integral(g, d, 0.0, 1, m->rowbuf);
-        err[i] = den > 0.0 ? num / den : 0.0;
+    const int ni = m->nl - 1, ns = g->ns;
+    const long npl = m->npl;
+    if (ni < 1)
+        return;
+    /* One pass: for d = psi_i - psi_{i+1}, each row's weighted sums of d and
+     * of |d| (as tg_integral forms them) into m->rowsums; then the rows in
+     * order. */
+    double *num = m->rowsums, *den = m->rowsums + (long)ni * ns;
+#pragma omp parallel for schedule(static)
+    for (int j = 0; j < ns; j++) {
+        const long r0 = (long)j * ns;
+        const double *w = g->weight + r0;
+        for (int i = 0; i < ni; i++) {
+            const double *a = m->psi + i * npl + r0, *b = m->psi + (i + 1) * npl + r0;
+            double s = 0.0, sa = 0.0;
+            for (int x = 0; x < ns; x++) {
+                if (w[x] == 0.0)
+                    continue;
+                const double d = a[x] - b[x];
+                s += w[x] * d;
+                sa += w[x] * fabs(d);
+            }
+            num[(long)i * ns + j] = s;
+            den[(long)i * ns + j] = sa;
+        }
+    }
+    for (int i = 0; i < ni; i++) {
+        double s = 0.0, sa = 0.0;
+        for (int j = 0; j < ns; j++) {
+            s += num[(long)i * ns + j];
+            sa += den[(long)i * ns + j];
+        }
+        err[i] = sa > 0.0 ? s / sa : 0.0;
     }
 }
 

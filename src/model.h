@@ -77,17 +77,24 @@ typedef struct tg_model {
     int term_active[TG_NTERMS];   /* which terms this configuration has */
 
     /* Fixed fields, npl each. */
-    double *beta_y;         /* beta (y - y0), s-1 */
+    double *beta_y;         /* beta (y - y0), s-1; depends on y only, and the
+                               hot passes (model.c) read one value per row */
     double *wind_forcing;   /* curl(tau) / (rho0 H_1), s-2 */
 
     /* Work arrays, made once. */
-    double *phi;            /* nl*npl modal amplitudes */
-    double *lap1, *lap2;    /* npl each, viscosity */
-    double *tend;           /* nl*npl total tendency */
+    double *phi;            /* nl*npl: modal right-hand sides, then the particular
+                               solutions of the Helmholtz solves (tg_model_invert) */
+    double *lap1;           /* npl, biharmonic viscosity scratch */
+    double *lap2;           /* nl*npl, Laplacian of the Laplacian of zeta (biharmonic) */
+    double *tend;           /* nl*npl total tendency (tg_model_tendency) */
     double *term;           /* nl*npl one term's tendency */
-    double *q0;             /* nl*npl state at the start of the step */
+    double *q0;             /* nl*npl state at the start of the step (stepper.c) */
+    double *qnext;          /* nl*npl the next Runge-Kutta stage (stepper.c swaps
+                               q0, q and qnext instead of copying) */
     double *rowbuf;         /* ns */
-    double *rowsums;        /* 10*ns: per-row budget sums of the fused terms (terms.c) */
+    double *rowsums;        /* 10*nl*ns: per-row sums (terms.c budget rates, model.c diagnostics) */
+    double *rowwork;        /* 2*nwork*ns: two scratch rows per thread (terms.c) */
+    int nwork;              /* threads with rows in rowwork */
     long *rowidx;           /* ns */
     int nout;               /* output points per side */
 
@@ -117,6 +124,22 @@ void tg_model_derive(tg_model *m);
 /* Total tendency of the current (derived) state into m->tend, and each
  * term's energy and enstrophy rates into *rates (may be NULL). */
 tg_code tg_model_tendency(tg_model *m, int stage, tg_term_rates *rates, tg_status *st);
+
+/* Internal to the library: the pieces of one Runge-Kutta stage (stepper.c).
+ *
+ * tg_model_stage_update writes the next stage into m->qnext on the active
+ * nodes,
+ *   qnext = a q0 + b (q + dt L(q)),    L = the total tendency of m->q,
+ * and the modal right-hand sides of qnext into m->phi; *rates as for
+ * tg_model_tendency. Without closures this is one pass over the grid; with
+ * closures it is tg_model_tendency and then a pass for the update.
+ * tg_model_invert then finishes the PV inversion of m->q from those
+ * right-hand sides (the caller has made qnext the current m->q):
+ * tg_model_derive is tg_model_project followed by tg_model_invert. */
+tg_code tg_model_stage_update(tg_model *m, int stage, const double *q0, double a, double b,
+                              tg_term_rates *rates, tg_status *st);
+void tg_model_project_row(tg_model *m, const double *q, int j);
+void tg_model_invert(tg_model *m);
 
 /* Diagnostics of the current state. */
 double tg_model_energy(tg_model *m);                     /* m2 s-2 */

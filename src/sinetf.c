@@ -16,8 +16,11 @@
  * plan's sizes and alignment (fftw_execute_dft_r2c, new-array execute), so
  * the arithmetic done on each row does not depend on the thread count.
  *
- * The 2-D passes go through two padded n x (N+8) work arrays, so the
- * inverse only reads `spec` (the header lets it overwrite it).
+ * The 2-D transform is two passes of row transforms. The first writes its
+ * rows as the columns of a padded n x (N+8) work array (a transpose on the
+ * way out, so no separate transpose pass); the second transforms the rows
+ * of that array into the result. The inverse thus only reads `spec` (the
+ * header lets it overwrite it).
  *
  * Ownership: tg_dst owns its plans, sine table, work arrays and the
  * per-thread buffers; tg_dst_destroy frees them all. One tg_dst serves one
@@ -40,8 +43,6 @@
 #define TG_DST_BATCH 8
 /* Rows whose post-processing runs interleaved. */
 #define TG_DST_CHAINS 4
-/* Edge of the square tiles of the cache-blocked transpose. */
-#define TG_DST_TILE 32
 
 struct tg_dst {
     int n;           /* interior points per row */
@@ -54,8 +55,7 @@ struct tg_dst {
     int rdist;       /* row distance in rbuf (reals) */
     int cdist;       /* row distance in cbuf (complex) */
     double *sint;    /* sin(j pi/N), j = 0..N/2 */
-    double *work1;   /* n x ld: after the first row pass */
-    double *work2;   /* n x ld: its transpose */
+    double *work;    /* n x ld: the first row pass, transposed */
     double **rbuf;   /* per thread: TG_DST_BATCH rows of rdist reals */
     fftw_complex **cbuf; /* per thread: TG_DST_BATCH rows of cdist complex */
     fftw_plan full;  /* TG_DST_BATCH rows */
@@ -102,14 +102,13 @@ tg_dst *tg_dst_create(int n, tg_status *st)
     size_t clen = (size_t)TG_DST_BATCH * (size_t)d->cdist;
 
     d->sint = malloc(((size_t)d->len / 2 + 1) * sizeof *d->sint);
-    d->work1 = fftw_malloc(nn * sizeof *d->work1);
-    d->work2 = fftw_malloc(nn * sizeof *d->work2);
+    d->work = fftw_malloc(nn * sizeof *d->work);
     d->rbuf = calloc((size_t)d->nthreads, sizeof *d->rbuf);
     d->cbuf = calloc((size_t)d->nthreads, sizeof *d->cbuf);
-    if (!d->sint || !d->work1 || !d->work2 || !d->rbuf || !d->cbuf) {
+    if (!d->sint || !d->work || !d->rbuf || !d->cbuf) {
         tg_fail(st, TG_ERR_NOMEM,
                 "sine transform: cannot allocate work arrays for n = %d (%zu bytes)", n,
-                2 * nn * sizeof(double));
+                nn * sizeof(double));
         tg_dst_destroy(d);
         return NULL;
     }
@@ -180,8 +179,7 @@ void tg_dst_destroy(tg_dst *d)
             fftw_free(d->cbuf[t]);
     free(d->rbuf);
     free(d->cbuf);
-    fftw_free(d->work1);
-    fftw_free(d->work2);
+    fftw_free(d->work);
     free(d->sint);
     free(d);
 }
@@ -208,40 +206,46 @@ static void dst_pre(const double *restrict sint, int len, const double *restrict
 }
 
 /* Post-processing of `rows` rows: Y (N/2+1 complex each as re, im pairs,
- * rows cdist complex apart) -> scale * F_1..F_n into out (row stride os).
+ * rows cdist complex apart) -> scale * F_1..F_n, value F_{c+1} of row r
+ * into out[r * rs + c * cs]: row-major output has rs = row stride, cs = 1;
+ * transposed output (row r becomes column r) has rs = 1, cs = row stride.
  * The running sum of the odd coefficients is a chain of dependent additions
- * in each row, so groups of TG_DST_CHAINS rows advance together to overlap
- * their chains (more rows at once would write too many streams that may
- * share cache sets, e.g. for a row stride of 512 doubles). The operations
- * done on any one row, and their order, are those of a row on its own. */
-static void dst_post(int len, int cdist, int rows, const double *restrict y, double scale,
-                     double *restrict out, int os)
+ * in each row, so groups of `chains` rows advance together to overlap their
+ * chains. Row-major output uses TG_DST_CHAINS rows (more rows at once would
+ * write too many streams that may share cache sets, e.g. for a row stride
+ * of 512 doubles); transposed output uses a whole block, whose rows then
+ * fill whole cache lines of the columns. The operations done on any one
+ * row, and their order, are those of a row on its own. */
+static inline void dst_post(int len, int cdist, int rows, const double *restrict y,
+                            double scale, double *restrict out, size_t rs, size_t cs,
+                            int chains)
 {
     const int h = len / 2;
-    for (int g0 = 0; g0 < rows; g0 += TG_DST_CHAINS) {
-        const int g1 = g0 + TG_DST_CHAINS < rows ? g0 + TG_DST_CHAINS : rows;
-        double odd[TG_DST_CHAINS];
+    for (int g0 = 0; g0 < rows; g0 += chains) {
+        const int g1 = g0 + chains < rows ? g0 + chains : rows;
+        double odd[TG_DST_BATCH];
         for (int r = g0; r < g1; r++) {
             odd[r - g0] = 0.5 * y[2 * (size_t)r * cdist];
-            out[(size_t)r * os] = scale * odd[r - g0];
+            out[r * rs] = scale * odd[r - g0];
         }
         for (int k = 1; k < h; k++) {
             for (int r = g0; r < g1; r++) {
                 const double *yk = y + 2 * ((size_t)r * cdist + k);
-                double *o = out + (size_t)r * os;
+                double *o = out + r * rs;
                 odd[r - g0] += yk[0];
-                o[2 * k - 1] = -scale * yk[1];
-                o[2 * k] = scale * odd[r - g0];
+                o[(2 * k - 1) * cs] = -scale * yk[1];
+                o[2 * k * cs] = scale * odd[r - g0];
             }
         }
     }
 }
 
-/* 1-D DST-I of every row of src (row stride ss) into dst (row stride ds),
- * times scale. Rows are shared among the threads of the enclosing parallel
- * region. */
+/* 1-D DST-I of every row of src (row stride ss), times scale, into dst
+ * with row stride ds: row r of the result is row r of dst, or column r of
+ * dst when `transposed` (which saves a separate transpose pass). Rows are
+ * shared among the threads of the enclosing parallel region. */
 static void dst_rows(const tg_dst *d, const double *src, int ss, double *dst, int ds,
-                     double scale)
+                     int transposed, double scale)
 {
     int tid = omp_get_thread_num();
     double *rb = d->rbuf[tid];
@@ -254,24 +258,12 @@ static void dst_rows(const tg_dst *d, const double *src, int ss, double *dst, in
         for (int r = 0; r < rows; r++)
             dst_pre(d->sint, d->len, src + (size_t)(r0 + r) * ss, rb + (size_t)r * d->rdist);
         fftw_execute_dft_r2c(rows == TG_DST_BATCH ? d->full : d->last, rb, cb);
-        dst_post(d->len, d->cdist, rows, (const double *)cb, scale, dst + (size_t)r0 * ds, ds);
-    }
-}
-
-/* b = transpose of the n x n array a (row strides lda, ldb), square tiles
- * shared among the threads of the enclosing parallel region. */
-static void transpose(const double *restrict a, int lda, double *restrict b, int ldb, int n)
-{
-    int nt = (n + TG_DST_TILE - 1) / TG_DST_TILE;
-#pragma omp for schedule(static)
-    for (int ti = 0; ti < nt; ti++) {
-        int i0 = ti * TG_DST_TILE, i1 = i0 + TG_DST_TILE < n ? i0 + TG_DST_TILE : n;
-        for (int j0 = 0; j0 < n; j0 += TG_DST_TILE) {
-            int j1 = j0 + TG_DST_TILE < n ? j0 + TG_DST_TILE : n;
-            for (int i = i0; i < i1; i++)
-                for (int j = j0; j < j1; j++)
-                    b[(size_t)j * ldb + i] = a[(size_t)i * lda + j];
-        }
+        if (transposed)
+            dst_post(d->len, d->cdist, rows, (const double *)cb, scale, dst + r0, 1,
+                     (size_t)ds, TG_DST_BATCH);
+        else
+            dst_post(d->len, d->cdist, rows, (const double *)cb, scale, dst + (size_t)r0 * ds,
+                     (size_t)ds, 1, TG_DST_CHAINS);
     }
 }
 
@@ -284,30 +276,26 @@ static int team_size(const tg_dst *d)
 
 void tg_dst_forward(tg_dst *d, const double *in, int stride, double *spec)
 {
-    const int n = d->n, ld = d->ld;
+    const int ld = d->ld;
 #pragma omp parallel num_threads(team_size(d))
     {
-        /* rows of `in` run along i: work1[j][kx] */
-        dst_rows(d, in, stride, d->work1, ld, 1.0);
-        /* work2[kx][j] */
-        transpose(d->work1, ld, d->work2, ld, n);
+        /* rows of `in` run along i, written transposed: work[kx][j] */
+        dst_rows(d, in, stride, d->work, ld, 1, 1.0);
         /* along j: spec[kx][ky] */
-        dst_rows(d, d->work2, ld, spec, n, 1.0);
+        dst_rows(d, d->work, ld, spec, d->n, 0, 1.0);
     }
 }
 
 void tg_dst_inverse(tg_dst *d, double *spec, double *out, int stride)
 {
-    const int n = d->n, ld = d->ld;
+    const int ld = d->ld;
     /* (2/N)^2 with N a power of two: exact. */
     const double scale = 4.0 / ((double)d->len * (double)d->len);
 #pragma omp parallel num_threads(team_size(d))
     {
-        /* along ky: work1[kx][j] */
-        dst_rows(d, spec, n, d->work1, ld, 1.0);
-        /* work2[j][kx] */
-        transpose(d->work1, ld, d->work2, ld, n);
+        /* along ky, written transposed: work[j][kx] */
+        dst_rows(d, spec, d->n, d->work, ld, 1, 1.0);
         /* along kx: out[j][i] */
-        dst_rows(d, d->work2, ld, out, stride, scale);
+        dst_rows(d, d->work, ld, out, stride, 0, scale);
     }
 }

@@ -1,9 +1,18 @@
-/* stepper.c - SSP-RK3 time step (stepper.h). Allocates nothing. */
+/* stepper.c - SSP-RK3 time step (stepper.h). Allocates nothing.
+ *
+ * Three arrays of PV take turns instead of being copied: m->q is the stage
+ * being evaluated, m->q0 the state at the start of the step and m->qnext
+ * the stage being written. Each stage is one tg_model_stage_update (the
+ * tendency, the update qnext = a q0 + b (q + dt L(q)) and the modal
+ * right-hand sides of qnext) and one tg_model_invert of the new m->q.
+ * After a step, m->q0 holds the state at its start (run.c rewinds to it
+ * when a step went bad).
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
 #include "stepper.h"
 
 #include <string.h>
-
-#include "fdops.h"
 
 static void add_weighted(tg_term_rates *acc, const tg_term_rates *r, double w, int nl, int nc)
 {
@@ -19,24 +28,6 @@ static void add_weighted(tg_term_rates *acc, const tg_term_rates *r, double w, i
     }
 }
 
-/* q_k = a q0_k + b (q_k + dt tend_k) on the active nodes of every layer. */
-static void combine(tg_model *m, double a, double b)
-{
-    const tg_geometry *g = m->geom;
-    const int ns = g->ns, a0 = g->a0, a1 = g->a1;
-    const double dt = m->dt;
-    for (int k = 0; k < m->nl; k++) {
-        double *q = m->q + k * m->npl;
-        const double *q0 = m->q0 + k * m->npl, *t = m->tend + k * m->npl;
-#pragma omp parallel for schedule(static)
-        for (int j = a0; j < a1; j++)
-            for (int i = a0; i < a1; i++) {
-                long p = (long)j * ns + i;
-                q[p] = a * q0[p] + b * (q[p] + dt * t[p]);
-            }
-    }
-}
-
 tg_code tg_step(tg_model *m, tg_term_rates *rates, tg_status *st)
 {
     static const double a[3] = {0.0, 0.75, 1.0 / 3.0};
@@ -45,20 +36,30 @@ tg_code tg_step(tg_model *m, tg_term_rates *rates, tg_status *st)
     tg_term_rates stage_rates;
     if (rates)
         memset(rates, 0, sizeof *rates);
-    memcpy(m->q0, m->q, sizeof(double) * m->nl * m->npl);
     for (int s = 0; s < 3; s++) {
-        tg_code rc = tg_model_tendency(m, s, rates ? &stage_rates : NULL, st);
+        /* In the first stage the state at the start of the step is m->q itself. */
+        const double *q0 = s == 0 ? m->q : m->q0;
+        tg_code rc = tg_model_stage_update(m, s, q0, a[s], b[s], rates ? &stage_rates : NULL, st);
         if (rc != TG_OK) {
-            memcpy(m->q, m->q0, sizeof(double) * m->nl * m->npl);
-            tg_model_derive(m);
+            /* Back to the state at the start of the step. */
+            if (s > 0) {
+                memcpy(m->q, m->q0, sizeof(double) * m->nl * m->npl);
+                tg_model_derive(m);
+            }
             return rc;
         }
         if (rates)
             add_weighted(rates, &stage_rates, w[s], m->nl, tg_closure_host_count(m->closures));
-        combine(m, a[s], b[s]);
+        /* The stage just written becomes the current state; after the first
+         * stage the old current state is the start of the step. */
+        double *done = m->q;
+        m->q = m->qnext;
+        m->qnext = s == 0 ? m->q0 : done;
+        if (s == 0)
+            m->q0 = done;
         if (s == 2)
             m->step++;
-        tg_model_derive(m);
+        tg_model_invert(m);
     }
     /* Closures advance their own variables once per completed step. */
     tg_closure_input in = {.psi = m->psi, .q = m->q, .zeta = m->zeta, .wall = m->wall,

@@ -52,9 +52,14 @@ void cli_progress_init(cli_progress *p, int quiet);
 void cli_progress_cb(const tg_progress *p, void *user); /* user = cli_progress* */
 void cli_progress_done(cli_progress *p);
 
+/* Tells the log sink whether a progress line is open on stderr (a line
+ * without its newline), so that a log line clears it first. */
+void cli_set_line_open(int open);
+
 int cmd_run(int argc, char **argv);
 int cmd_describe(int argc, char **argv);
 int cmd_closures(int argc, char **argv);
+int cmd_twin(int argc, char **argv);
 
 /* Exit status of a library code (README, "Exit codes"). */
 int cli_exit_code(tg_code code);

@@ -20,14 +20,17 @@ static void usage(FILE *f)
             "                   DIR/checkpoint.nc\n"
             "  describe CONFIG  print the resolved config and the derived scales\n"
             "  closures [NAME]  list the closure schemes, their parameters and sources\n"
+            "  twin CONFIG      twin experiment: fine reference, coarse runs with the closures\n"
+            "                   of [twin] compare, sub-grid forcing (DIR/subgrid.nc) and skill\n"
+            "                   (DIR/skill.csv, DIR/skill.json)\n"
             "\n"
-            "options of run and describe:\n"
+            "options of run, describe and twin:\n"
             "  --set SECTION.KEY=VALUE  override one config key (repeatable)\n"
             "  --out DIR                output directory (overrides [output] directory)\n"
-            "  --overwrite              (run) replace fields.nc and budget.nc already in DIR\n"
-            "  --threads N              (run) OpenMP threads (default: OMP_NUM_THREADS)\n"
+            "  --overwrite              (run, twin) replace the output files already in DIR\n"
+            "  --threads N              (run, twin) OpenMP threads (default: OMP_NUM_THREADS)\n"
             "  --member K               ensemble member of stochastic closures (default 0)\n"
-            "  --quiet                  (run) no progress and no summary lines\n"
+            "  --quiet                  (run, twin) no progress and no summary lines\n"
             "\n"
             "  --help                   this text\n"
             "  --version                program version\n"
@@ -64,7 +67,9 @@ int main(int argc, char **argv)
         return cmd_describe(argc, argv);
     if (!strcmp(cmd, "closures"))
         return cmd_closures(argc, argv);
-    fprintf(stderr, "twingyre: unknown command '%s' (commands: run, describe, closures; see --help)\n",
+    if (!strcmp(cmd, "twin"))
+        return cmd_twin(argc, argv);
+    fprintf(stderr, "twingyre: unknown command '%s' (commands: run, describe, closures, twin; see --help)\n",
             cmd);
     return 1;
 }

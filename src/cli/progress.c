@@ -39,6 +39,11 @@ void cli_log_to_stderr(tg_log_level level, const char *line, void *user)
     fprintf(stderr, "twingyre: %s%s\n", tag, line);
 }
 
+void cli_set_line_open(int open)
+{
+    g_line_open = open;
+}
+
 void cli_progress_init(cli_progress *p, int quiet)
 {
     p->quiet = quiet;
