@@ -1399,7 +1399,8 @@ tg_code tg_config_set(tg_config *cfg, const char *assignment, tg_status *st)
     char *lhs = trim(buf, eq);
     char *value = trim(eq + 1, eq + 1 + strlen(eq + 1));
 
-    char *dot = strchr(lhs, '.');
+    /* Plugin sections are named plugin.NAME: their key follows the last dot. */
+    char *dot = strncmp(lhs, "plugin.", 7) == 0 ? strrchr(lhs, '.') : strchr(lhs, '.');
     if (!dot) {
         int s = suggest_key("", lhs);
         if (s >= 0)
