@@ -32,6 +32,7 @@
 #include "geometry.h"
 
 #include <math.h>
+#include <omp.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -40,11 +41,24 @@
 #include "sinetf.h"
 #include "spectrum.h"
 
+/* What one Helmholtz solve works in: a transform with its spectrum (n*n)
+ * and a row (ns) for fixed-order sums. */
+typedef struct {
+    tg_dst *dst;
+    double *spec;
+    double *rowbuf;
+} solve_work;
+
 typedef struct {
     int N, n;               /* N = points - 1, n = N - 1 interior points per side */
     tg_dst *dst;
     double *spec;           /* n*n work array */
     double *rowbuf;         /* ns work array for fixed-order sums */
+    /* Work of the solves: work[0] is dst, spec and rowbuf above; setup_modes
+     * adds one set for each further thread that may solve a mode while
+     * another thread solves another (basin_solve_modes_parts). */
+    solve_work work[TG_MAX_LAYERS];
+    int nwork;
     double *lam;            /* n*n Laplacian eigenvalues in spec layout */
     int nmodes;
     double *invden[TG_MAX_LAYERS];  /* n*n, 1/(lambda - F_m) */
@@ -63,6 +77,11 @@ static void basin_destroy(tg_geometry *g)
         tg_dst_destroy(b->dst);
         free(b->spec);
         free(b->rowbuf);
+        for (int t = 1; t < b->nwork; t++) {
+            tg_dst_destroy(b->work[t].dst);
+            free(b->work[t].spec);
+            free(b->work[t].rowbuf);
+        }
         free(b->wint);
         free(b->lam);
         for (int m = 0; m < TG_MAX_LAYERS; m++) {
@@ -82,12 +101,13 @@ static void basin_destroy(tg_geometry *g)
  * (common practice; e.g. Gradshteyn & Ryzhik 2007, 1.342.1), so
  *   int phi dA = dx^2 (2/N)^2 sum_{kx, ky odd} C(kx, ky) cot(pi kx/2N) cot(pi ky/2N).
  * The sum runs row by row in fixed order (thread-count independent). */
-static double solve_dirichlet(tg_geometry *g, basin *b, int m, const double *rhs, double *phi)
+static double solve_dirichlet(tg_geometry *g, basin *b, const solve_work *sw, int m,
+                              const double *rhs, double *phi)
 {
     const int ns = g->ns, n = b->n;
-    tg_dst_forward(b->dst, rhs + ns + 1, ns, b->spec);
+    tg_dst_forward(sw->dst, rhs + ns + 1, ns, sw->spec);
     const double *inv = b->invden[m], *w = b->wint;
-    double *s = b->spec, *rb = b->rowbuf;
+    double *s = sw->spec, *rb = sw->rowbuf;
     /* Divide by (lambda - F_m). The integral needs the odd wavenumbers
      * only (even array indices kx, ky: index = wavenumber - 1); w is 0 at
      * the others. */
@@ -107,7 +127,7 @@ static double solve_dirichlet(tg_geometry *g, basin *b, int m, const double *rhs
     double integral = 0.0;
     for (int kx = 0; kx < n; kx++)
         integral += rb[kx];
-    tg_dst_inverse(b->dst, b->spec, phi + ns + 1, ns);
+    tg_dst_inverse(sw->dst, sw->spec, phi + ns + 1, ns);
     g->ops->fill_ring(g, phi, 0.0);
     const double f = 2.0 * g->dx / b->N;
     return integral * f * f;
@@ -129,6 +149,29 @@ static tg_code basin_setup_modes(tg_geometry *g, int nmodes, const double *F, tg
     basin *b = g->impl;
     const int n = b->n, ns = g->ns;
     b->nmodes = nmodes;
+    /* Work for the threads that may solve modes at the same time: as many
+     * as OpenMP would use, at most one per mode. */
+    int nwork = omp_get_max_threads();
+    if (nwork > nmodes)
+        nwork = nmodes;
+    b->work[0] = (solve_work){b->dst, b->spec, b->rowbuf};
+    b->nwork = 1;
+    for (int t = 1; t < nwork; t++, b->nwork++) {
+        solve_work *w = &b->work[t];
+        w->spec = malloc(sizeof(double) * (size_t)n * n);
+        w->rowbuf = malloc(sizeof(double) * (size_t)ns);
+        if (!w->spec || !w->rowbuf) {
+            free(w->spec);
+            free(w->rowbuf);
+            return tg_fail(st, TG_ERR_NOMEM, "basin: no memory for the work of solve %d", t + 1);
+        }
+        w->dst = tg_dst_create(n, st);
+        if (!w->dst) {
+            free(w->spec);
+            free(w->rowbuf);
+            return st->code;
+        }
+    }
     for (int m = 0; m < nmodes; m++) {
         b->invden[m] = malloc(sizeof(double) * (size_t)n * n);
         if (!b->invden[m])
@@ -150,7 +193,7 @@ static tg_code basin_setup_modes(tg_geometry *g, int nmodes, const double *F, tg
         }
         for (long k = 0; k < (long)ns * ns; k++)
             rhs[k] = F[m];
-        solve_dirichlet(g, b, m, rhs, b->phih[m]);
+        solve_dirichlet(g, b, &b->work[0], m, rhs, b->phih[m]);
         for (long k = 0; k < (long)ns * ns; k++)
             b->phih[m][k] += 1.0;
         b->intph[m] = tg_integral(g, b->phih[m], 0.0, 0, b->rowbuf);
@@ -164,13 +207,13 @@ static tg_code basin_setup_modes(tg_geometry *g, int nmodes, const double *F, tg
     return TG_OK;
 }
 
-/* The particular solution phi_p into phi and the mass-constraint constant c
- * (geometry.h, solve_mode_parts); phi = phi_p + c phi_h is the mode. */
-static double basin_solve_mode_parts(tg_geometry *g, int m, double *rhs, double *phi,
-                                     const double **homog)
+/* Mode m's particular solution phi_p into phi, solved in work set sw, and
+ * the mass-constraint constant c; *homog = phi_h (NULL for the barotropic
+ * mode), so that phi_p + c phi_h is the mode (geometry.h). */
+static double solve_parts(tg_geometry *g, basin *b, const solve_work *sw, int m, double *rhs,
+                          double *phi, const double **homog)
 {
-    basin *b = g->impl;
-    double ip = solve_dirichlet(g, b, m, rhs, phi);
+    double ip = solve_dirichlet(g, b, sw, m, rhs, phi);
     *homog = NULL;
     if (m == 0)
         return 0.0;
@@ -181,8 +224,9 @@ static double basin_solve_mode_parts(tg_geometry *g, int m, double *rhs, double 
 
 static double basin_solve_mode(tg_geometry *g, int m, double *rhs, double *phi)
 {
+    basin *b = g->impl;
     const double *h;
-    double c = basin_solve_mode_parts(g, m, rhs, phi, &h);
+    double c = solve_parts(g, b, &b->work[0], m, rhs, phi, &h);
     if (!h)
         return c;
     const long tot = (long)g->ns * g->ns;
@@ -190,6 +234,33 @@ static double basin_solve_mode(tg_geometry *g, int m, double *rhs, double *phi)
     for (long k = 0; k < tot; k++)
         phi[k] += c * h[k];
     return c;
+}
+
+/* Every mode's solve (geometry.h, solve_modes_parts). With T threads and
+ * work sets, the modes go in groups of T, one mode per thread, each solve
+ * then running on its own thread: one parallel region for the group instead
+ * of several per solve, and no barriers inside. The T-1 or fewer modes left
+ * over are solved one after another, each with all threads. A solve gives
+ * the same bits on one thread as on several (sinetf.h; fixed-order sums). */
+static void basin_solve_modes_parts(tg_geometry *g, int nmodes, double *phi, long stride,
+                                    double *c, const double **homog)
+{
+    basin *b = g->impl;
+    int team = omp_get_max_threads();
+    if (team > b->nwork)
+        team = b->nwork;
+    const int grouped = team > 1 ? nmodes - nmodes % team : 0;
+    if (grouped > 0) {
+#pragma omp parallel num_threads(team)
+        {
+            const int t = omp_get_thread_num(), nt = omp_get_num_threads();
+            for (int m = t; m < grouped; m += nt)
+                c[m] = solve_parts(g, b, &b->work[t], m, phi + m * stride, phi + m * stride,
+                                   &homog[m]);
+        }
+    }
+    for (int m = grouped; m < nmodes; m++)
+        c[m] = solve_parts(g, b, &b->work[0], m, phi + m * stride, phi + m * stride, &homog[m]);
 }
 
 static void basin_fill_vorticity_ring(const tg_geometry *g, double *z, const double *psi)
@@ -274,7 +345,7 @@ static const tg_geometry_ops basin_ops = {
     .destroy = basin_destroy,
     .setup_modes = basin_setup_modes,
     .solve_mode = basin_solve_mode,
-    .solve_mode_parts = basin_solve_mode_parts,
+    .solve_modes_parts = basin_solve_modes_parts,
     .fill_ring = basin_fill_ring,
     .fill_vorticity_ring = basin_fill_vorticity_ring,
     .fill_ring_extend = basin_fill_ring_extend,

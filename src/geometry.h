@@ -101,15 +101,18 @@ typedef struct {
     void (*filter_work_destroy)(void *work);
     void (*filter_field)(const tg_geometry *g, void *work, double *f, int kind, double scale);
 
-    /* Optional (NULL when absent): solve_mode in two parts, for a caller
-     * that adds the wall correction in a pass of its own. Same solve and
-     * same return value c as solve_mode, but phi is left as the particular
-     * solution phi_p (ring filled with 0 in a basin) and *homog points at
+    /* Optional (NULL when absent): solve_mode for every mode at once, in
+     * two parts, for a caller that adds the wall correction in a pass of
+     * its own. Mode m's right-hand side is at phi + m * stride on entry and
+     * its particular solution phi_p there on return (in place; ring filled
+     * with 0 in a basin); c[m] gets what solve_mode returns and homog[m]
      * the homogeneous solution phi_h (ns*ns, ring included, owned by the
-     * geometry; NULL when c is always 0, e.g. the barotropic mode), so
-     * that solve_mode's result is phi_p[p] + c * phi_h[p], bit for bit. */
-    double (*solve_mode_parts)(tg_geometry *g, int m, double *rhs, double *phi,
-                               const double **homog);
+     * geometry; NULL when c[m] is always 0, e.g. the barotropic mode), so
+     * that solve_mode's result is phi_p[p] + c[m] * phi_h[p], bit for bit.
+     * The geometry may solve several modes at the same time, one per
+     * thread; the results do not depend on that or on the thread count. */
+    void (*solve_modes_parts)(tg_geometry *g, int nmodes, double *phi, long stride, double *c,
+                              const double **homog);
 } tg_geometry_ops;
 
 struct tg_geometry {

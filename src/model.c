@@ -221,14 +221,14 @@ void tg_model_invert(tg_model *m)
     const double *homog[TG_MAX_LAYERS];
 
     /* One Helmholtz solve per mode, in place (geometry.h). When the
-     * geometry can, it leaves the wall correction c phi_h to the pass
-     * below instead of making a pass of its own. */
-    for (int md = 0; md < nl; md++) {
-        double *f = m->phi + md * npl;
-        if (g->ops->solve_mode_parts) {
-            cwall[md] = g->ops->solve_mode_parts(g, md, f, f, &homog[md]);
-        } else {
-            cwall[md] = g->ops->solve_mode(g, md, f, f);
+     * geometry can, it solves them all in one call (possibly several at
+     * once) and leaves the wall correction c phi_h to the pass below
+     * instead of making a pass of its own. */
+    if (g->ops->solve_modes_parts) {
+        g->ops->solve_modes_parts(g, nl, m->phi, npl, cwall, homog);
+    } else {
+        for (int md = 0; md < nl; md++) {
+            cwall[md] = g->ops->solve_mode(g, md, m->phi + md * npl, m->phi + md * npl);
             homog[md] = NULL;
         }
     }

@@ -9,7 +9,7 @@
  * length n + 1 (FFTW r2c) with O(n) pre- and post-processing, which is far
  * faster than FFTW's own RODFT00 kind (Makhoul 1980, IEEE Trans. ASSP 28,
  * 27-34; Press et al. 2007, Numerical Recipes 3rd ed., section 12.4.1).
- * The 2-D transform is rows, a cache-blocked transpose, rows again.
+ * The 2-D transform is two passes of row transforms, the first writing its rows as columns.
  *
  * Plans and every work buffer are made in tg_dst_create; the transforms
  * allocate nothing. Rows are shared among OpenMP threads with a static
