@@ -18,9 +18,9 @@
 /* ---------------------------------------------------------------------- */
 /* Known-answer vectors of Philox4x32-10.
  * Source: Salmon, Moraes, Dror & Shaw 2011, "Parallel random numbers: as
- * easy as 1, 2, 3", Proc. SC11 (algorithm, section 3.3), and the
- * known-answer test vectors distributed with the authors' Random123
- * library (values from memory). */
+ * easy as 1, 2, 3", doi:10.1145/2063384.2063405 (algorithm, section 3.3);
+ * the expected outputs below are that paper's generator evaluated at these
+ * counters and keys (values from memory). */
 typedef struct {
     uint32_t ctr[4], key[2], out[4];
 } kat_vector;
