@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "fdops.h"
+#include "strbuf.h"
 
 /* ------------------------------------------------------------------ */
 /* Plugins                                                             */
@@ -285,27 +286,8 @@ char *tg_closure_config_ini(const tg_config *cfg)
         free(spec);
         return NULL;
     }
-    size_t cap = 4096, len = 0;
-    char *s = malloc(cap);
-    if (!s) {
-        free(spec);
-        return NULL;
-    }
-#define OUT(...)                                                                          \
-    do {                                                                                  \
-        int need_ = snprintf(NULL, 0, __VA_ARGS__);                                       \
-        if (len + (size_t)need_ + 1 > cap) {                                              \
-            cap = 2 * (len + (size_t)need_ + 1);                                          \
-            char *t_ = realloc(s, cap);                                                   \
-            if (!t_) {                                                                    \
-                free(s);                                                                  \
-                free(spec);                                                               \
-                return NULL;                                                              \
-            }                                                                             \
-            s = t_;                                                                       \
-        }                                                                                 \
-        len += (size_t)snprintf(s + len, cap - len, __VA_ARGS__);                         \
-    } while (0)
+    tg_strbuf b = {0};
+#define OUT(...) tg_sb_printf(&b, __VA_ARGS__)
     OUT("\n[closure]\nuse = ");
     if (spec->n == 0)
         OUT("none\n");
@@ -335,7 +317,11 @@ char *tg_closure_config_ini(const tg_config *cfg)
     }
 #undef OUT
     free(spec);
-    return s;
+    if (b.oom) {
+        free(b.s);
+        return NULL;
+    }
+    return b.s;
 }
 
 /* ------------------------------------------------------------------ */

@@ -24,6 +24,7 @@
 #include "config.h"
 #include "closure.h"
 #include "closure_host.h"
+#include "strbuf.h"
 
 #include <ini.h>
 
@@ -1653,42 +1654,6 @@ tg_code tg_config_check(const tg_config *cfg, const char *origin, tg_status *st)
 /* Resolved config and reference table                                 */
 /* ------------------------------------------------------------------ */
 
-typedef struct {
-    char *s;
-    size_t len, cap;
-    int oom;
-} strbuf;
-
-static void sb_printf(strbuf *b, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
-static void sb_printf(strbuf *b, const char *fmt, ...)
-{
-    if (b->oom)
-        return;
-    va_list ap;
-    va_start(ap, fmt);
-    int need = vsnprintf(NULL, 0, fmt, ap);
-    va_end(ap);
-    if (need < 0) {
-        b->oom = 1;
-        return;
-    }
-    if (b->len + (size_t)need + 1 > b->cap) {
-        size_t cap = b->cap ? b->cap : 1024;
-        while (b->len + (size_t)need + 1 > cap)
-            cap *= 2;
-        char *s = realloc(b->s, cap);
-        if (!s) {
-            b->oom = 1;
-            return;
-        }
-        b->s = s;
-        b->cap = cap;
-    }
-    va_start(ap, fmt);
-    vsnprintf(b->s + b->len, b->cap - b->len, fmt, ap);
-    va_end(ap);
-    b->len += (size_t)need;
-}
 
 /* The trailing comment of a key in the resolved config. */
 static const char *ini_comment(const key_row *r)
@@ -1710,20 +1675,20 @@ char *tg_config_to_ini(const tg_config *cfg)
 {
     if (!cfg)
         return NULL;
-    strbuf b = {0};
+    tg_strbuf b = {0};
     char value[TG_PATH_LEN + 256], line[TG_PATH_LEN + 512];
-    sb_printf(&b, "; twingyre configuration, fully resolved: every key, in reference order\n");
+    tg_sb_printf(&b, "; twingyre configuration, fully resolved: every key, in reference order\n");
     for (int i = 0; i < K_COUNT; i++) {
         const key_row *r = &rows[i];
         if (starts_section(i))
-            sb_printf(&b, "\n[%s]\n", r->info.section);
+            tg_sb_printf(&b, "\n[%s]\n", r->info.section);
         format_value(r, cfg, value, sizeof value);
         snprintf(line, sizeof line, "%s = %s", r->info.key, value);
         const char *comment = ini_comment(r);
         if (comment[0])
-            sb_printf(&b, "%-40s ; %s\n", line, comment);
+            tg_sb_printf(&b, "%-40s ; %s\n", line, comment);
         else
-            sb_printf(&b, "%s\n", line);
+            tg_sb_printf(&b, "%s\n", line);
     }
     for (int w = 0; w < 2; w++) {
         const char *sec = w ? "twin.coarse" : "twin.reference";
@@ -1733,14 +1698,14 @@ char *tg_config_to_ini(const tg_config *cfg)
             if (strcmp(e->section, sec) != 0)
                 continue;
             if (!header)
-                sb_printf(&b, "\n[%s]\n", sec);
+                tg_sb_printf(&b, "\n[%s]\n", sec);
             header = 1;
-            sb_printf(&b, "%s = %s\n", e->key, e->value);
+            tg_sb_printf(&b, "%s = %s\n", e->key, e->value);
         }
     }
     char *cl = tg_closure_config_ini(cfg);
     if (cl) {
-        sb_printf(&b, "%s", cl);
+        tg_sb_printf(&b, "%s", cl);
         free(cl);
     }
     if (b.oom) {

@@ -2,7 +2,7 @@
  * and reading an initial state (see ncio.h for the contract).
  *
  * Every file is netCDF classic 64-bit-offset (NC_64BIT_OFFSET) with CF-1.8
- * metadata. Every nc_* call goes through nc_check(), which turns a netCDF
+ * metadata. Every nc_* call goes through tg_nc_check(), which turns a netCDF
  * error into "PATH: what failed (variable NAME): netCDF message" in the
  * caller's tg_status and TG_ERR_IO. Memory is owned by the file handles and
  * allocated at create; appends allocate nothing.
@@ -12,6 +12,7 @@
 #define _POSIX_C_SOURCE 200809L
 
 #include "ncio.h"
+#include "ncio_util.h"
 
 #include <errno.h>
 #include <netcdf.h>
@@ -36,8 +37,7 @@
 
 /* Turns a netCDF return code into TG_OK or TG_ERR_IO with a message naming the
  * file, what was being done and (when var is not NULL) the variable. */
-static tg_code nc_check(int rc, const char *path, const char *what, const char *var,
-                        tg_status *st)
+tg_code tg_nc_check(int rc, const char *path, const char *what, const char *var, tg_status *st)
 {
     if (rc == NC_NOERR)
         return TG_OK;
@@ -51,7 +51,7 @@ static tg_code nc_check(int rc, const char *path, const char *what, const char *
  * `fail:` label. */
 #define NC_TRY(call, what, var)                                                   \
     do {                                                                          \
-        code = nc_check((call), path, (what), (var), st);                         \
+        code = tg_nc_check((call), path, (what), (var), st);                         \
         if (code != TG_OK)                                                        \
             goto fail;                                                            \
     } while (0)
@@ -65,12 +65,12 @@ static char *dup_string(const char *s)
     return d;
 }
 
-static tg_code put_text(int ncid, int varid, const char *att, const char *value,
-                        const char *path, const char *varname, tg_status *st)
+tg_code tg_nc_put_text(int ncid, int varid, const char *att, const char *value, const char *path,
+                       const char *varname, tg_status *st)
 {
     char what[128];
     snprintf(what, sizeof what, "writing attribute \"%s\"", att);
-    return nc_check(nc_put_att_text(ncid, varid, att, strlen(value), value), path, what,
+    return tg_nc_check(nc_put_att_text(ncid, varid, att, strlen(value), value), path, what,
                     varname, st);
 }
 
@@ -87,8 +87,8 @@ static tg_code check_grid(const char *path, const tg_nc_grid *g, tg_status *st)
 }
 
 /* Global attributes shared by every file of a run. */
-static tg_code put_globals(int ncid, const char *path, const tg_nc_grid *g,
-                           const char *default_title, tg_status *st)
+tg_code tg_nc_globals(int ncid, const char *path, const tg_nc_grid *g, const char *default_title,
+                      tg_status *st)
 {
     tg_code code;
     const char *cmd = g->command_line ? g->command_line : "(not given)";
@@ -110,13 +110,13 @@ static tg_code put_globals(int ncid, const char *path, const tg_nc_grid *g,
     else
         snprintf(history, hlen, "%s: created by twingyre %s", stamp, TG_NC_VERSION);
 
-    if ((code = put_text(ncid, NC_GLOBAL, "Conventions", "CF-1.8", path, NULL, st)) ||
-        (code = put_text(ncid, NC_GLOBAL, "title", title, path, NULL, st)) ||
-        (code = put_text(ncid, NC_GLOBAL, "source", "twingyre " TG_NC_VERSION, path, NULL,
+    if ((code = tg_nc_put_text(ncid, NC_GLOBAL, "Conventions", "CF-1.8", path, NULL, st)) ||
+        (code = tg_nc_put_text(ncid, NC_GLOBAL, "title", title, path, NULL, st)) ||
+        (code = tg_nc_put_text(ncid, NC_GLOBAL, "source", "twingyre " TG_NC_VERSION, path, NULL,
                          st)) ||
-        (code = put_text(ncid, NC_GLOBAL, "history", history, path, NULL, st)) ||
-        (code = put_text(ncid, NC_GLOBAL, "command_line", cmd, path, NULL, st)) ||
-        (code = put_text(ncid, NC_GLOBAL, "resolved_config", cfg, path, NULL, st))) {
+        (code = tg_nc_put_text(ncid, NC_GLOBAL, "history", history, path, NULL, st)) ||
+        (code = tg_nc_put_text(ncid, NC_GLOBAL, "command_line", cmd, path, NULL, st)) ||
+        (code = tg_nc_put_text(ncid, NC_GLOBAL, "resolved_config", cfg, path, NULL, st))) {
         free(history);
         return code;
     }
@@ -125,14 +125,14 @@ static tg_code put_globals(int ncid, const char *path, const tg_nc_grid *g,
 }
 
 /* CF attributes of a time variable (record coordinate or checkpoint scalar). */
-static tg_code put_time_atts(int ncid, int varid, const char *path, tg_status *st)
+tg_code tg_nc_time_atts(int ncid, int varid, const char *path, tg_status *st)
 {
     tg_code code;
-    if ((code = put_text(ncid, varid, "units", TG_TIME_UNITS, path, "time", st)) ||
-        (code = put_text(ncid, varid, "calendar", TG_TIME_CALENDAR, path, "time", st)) ||
-        (code = put_text(ncid, varid, "standard_name", "time", path, "time", st)) ||
-        (code = put_text(ncid, varid, "axis", "T", path, "time", st)) ||
-        (code = put_text(ncid, varid, "long_name", "model time", path, "time", st)))
+    if ((code = tg_nc_put_text(ncid, varid, "units", TG_TIME_UNITS, path, "time", st)) ||
+        (code = tg_nc_put_text(ncid, varid, "calendar", TG_TIME_CALENDAR, path, "time", st)) ||
+        (code = tg_nc_put_text(ncid, varid, "standard_name", "time", path, "time", st)) ||
+        (code = tg_nc_put_text(ncid, varid, "axis", "T", path, "time", st)) ||
+        (code = tg_nc_put_text(ncid, varid, "long_name", "model time", path, "time", st)))
         return code;
     return TG_OK;
 }
@@ -144,12 +144,12 @@ static tg_code def_index_coord(int ncid, const char *path, const char *name, int
     tg_code code;
     char what[96];
     snprintf(what, sizeof what, "defining dimension \"%s\"", name);
-    if ((code = nc_check(nc_def_dim(ncid, name, (size_t)n, dimid), path, what, NULL, st)))
+    if ((code = tg_nc_check(nc_def_dim(ncid, name, (size_t)n, dimid), path, what, NULL, st)))
         return code;
-    if ((code = nc_check(nc_def_var(ncid, name, NC_INT, 1, dimid, varid), path,
+    if ((code = tg_nc_check(nc_def_var(ncid, name, NC_INT, 1, dimid, varid), path,
                          "defining the variable", name, st)))
         return code;
-    return put_text(ncid, *varid, "long_name", long_name, path, name, st);
+    return tg_nc_put_text(ncid, *varid, "long_name", long_name, path, name, st);
 }
 
 static tg_code put_index_coord(int ncid, const char *path, const char *name, int varid, int n,
@@ -159,61 +159,56 @@ static tg_code put_index_coord(int ncid, const char *path, const char *name, int
     for (int k = 0; k < n && code == TG_OK; k++) {
         size_t idx = (size_t)k;
         int v = k + 1;
-        code = nc_check(nc_put_var1_int(ncid, varid, &idx, &v), path, "writing the index",
+        code = tg_nc_check(nc_put_var1_int(ncid, varid, &idx, &v), path, "writing the index",
                         name, st);
     }
     return code;
 }
 
 /* Dimensions and coordinate variables layer, y, x (in define mode). */
-typedef struct {
-    int d_layer, d_y, d_x;
-    int v_layer, v_y, v_x;
-} grid_ids;
-
-static tg_code def_grid(int ncid, const char *path, const tg_nc_grid *g, grid_ids *ids,
-                        tg_status *st)
+tg_code tg_nc_def_grid(int ncid, const char *path, const tg_nc_grid *g, tg_nc_grid_ids *ids,
+                       tg_status *st)
 {
     tg_code code;
     if ((code = def_index_coord(ncid, path, "layer", g->nlayers, "layer index, 1 at the top",
                                 &ids->d_layer, &ids->v_layer, st)))
         return code;
-    if ((code = nc_check(nc_def_dim(ncid, "y", (size_t)g->ny, &ids->d_y), path,
+    if ((code = tg_nc_check(nc_def_dim(ncid, "y", (size_t)g->ny, &ids->d_y), path,
                          "defining dimension \"y\"", NULL, st)) ||
-        (code = nc_check(nc_def_dim(ncid, "x", (size_t)g->nx, &ids->d_x), path,
+        (code = tg_nc_check(nc_def_dim(ncid, "x", (size_t)g->nx, &ids->d_x), path,
                          "defining dimension \"x\"", NULL, st)) ||
-        (code = nc_check(nc_def_var(ncid, "y", NC_DOUBLE, 1, &ids->d_y, &ids->v_y), path,
+        (code = tg_nc_check(nc_def_var(ncid, "y", NC_DOUBLE, 1, &ids->d_y, &ids->v_y), path,
                          "defining the variable", "y", st)) ||
-        (code = nc_check(nc_def_var(ncid, "x", NC_DOUBLE, 1, &ids->d_x, &ids->v_x), path,
+        (code = tg_nc_check(nc_def_var(ncid, "x", NC_DOUBLE, 1, &ids->d_x, &ids->v_x), path,
                          "defining the variable", "x", st)))
         return code;
     /* The long names hold for both the walled basin (origin at the south-west
      * corner) and the periodic domain (origin at the start of the period). */
-    if ((code = put_text(ncid, ids->v_y, "units", "m", path, "y", st)) ||
-        (code = put_text(ncid, ids->v_y, "standard_name", "projection_y_coordinate", path, "y",
+    if ((code = tg_nc_put_text(ncid, ids->v_y, "units", "m", path, "y", st)) ||
+        (code = tg_nc_put_text(ncid, ids->v_y, "standard_name", "projection_y_coordinate", path, "y",
                          st)) ||
-        (code = put_text(ncid, ids->v_y, "axis", "Y", path, "y", st)) ||
-        (code = put_text(ncid, ids->v_y, "long_name", "northward distance from the domain origin",
+        (code = tg_nc_put_text(ncid, ids->v_y, "axis", "Y", path, "y", st)) ||
+        (code = tg_nc_put_text(ncid, ids->v_y, "long_name", "northward distance from the domain origin",
                          path, "y", st)) ||
-        (code = put_text(ncid, ids->v_x, "units", "m", path, "x", st)) ||
-        (code = put_text(ncid, ids->v_x, "standard_name", "projection_x_coordinate", path, "x",
+        (code = tg_nc_put_text(ncid, ids->v_x, "units", "m", path, "x", st)) ||
+        (code = tg_nc_put_text(ncid, ids->v_x, "standard_name", "projection_x_coordinate", path, "x",
                          st)) ||
-        (code = put_text(ncid, ids->v_x, "axis", "X", path, "x", st)) ||
-        (code = put_text(ncid, ids->v_x, "long_name", "eastward distance from the domain origin",
+        (code = tg_nc_put_text(ncid, ids->v_x, "axis", "X", path, "x", st)) ||
+        (code = tg_nc_put_text(ncid, ids->v_x, "long_name", "eastward distance from the domain origin",
                          path, "x", st)))
         return code;
     return TG_OK;
 }
 
 /* Writes the grid coordinates (in data mode). */
-static tg_code put_grid(int ncid, const char *path, const tg_nc_grid *g, const grid_ids *ids,
-                        tg_status *st)
+tg_code tg_nc_put_grid(int ncid, const char *path, const tg_nc_grid *g, const tg_nc_grid_ids *ids,
+                       tg_status *st)
 {
     tg_code code;
     if ((code = put_index_coord(ncid, path, "layer", ids->v_layer, g->nlayers, st)) ||
-        (code = nc_check(nc_put_var_double(ncid, ids->v_y, g->y), path, "writing coordinates",
+        (code = tg_nc_check(nc_put_var_double(ncid, ids->v_y, g->y), path, "writing coordinates",
                          "y", st)) ||
-        (code = nc_check(nc_put_var_double(ncid, ids->v_x, g->x), path, "writing coordinates",
+        (code = tg_nc_check(nc_put_var_double(ncid, ids->v_x, g->x), path, "writing coordinates",
                          "x", st)))
         return code;
     return TG_OK;
@@ -224,14 +219,14 @@ static tg_code def_psi_q(int ncid, const char *path, int ndims, const int *dims,
                          int *v_q, tg_status *st)
 {
     tg_code code;
-    if ((code = nc_check(nc_def_var(ncid, "psi", NC_DOUBLE, ndims, dims, v_psi), path,
+    if ((code = tg_nc_check(nc_def_var(ncid, "psi", NC_DOUBLE, ndims, dims, v_psi), path,
                          "defining the variable", "psi", st)) ||
-        (code = put_text(ncid, *v_psi, "units", "m2 s-1", path, "psi", st)) ||
-        (code = put_text(ncid, *v_psi, "long_name", "streamfunction", path, "psi", st)) ||
-        (code = nc_check(nc_def_var(ncid, "q", NC_DOUBLE, ndims, dims, v_q), path,
+        (code = tg_nc_put_text(ncid, *v_psi, "units", "m2 s-1", path, "psi", st)) ||
+        (code = tg_nc_put_text(ncid, *v_psi, "long_name", "streamfunction", path, "psi", st)) ||
+        (code = tg_nc_check(nc_def_var(ncid, "q", NC_DOUBLE, ndims, dims, v_q), path,
                          "defining the variable", "q", st)) ||
-        (code = put_text(ncid, *v_q, "units", "s-1", path, "q", st)) ||
-        (code = put_text(ncid, *v_q, "long_name",
+        (code = tg_nc_put_text(ncid, *v_q, "units", "s-1", path, "q", st)) ||
+        (code = tg_nc_put_text(ncid, *v_q, "long_name",
                          "potential vorticity (including the planetary term)", path, "q", st)))
         return code;
     return TG_OK;
@@ -263,26 +258,26 @@ static tg_code def_spectrum(int ncid, const char *path, const tg_nc_wavenumbers 
 {
     tg_code code;
     int d_k;
-    if ((code = nc_check(nc_def_dim(ncid, "wavenumber", (size_t)wn->nbins, &d_k), path,
+    if ((code = tg_nc_check(nc_def_dim(ncid, "wavenumber", (size_t)wn->nbins, &d_k), path,
                          "defining dimension \"wavenumber\"", NULL, st)) ||
-        (code = nc_check(nc_def_var(ncid, "wavenumber", NC_DOUBLE, 1, &d_k, v_k), path,
+        (code = tg_nc_check(nc_def_var(ncid, "wavenumber", NC_DOUBLE, 1, &d_k, v_k), path,
                          "defining the variable", "wavenumber", st)) ||
-        (code = put_text(ncid, *v_k, "units", "rad m-1", path, "wavenumber", st)) ||
-        (code = put_text(ncid, *v_k, "long_name", "isotropic wavenumber, bin centre", path,
+        (code = tg_nc_put_text(ncid, *v_k, "units", "rad m-1", path, "wavenumber", st)) ||
+        (code = tg_nc_put_text(ncid, *v_k, "long_name", "isotropic wavenumber, bin centre", path,
                          "wavenumber", st)) ||
-        (code = nc_check(nc_put_att_double(ncid, *v_k, "bin_width", NC_DOUBLE, 1,
+        (code = tg_nc_check(nc_put_att_double(ncid, *v_k, "bin_width", NC_DOUBLE, 1,
                                            &wn->bin_width),
                          path, "writing attribute \"bin_width\"", "wavenumber", st)) ||
-        (code = put_text(ncid, *v_k, "comment",
+        (code = tg_nc_put_text(ncid, *v_k, "comment",
                          "bin b holds the wavenumbers K with k_b - bin_width/2 <= K < "
                          "k_b + bin_width/2; bin_width is in rad m-1",
                          path, "wavenumber", st)))
         return code;
     int dims[3] = {d_time, d_layer, d_k};
-    if ((code = nc_check(nc_def_var(ncid, "ke_spectrum", NC_DOUBLE, 3, dims, v_spec), path,
+    if ((code = tg_nc_check(nc_def_var(ncid, "ke_spectrum", NC_DOUBLE, 3, dims, v_spec), path,
                          "defining the variable", "ke_spectrum", st)) ||
-        (code = put_text(ncid, *v_spec, "units", "m3 s-2", path, "ke_spectrum", st)) ||
-        (code = put_text(ncid, *v_spec, "long_name",
+        (code = tg_nc_put_text(ncid, *v_spec, "units", "m3 s-2", path, "ke_spectrum", st)) ||
+        (code = tg_nc_put_text(ncid, *v_spec, "long_name",
                          "kinetic energy spectral density per unit mass; its sum times the bin "
                          "width equals kinetic_energy in budget.nc",
                          path, "ke_spectrum", st)))
@@ -323,28 +318,28 @@ tg_fields_file *tg_fields_create(const char *path, const tg_nc_grid *g,
     f->v_spec = -1;
 
     int ncid = -1;
-    grid_ids ids;
+    tg_nc_grid_ids ids;
     int d_time, v_k = -1;
     NC_TRY(nc_create(path, NC_CLOBBER | NC_64BIT_OFFSET, &ncid), "creating the file", NULL);
     int old_fill;
     NC_TRY(nc_set_fill(ncid, NC_NOFILL, &old_fill), "setting no-fill mode", NULL);
     NC_TRY(nc_def_dim(ncid, "time", NC_UNLIMITED, &d_time), "defining dimension \"time\"", NULL);
-    if ((code = def_grid(ncid, path, g, &ids, st)))
+    if ((code = tg_nc_def_grid(ncid, path, g, &ids, st)))
         goto fail;
     NC_TRY(nc_def_var(ncid, "time", NC_DOUBLE, 1, &d_time, &f->v_time), "defining the variable",
            "time");
-    if ((code = put_time_atts(ncid, f->v_time, path, st)))
+    if ((code = tg_nc_time_atts(ncid, f->v_time, path, st)))
         goto fail;
     int dims[4] = {d_time, ids.d_layer, ids.d_y, ids.d_x};
     if ((code = def_psi_q(ncid, path, 4, dims, &f->v_psi, &f->v_q, st)))
         goto fail;
     if (wn && (code = def_spectrum(ncid, path, wn, d_time, ids.d_layer, &v_k, &f->v_spec, st)))
         goto fail;
-    if ((code = put_globals(ncid, path, g, "twingyre snapshots of streamfunction and potential "
+    if ((code = tg_nc_globals(ncid, path, g, "twingyre snapshots of streamfunction and potential "
                                            "vorticity", st)))
         goto fail;
     NC_TRY(nc_enddef(ncid), "finishing the header", NULL);
-    if ((code = put_grid(ncid, path, g, &ids, st)))
+    if ((code = tg_nc_put_grid(ncid, path, g, &ids, st)))
         goto fail;
     if (wn)
         NC_TRY(nc_put_var_double(ncid, v_k, wn->k), "writing coordinates", "wavenumber");
@@ -396,7 +391,7 @@ tg_code tg_fields_close(tg_fields_file *f, tg_status *st)
 {
     if (!f)
         return TG_OK;
-    tg_code code = nc_check(nc_close(f->ncid), f->path, "closing the file", NULL, st);
+    tg_code code = tg_nc_check(nc_close(f->ncid), f->path, "closing the file", NULL, st);
     free(f->path);
     free(f);
     return code;
@@ -544,27 +539,27 @@ tg_budget_file *tg_budget_create(const char *path, const tg_nc_grid *g, const tg
         goto fail;
     NC_TRY(nc_def_var(ncid, "time", NC_DOUBLE, 1, &d_time, &b->v_time), "defining the variable",
            "time");
-    if ((code = put_time_atts(ncid, b->v_time, path, st)))
+    if ((code = tg_nc_time_atts(ncid, b->v_time, path, st)))
         goto fail;
     /* Classic files have no 64-bit integer type; a double holds step counts
      * exactly up to 2^53. */
     NC_TRY(nc_def_var(ncid, "step", NC_DOUBLE, 1, &d_time, &b->v_step), "defining the variable",
            "step");
-    if ((code = put_text(ncid, b->v_step, "long_name", "steps taken since day 0", path, "step",
+    if ((code = tg_nc_put_text(ncid, b->v_step, "long_name", "steps taken since day 0", path, "step",
                          st)) ||
-        (code = put_text(ncid, b->v_step, "units", "1", path, "step", st)))
+        (code = tg_nc_put_text(ncid, b->v_step, "units", "1", path, "step", st)))
         goto fail;
     for (int v = 0; v < nvars; v++) {
         int dims[2] = {d_time, vars[v].per_layer == 1 ? d_layer : d_iface};
         int nd = vars[v].per_layer == 0 ? 1 : 2;
         NC_TRY(nc_def_var(ncid, vars[v].name, NC_DOUBLE, nd, dims, &b->varid[v]),
                "defining the variable", vars[v].name);
-        if ((code = put_text(ncid, b->varid[v], "units", vars[v].units, path, vars[v].name, st)) ||
-            (code = put_text(ncid, b->varid[v], "long_name", vars[v].long_name, path,
+        if ((code = tg_nc_put_text(ncid, b->varid[v], "units", vars[v].units, path, vars[v].name, st)) ||
+            (code = tg_nc_put_text(ncid, b->varid[v], "long_name", vars[v].long_name, path,
                              vars[v].name, st)))
             goto fail;
     }
-    if ((code = put_globals(ncid, path, g, "twingyre per-step budget", st)))
+    if ((code = tg_nc_globals(ncid, path, g, "twingyre per-step budget", st)))
         goto fail;
     NC_TRY(nc_enddef(ncid), "finishing the header", NULL);
     if ((code = put_index_coord(ncid, path, "layer", v_layer, g->nlayers, st)))
@@ -660,7 +655,7 @@ tg_code tg_budget_close(tg_budget_file *b, tg_status *st)
         return TG_OK;
     tg_code code = tg_budget_flush(b, st);
     if (code == TG_OK)
-        code = nc_check(nc_close(b->ncid), b->path, "closing the file", NULL, st);
+        code = tg_nc_check(nc_close(b->ncid), b->path, "closing the file", NULL, st);
     else
         close_quietly(b->ncid);
     budget_free(b);
@@ -703,28 +698,28 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
     memcpy(path + plen, ".tmp", 5);
 
     int ncid = -1, created = 0;
-    grid_ids ids;
+    tg_nc_grid_ids ids;
     int v_time, v_secs, v_step, v_psi, v_q;
     NC_TRY(nc_create(path, NC_CLOBBER | NC_64BIT_OFFSET, &ncid), "creating the file", NULL);
     created = 1;
     int old_fill;
     NC_TRY(nc_set_fill(ncid, NC_NOFILL, &old_fill), "setting no-fill mode", NULL);
-    if ((code = def_grid(ncid, path, g, &ids, st)))
+    if ((code = tg_nc_def_grid(ncid, path, g, &ids, st)))
         goto fail;
     NC_TRY(nc_def_var(ncid, "time", NC_DOUBLE, 0, NULL, &v_time), "defining the variable", "time");
-    if ((code = put_time_atts(ncid, v_time, path, st)))
+    if ((code = tg_nc_time_atts(ncid, v_time, path, st)))
         goto fail;
     /* The exact model time in seconds: days * 86400 need not give back the
      * same double, and resuming must be bitwise. */
     NC_TRY(nc_def_var(ncid, "time_seconds", NC_DOUBLE, 0, NULL, &v_secs), "defining the variable",
            "time_seconds");
-    if ((code = put_text(ncid, v_secs, "units", "s", path, "time_seconds", st)) ||
-        (code = put_text(ncid, v_secs, "long_name", "model time in seconds since day 0", path,
+    if ((code = tg_nc_put_text(ncid, v_secs, "units", "s", path, "time_seconds", st)) ||
+        (code = tg_nc_put_text(ncid, v_secs, "long_name", "model time in seconds since day 0", path,
                          "time_seconds", st)))
         goto fail;
     NC_TRY(nc_def_var(ncid, "step", NC_DOUBLE, 0, NULL, &v_step), "defining the variable", "step");
-    if ((code = put_text(ncid, v_step, "long_name", "steps taken since day 0", path, "step", st)) ||
-        (code = put_text(ncid, v_step, "units", "1", path, "step", st)))
+    if ((code = tg_nc_put_text(ncid, v_step, "long_name", "steps taken since day 0", path, "step", st)) ||
+        (code = tg_nc_put_text(ncid, v_step, "units", "1", path, "step", st)))
         goto fail;
     int dims[3] = {ids.d_layer, ids.d_y, ids.d_x};
     if ((code = def_psi_q(ncid, path, 3, dims, &v_psi, &v_q, st)))
@@ -737,15 +732,15 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
         NC_TRY(nc_def_dim(ncid, dname, c->extra_len[e], &d), "defining the length dimension", name);
         NC_TRY(nc_def_var(ncid, name, NC_DOUBLE, 1, &d, &v_extra[e]), "defining the variable",
                name);
-        if ((code = put_text(ncid, v_extra[e], "long_name",
+        if ((code = tg_nc_put_text(ncid, v_extra[e], "long_name",
                              "saved state of a closure (opaque to the file format)", path, name,
                              st)))
             goto fail;
     }
-    if ((code = put_globals(ncid, path, g, "twingyre checkpoint", st)))
+    if ((code = tg_nc_globals(ncid, path, g, "twingyre checkpoint", st)))
         goto fail;
     NC_TRY(nc_enddef(ncid), "finishing the header", NULL);
-    if ((code = put_grid(ncid, path, g, &ids, st)))
+    if ((code = tg_nc_put_grid(ncid, path, g, &ids, st)))
         goto fail;
     double days = c->time_s / TG_SECONDS_PER_DAY;
     double step = (double)c->step;
@@ -833,7 +828,7 @@ static tg_code find_var(int ncid, const char *path, const char *name, int *varid
     *found = rc == NC_NOERR;
     if (rc == NC_ENOTVAR)
         return TG_OK;
-    return nc_check(rc, path, "looking up", name, st);
+    return tg_nc_check(rc, path, "looking up", name, st);
 }
 
 /* Reads a scalar (0-D) variable; *found is 0 when absent or not scalar. */

@@ -6,6 +6,7 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 #define _POSIX_C_SOURCE 200809L
+#include "strbuf.h"
 #include "twin_skill.h"
 
 #include <errno.h>
@@ -286,43 +287,6 @@ static tg_code run_pass(sk_ctx *k, tg_skill_run *r, tg_status *st)
 /* Writing                                                             */
 /* ------------------------------------------------------------------ */
 
-/* A growing string (the printed table). */
-typedef struct {
-    char *s;
-    size_t len, cap;
-    int oom;
-} sbuf;
-
-static void sb_add(sbuf *b, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
-static void sb_add(sbuf *b, const char *fmt, ...)
-{
-    if (b->oom)
-        return;
-    va_list ap;
-    va_start(ap, fmt);
-    int need = vsnprintf(NULL, 0, fmt, ap);
-    va_end(ap);
-    if (need < 0) {
-        b->oom = 1;
-        return;
-    }
-    if (b->len + (size_t)need + 1 > b->cap) {
-        size_t cap = b->cap ? 2 * b->cap : 4096;
-        while (cap < b->len + (size_t)need + 1)
-            cap *= 2;
-        char *s = realloc(b->s, cap);
-        if (!s) {
-            b->oom = 1;
-            return;
-        }
-        b->s = s;
-        b->cap = cap;
-    }
-    va_start(ap, fmt);
-    vsnprintf(b->s + b->len, b->cap - b->len, fmt, ap);
-    va_end(ap);
-    b->len += (size_t)need;
-}
 
 static void json_num(FILE *f, double v)
 {
@@ -360,12 +324,12 @@ static const char *status_word(tg_code c)
     return c == TG_OK ? "ok" : c == TG_ERR_BLOWUP ? "unstable" : "failed";
 }
 
-static void cell(sbuf *b, double v, const char *fmt)
+static void cell(tg_strbuf *b, double v, const char *fmt)
 {
     if (isfinite(v))
-        sb_add(b, fmt, v);
+        tg_sb_printf(b, fmt, v);
     else
-        sb_add(b, "%9s", "-");
+        tg_sb_printf(b, "%9s", "-");
 }
 
 /* Writes path atomically enough for our use: to path.tmp, then rename. */
@@ -558,26 +522,26 @@ static tg_code write_all(sk_ctx *k, layer_skill *res, char **table, tg_status *s
 
     /* The printed table. */
     if (table) {
-        sbuf t = {0};
-        sb_add(&t,
+        tg_strbuf t = {0};
+        tg_sb_printf(&t,
                "Skill of the coarse runs against the coarse-grained reference "
                "(%d x %d -> %d x %d points, %s filter; %d samples over %g days)\n",
                b->twin_reference_points, b->twin_reference_points, b->twin_coarse_points,
                b->twin_coarse_points,
                b->twin_filter == TG_TWIN_FILTER_SHARP ? "sharp" : "Gaussian", k->nrec,
                b->twin_analysis_days);
-        sb_add(&t, "%-28s %5s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s\n", "run", "layer",
+        tg_sb_printf(&t, "%-28s %5s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s\n", "run", "layer",
                "KE", "psi", "psi", "EKE", "spectrum", "", "", "", "jet", "offline", "offline");
-        sb_add(&t, "%-28s %5s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s\n", "", "",
+        tg_sb_printf(&t, "%-28s %5s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s\n", "", "",
                "ratio", "corr", "nRMSE", "corr", "band 1", "band 2", "band 3", "band 4",
                "ratio", "R2", "corr");
         for (int r = 0; r < job->nruns; r++) {
             const tg_skill_run *run = &job->run[r];
             for (int l = 0; l < k->nl; l++) {
                 const layer_skill *s = &res[r * k->nl + l];
-                sb_add(&t, "%-28.28s %5d", l == 0 ? run->name : "", l + 1);
+                tg_sb_printf(&t, "%-28.28s %5d", l == 0 ? run->name : "", l + 1);
                 if (run->status != TG_OK) {
-                    sb_add(&t, "  %s\n", l == 0 ? "unstable: no statistics" : "");
+                    tg_sb_printf(&t, "  %s\n", l == 0 ? "unstable: no statistics" : "");
                     continue;
                 }
                 cell(&t, s->ke_ratio, " %9.3f");
@@ -589,10 +553,10 @@ static tg_code write_all(sk_ctx *k, layer_skill *res, char **table, tg_status *s
                 cell(&t, s->jet_ratio, " %9.3f");
                 cell(&t, s->off_r2, " %9.3f");
                 cell(&t, s->off_corr, " %9.3f");
-                sb_add(&t, "\n");
+                tg_sb_printf(&t, "\n");
             }
         }
-        sb_add(&t, "(ratios: run / coarse-grained reference; '-': not defined; details in "
+        tg_sb_printf(&t, "(ratios: run / coarse-grained reference; '-': not defined; details in "
                    "%s/skill.json)\n", job->dir);
         if (t.oom) {
             free(t.s);

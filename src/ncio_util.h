@@ -1,0 +1,39 @@
+/* ncio_util.h - netCDF building blocks shared by the library's writers
+ * (ncio.c for run output, twin_io.c for twin output). Not installed.
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
+#ifndef TG_NCIO_UTIL_H
+#define TG_NCIO_UTIL_H
+
+#include "ncio.h"
+
+/* netCDF return code -> TG_OK, or TG_ERR_IO naming the file, what was being
+ * done and (when var is not NULL) the variable. */
+tg_code tg_nc_check(int rc, const char *path, const char *what, const char *var, tg_status *st);
+
+/* A text attribute, checked. */
+tg_code tg_nc_put_text(int ncid, int varid, const char *att, const char *value, const char *path,
+                       const char *varname, tg_status *st);
+
+/* The global attributes every output file carries (Conventions, title,
+ * source, history, command_line, resolved_config). */
+tg_code tg_nc_globals(int ncid, const char *path, const tg_nc_grid *g, const char *default_title,
+                      tg_status *st);
+
+/* CF attributes of a time variable (days since day 0, noleap). */
+tg_code tg_nc_time_atts(int ncid, int varid, const char *path, tg_status *st);
+
+/* Dimensions and coordinate variables layer, y, x with their CF attributes
+ * (define mode), and their values (data mode). */
+typedef struct {
+    int d_layer, d_y, d_x;
+    int v_layer, v_y, v_x;
+} tg_nc_grid_ids;
+
+tg_code tg_nc_def_grid(int ncid, const char *path, const tg_nc_grid *g, tg_nc_grid_ids *ids,
+                       tg_status *st);
+tg_code tg_nc_put_grid(int ncid, const char *path, const tg_nc_grid *g, const tg_nc_grid_ids *ids,
+                       tg_status *st);
+
+#endif
