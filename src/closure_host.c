@@ -8,6 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "closure_tools.h"
 #include "fdops.h"
 #include "strbuf.h"
 
@@ -340,54 +341,9 @@ struct tg_closure_host {
     const char *names[TG_MAX_CLOSURES];
     const double *tends[TG_MAX_CLOSURES];
     double *u, *v;                     /* nl*npl */
-    double *lap1, *lap2;               /* npl, for the viscosity tool */
     double S[TG_MAX_LAYERS * TG_MAX_LAYERS];
-    tg_closure_tools tools;
+    tg_tools *tools;                   /* the operators the schemes use */
 };
-
-static void t_laplacian(void *ctx, const double *f, double *out)
-{
-    tg_closure_host *h = ctx;
-    tg_laplacian(h->g, f, out);
-}
-static void t_jacobian(void *ctx, const double *a, const double *b, double *out)
-{
-    tg_closure_host *h = ctx;
-    tg_jacobian(h->g, a, b, out);
-}
-static void t_ddx(void *ctx, const double *f, double *out)
-{
-    tg_closure_host *h = ctx;
-    tg_ddx(h->g, f, out);
-}
-static void t_ddy(void *ctx, const double *f, double *out)
-{
-    tg_closure_host *h = ctx;
-    tg_ddy(h->g, f, out);
-}
-static void t_div_nu_grad(void *ctx, const double *nu, const double *f, double *out)
-{
-    tg_closure_host *h = ctx;
-    tg_div_nu_grad(h->g, nu, f, out);
-}
-static void t_viscosity(void *ctx, const double *zeta, double A2, double A4, double *out)
-{
-    tg_closure_host *h = ctx;
-    tg_viscosity_layer(h->g, zeta, A2, A4, h->lap1, h->lap2, out);
-}
-static void t_fill_ring(void *ctx, double *f, tg_ring_kind how)
-{
-    tg_closure_host *h = ctx;
-    if (how == TG_RING_EXTEND)
-        h->g->ops->fill_ring_extend(h->g, f);
-    else
-        h->g->ops->fill_ring(h->g, f, 0.0);
-}
-static void t_filter(void *ctx, double *f, double width)
-{
-    tg_closure_host *h = ctx;
-    h->g->ops->filter_gaussian(h->g, f, width);
-}
 
 void tg_closure_host_destroy(tg_closure_host *h)
 {
@@ -400,8 +356,7 @@ void tg_closure_host_destroy(tg_closure_host *h)
     }
     free(h->u);
     free(h->v);
-    free(h->lap1);
-    free(h->lap2);
+    tg_tools_destroy(h->tools);
     free(h);
 }
 
@@ -421,10 +376,6 @@ tg_closure_host *tg_closure_host_create(const tg_config *cfg, tg_geometry *g, co
     h->nl = cfg->nlayers;
     h->npl = (long)g->ns * g->ns;
     h->dt = cfg->step_s;
-    h->tools = (tg_closure_tools){.ctx = h, .laplacian = t_laplacian, .jacobian = t_jacobian,
-                                  .ddx = t_ddx, .ddy = t_ddy, .div_nu_grad = t_div_nu_grad,
-                                  .viscosity = t_viscosity, .fill_ring = t_fill_ring,
-                                  .filter_gaussian = t_filter};
     for (int k = 0; k < h->nl; k++)
         for (int j = 0; j < h->nl; j++)
             h->S[k * h->nl + j] = md->S[k][j];
@@ -433,10 +384,13 @@ tg_closure_host *tg_closure_host_create(const tg_config *cfg, tg_geometry *g, co
     const long nf = h->nl * h->npl;
     h->u = calloc((size_t)nf, sizeof(double));
     h->v = calloc((size_t)nf, sizeof(double));
-    h->lap1 = calloc((size_t)h->npl, sizeof(double));
-    h->lap2 = calloc((size_t)h->npl, sizeof(double));
-    if (!h->u || !h->v || !h->lap1 || !h->lap2) {
+    if (!h->u || !h->v) {
         tg_fail(st, TG_ERR_NOMEM, "closures: no memory for work arrays");
+        tg_closure_host_destroy(h);
+        return NULL;
+    }
+    h->tools = tg_tools_create(g, st);
+    if (!h->tools) {
         tg_closure_host_destroy(h);
         return NULL;
     }
@@ -461,7 +415,7 @@ tg_closure_host *tg_closure_host_create(const tg_config *cfg, tg_geometry *g, co
                               .f0 = cfg->coriolis_f0_per_s, .beta = cfg->beta_per_m_per_s,
                               .stretching = h->S, .seed = cfg->seed, .member = cfg->member,
                               .params = ch->params, .texts = texts, .config_dir = "",
-                              .tools = &h->tools};
+                              .tools = tg_tools_get(h->tools)};
         tg_status cs;
         tg_status_clear(&cs);
         if (ch->ops->create(&s, &h->state[c], &cs) != TG_OK) {
@@ -513,7 +467,7 @@ static tg_closure_view make_view(tg_closure_host *h, const tg_closure_input *in,
                              .dx = g->dx, .dt = h->dt, .step = in->step, .stage = in->stage,
                              .psi = in->psi, .q = in->q, .zeta = in->zeta, .u = h->u, .v = h->v,
                              .wall = in->wall, .ndone = ndone, .done_names = h->names,
-                             .done_tend = h->tends, .tools = &h->tools};
+                             .done_tend = h->tends, .tools = tg_tools_get(h->tools)};
 }
 
 tg_code tg_closure_host_eval(tg_closure_host *h, const tg_closure_input *in, tg_status *st)

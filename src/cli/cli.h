@@ -60,6 +60,9 @@ int cmd_run(int argc, char **argv);
 int cmd_describe(int argc, char **argv);
 int cmd_closures(int argc, char **argv);
 int cmd_twin(int argc, char **argv);
+int cmd_fit(int argc, char **argv);
+int cmd_vet(int argc, char **argv);
+int cmd_sweep(int argc, char **argv);
 
 /* Exit status of a library code (README, "Exit codes"). */
 int cli_exit_code(tg_code code);

@@ -69,7 +69,13 @@ int main(int argc, char **argv)
         return cmd_closures(argc, argv);
     if (!strcmp(cmd, "twin"))
         return cmd_twin(argc, argv);
-    fprintf(stderr, "twingyre: unknown command '%s' (commands: run, describe, closures, twin; see --help)\n",
+    if (!strcmp(cmd, "fit"))
+        return cmd_fit(argc, argv);
+    if (!strcmp(cmd, "vet"))
+        return cmd_vet(argc, argv);
+    if (!strcmp(cmd, "sweep"))
+        return cmd_sweep(argc, argv);
+    fprintf(stderr, "twingyre: unknown command '%s' (commands: run, describe, closures, twin, fit, vet, sweep; see --help)\n",
             cmd);
     return 1;
 }

@@ -22,7 +22,7 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include "basis.h"
-#include "basis_test_tools.h"
+#include "closure_tools.h"
 #include "fdops.h"
 #include "geometry.h"
 
@@ -177,7 +177,7 @@ static double exact(const char *name, double x, double y)
 
 typedef struct {
     tg_geometry *g;
-    test_tools *tt;
+    tg_tools *tt;
     tg_basis *b;
     double *psi, *q, *zeta, *out;
 } grid;
@@ -200,9 +200,9 @@ static grid make_grid(int periodic, int points, double size_km)
     grid r;
     tg_status st;
     r.g = make_geometry(periodic, points, size_km);
-    r.tt = tt_create(r.g);
+    r.tt = tg_tools_create(r.g, &st);
     ck_assert_ptr_nonnull(r.tt);
-    r.b = tg_basis_create(r.g->ns, r.g->a0, r.g->a1, r.g->dx, &r.tt->tools, &st);
+    r.b = tg_basis_create(r.g->ns, r.g->a0, r.g->a1, r.g->dx, tg_tools_get(r.tt), &st);
     ck_assert_msg(r.b != NULL, "basis: %s", st.msg);
     const size_t n = (size_t)r.g->ns * r.g->ns;
     r.psi = calloc(n, sizeof(double));
@@ -216,7 +216,7 @@ static grid make_grid(int periodic, int points, double size_km)
 static void free_grid(grid *r)
 {
     tg_basis_destroy(r->b);
-    tt_destroy(r->tt);
+    tg_tools_destroy(r->tt);
     tg_geometry_destroy(r->g);
     free(r->psi);
     free(r->q);
@@ -512,7 +512,7 @@ START_TEST(test_bad_term)
                                    &st),
                      TG_ERR_INTERNAL);
     ck_assert_ptr_nonnull(strstr(st.msg, "no term"));
-    ck_assert_ptr_null(tg_basis_create(16, 0, 16, 1.0, &r.tt->tools, &st));
+    ck_assert_ptr_null(tg_basis_create(16, 0, 16, 1.0, tg_tools_get(r.tt), &st));
     free_grid(&r);
 }
 END_TEST

@@ -24,7 +24,7 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include "basis.h"
-#include "basis_test_tools.h"
+#include "closure_tools.h"
 #include "closure_host.h"
 #include "model.h"
 #include "stepper.h"
@@ -124,16 +124,16 @@ static double max_abs(const tg_model *m, const double *f, int k)
 static void term_of(tg_model *m, int term, int k, double *out)
 {
     tg_status st;
-    test_tools *tt = tt_create(m->geom);
+    tg_tools *tt = tg_tools_create(m->geom, &st);
     ck_assert_ptr_nonnull(tt);
-    tg_basis *b = tg_basis_create(m->geom->ns, m->geom->a0, m->geom->a1, m->geom->dx, &tt->tools,
+    tg_basis *b = tg_basis_create(m->geom->ns, m->geom->a0, m->geom->a1, m->geom->dx, tg_tools_get(tt),
                                   &st);
     ck_assert_msg(b != NULL, "basis: %s", st.msg);
     const long o = k * m->npl;
     ck_assert(tg_basis_eval(b, term, m->psi + o, m->q + o, m->zeta + o, NULL, NULL, out, &st) ==
               TG_OK);
     tg_basis_destroy(b);
-    tt_destroy(tt);
+    tg_tools_destroy(tt);
 }
 
 /* Least-squares coefficient c of tend = c * term over the active nodes of layer k. */
