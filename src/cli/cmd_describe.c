@@ -45,8 +45,22 @@ int cmd_describe(int argc, char **argv)
         snprintf(what, sizeof what, "deformation radius, mode %d", m);
         width_line(what, s.radius_m[m], s.dx_m);
     }
-    width_line("Munk layer (A2/beta)^(1/3)", s.munk_m, s.dx_m);
-    width_line("Stommel layer r/beta", s.stommel_m, s.dx_m);
+    if (!s.periodic) {
+        width_line("Munk layer (A2/beta)^(1/3)", s.munk_m, s.dx_m);
+        width_line("Stommel layer r/beta", s.stommel_m, s.dx_m);
+    }
+    if (s.has_background) {
+        for (int k = 0; k < cfg.nlayers; k++) {
+            char what[64];
+            snprintf(what, sizeof what, "background PV gradient, layer %d", k + 1);
+            printf(";   %-34s %10.3e m-1 s-1\n", what, s.pv_gradient[k]);
+        }
+        printf(";   %-34s %10s\n", "PV gradient changes sign",
+               s.gradient_changes_sign ? "yes" : "no");
+        if (isfinite(s.critical_shear_m_s))
+            printf(";   %-34s %10.4f m s-1  (shear / critical = %.2f)\n",
+                   "critical shear beta g' H/f0^2", s.critical_shear_m_s, s.shear_ratio);
+    }
     if (isfinite(s.rossby_period_days))
         printf(";   %-34s %10.2f days\n", "gravest Rossby basin mode period", s.rossby_period_days);
     printf(";   %-34s %10.3f\n", "CFL at 1 m/s", s.cfl_at_1ms);

@@ -437,7 +437,7 @@ scale() {
         head -n 1 | tr -d '[:space:]'
 }
 
-# Common practice: dx = L/(points - 1) with both walls on grid points (api.md).
+# Common practice: dx = L/(points - 1) with both walls on grid points.
 DX_KM=$(calc "$L_KM / ($NPTS - 1)")
 got=$(scale "grid spacing")
 if close_to "$got" "$DX_KM" 1e-3; then
@@ -533,6 +533,30 @@ if [ "$rc" -eq 0 ] && close_to "$got" "$want" 1e-3 && grep -qE '^points = 65( |$
 else
     notok "describe --set grid.points=65: resolved config and grid spacing follow the override" \
         "grid spacing '$got', expected $want" "$(err_tail)"
+fi
+
+# Periodic domain: no wall scales; with an imposed shear, the background PV
+# gradients and the two-layer critical shear beta g' H2 / f0^2 (Phillips 1954,
+# Tellus 6, 273-286; Pedlosky 1987, Geophysical Fluid Dynamics, section 7.11).
+JETS="$TG_SRCDIR/configs/jets-64.ini"
+tg describe "$JETS"
+cp "$T/out" "$T/describe-periodic.out"
+BETA_J=$(ini_get "$JETS" planet beta_per_m_per_s)
+F0_J=$(ini_get "$JETS" planet coriolis_f0_per_s)
+GP_J=$(ini_get "$JETS" layers reduced_gravity_m_s2)
+H_J=$(ini_get "$JETS" layers thickness_m)
+U_J=$(ini_get "$JETS" background zonal_velocity_m_s)
+want=$(calc "$BETA_J * $GP_J * ${H_J##*,} / ($F0_J * $F0_J)")
+want_ratio=$(calc "(${U_J%%,*} - (${U_J##*,})) / $want")
+got=$(grep -F "critical shear" "$T/out" | sed 's/^.*f0^2//' | grep -oE '[0-9]+\.[0-9]+' | head -n 1)
+got_ratio=$(grep -F "critical shear" "$T/out" | sed 's/^.*= //' | grep -oE '[0-9]+\.[0-9]+' | head -n 1)
+if [ "$rc" -eq 0 ] && close_to "$got" "$want" 1e-3 && close_to "$got_ratio" "$want_ratio" 1e-2 &&
+    ! has "Munk" "$T/out" && ! has "Stommel" "$T/out" && ! has "basin mode" "$T/out" &&
+    grep -qE 'PV gradient changes sign +yes' "$T/out"; then
+    ok "describe (periodic): critical shear $got m/s (expected $want), ratio $got_ratio, no wall scales"
+else
+    notok "describe (periodic): critical shear beta g' H2/f0^2 and no wall scales" \
+        "got '$got' ratio '$got_ratio', expected $want ratio $want_ratio" "$(cat "$T/out" | tail -n 12)"
 fi
 
 # ---------------------------------------------------------------- a good run
