@@ -1297,23 +1297,17 @@ static tg_code read_file(const char *path, char **out, size_t *out_len, tg_statu
     return TG_OK;
 }
 
-tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st)
+/* Parses the INI text buf (len bytes, NUL-terminated, owned by the
+ * caller) over cfg; `path` names it in messages. */
+static tg_code load_buffer(tg_config *cfg, const char *path, char *buf, size_t len,
+                           tg_status *st)
 {
-    if (!cfg || !path)
-        return tg_fail(st, TG_ERR_INTERNAL, "tg_config_load_file: NULL argument");
-
-    char *buf = NULL;
-    size_t len = 0;
-    tg_code rc = read_file(path, &buf, &len, st);
-    if (rc != TG_OK)
-        return rc;
-
+    tg_code rc;
     const char *nul = memchr(buf, '\0', len);
     if (nul) {
         int line = 1;
         for (const char *p = buf; p < nul; p++)
             line += *p == '\n';
-        free(buf);
         return tg_fail(st, TG_ERR_CONFIG, "%s:%d: contains a NUL byte; is this really a text file?",
                        path, line);
     }
@@ -1323,7 +1317,6 @@ tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st)
     if (!c || !work) {
         free(c);
         free(work);
-        free(buf);
         return tg_fail(st, TG_ERR_NOMEM, "out of memory reading config file '%s'", path);
     }
     *work = *cfg;
@@ -1360,6 +1353,33 @@ tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st)
     }
     free(work);
     free(c);
+    return rc;
+}
+
+tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st)
+{
+    if (!cfg || !path)
+        return tg_fail(st, TG_ERR_INTERNAL, "tg_config_load_file: NULL argument");
+    char *buf = NULL;
+    size_t len = 0;
+    tg_code rc = read_file(path, &buf, &len, st);
+    if (rc != TG_OK)
+        return rc;
+    rc = load_buffer(cfg, path, buf, len, st);
+    free(buf);
+    return rc;
+}
+
+tg_code tg_config_load_text(tg_config *cfg, const char *text, const char *name, tg_status *st)
+{
+    if (!cfg || !text || !name)
+        return tg_fail(st, TG_ERR_INTERNAL, "tg_config_load_text: NULL argument");
+    size_t len = strlen(text);
+    char *buf = malloc(len + 1);
+    if (!buf)
+        return tg_fail(st, TG_ERR_NOMEM, "out of memory reading the config text of %s", name);
+    memcpy(buf, text, len + 1);
+    tg_code rc = load_buffer(cfg, name, buf, len, st);
     free(buf);
     return rc;
 }

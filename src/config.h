@@ -135,6 +135,10 @@ void tg_config_defaults(tg_config *cfg);
  * found, and "did you mean ..." for unknown sections and keys. */
 tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st);
 
+/* The same for INI text held in memory (e.g. the resolved_config attribute
+ * of an output file); `name` stands for the file in messages. */
+tg_code tg_config_load_text(tg_config *cfg, const char *text, const char *name, tg_status *st);
+
 /* Applies one override "section.key=value" with the same checks as the file.
  * Messages start with "--set section.key=value: ". */
 tg_code tg_config_set(tg_config *cfg, const char *assignment, tg_status *st);

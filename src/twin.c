@@ -121,6 +121,28 @@ static tg_code entry_label(const tg_config *coarse, const char *use, const char 
     return rc;
 }
 
+tg_code tg_twin_coarse_config(const tg_config *cfg, const char *origin, tg_config *out,
+                              tg_status *st)
+{
+    tg_code rc = tg_config_twin_derive(cfg, 1, origin, out, st);
+    if (rc != TG_OK)
+        return rc;
+    /* Coarse runs: the window, a snapshot at every sample, one summary line. */
+    out->duration_days = cfg->twin_analysis_days;
+    out->snapshot_every_days = cfg->twin_sample_every_days;
+    out->log_every_days = cfg->twin_analysis_days;
+    out->initial_kind = TG_INIT_REST; /* the starting file is written later */
+    out->initial_path[0] = '\0';
+    /* The coarse runs' [initial] keys other than the seed do not apply. */
+    const char *ikeys[] = {"state", "noise_amplitude_m2_per_s"};
+    for (int i = 0; i < 2; i++) {
+        int row = tg_config_key_index("initial", ikeys[i]);
+        if (row >= 0)
+            out->set_by_user[row] = TG_SET_DEFAULT;
+    }
+    return TG_OK;
+}
+
 /* Derives and checks every config of the twin into c. */
 static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg_status *st)
 {
@@ -131,7 +153,7 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
     if ((rc = tg_config_check_twin(cfg, origin, st)) != TG_OK)
         return rc;
     if ((rc = tg_config_twin_derive(cfg, 0, origin, &c->ref, st)) != TG_OK ||
-        (rc = tg_config_twin_derive(cfg, 1, origin, &c->coarse, st)) != TG_OK)
+        (rc = tg_twin_coarse_config(cfg, origin, &c->coarse, st)) != TG_OK)
         return rc;
 
     char used[TG_MAX_CLOSURES * (TG_MAX_CLOSURES + 1)][72];
@@ -148,22 +170,7 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
     if ((rc = tg_config_check(r, origin, st)) != TG_OK)
         return tg_fail(st, rc, "the reference run: %s", st->msg);
 
-    /* Coarse runs: the window, a snapshot at every sample, one summary line. */
     tg_config *k = &c->coarse;
-    k->duration_days = cfg->twin_analysis_days;
-    k->snapshot_every_days = cfg->twin_sample_every_days;
-    k->log_every_days = cfg->twin_analysis_days;
-    k->initial_kind = TG_INIT_REST; /* the starting file is written later */
-    k->initial_path[0] = '\0';
-    {
-        /* The coarse runs' [initial] keys other than the seed do not apply. */
-        const char *ikeys[] = {"state", "noise_amplitude_m2_per_s"};
-        for (int i = 0; i < 2; i++) {
-            int row = tg_config_key_index("initial", ikeys[i]);
-            if (row >= 0)
-                k->set_by_user[row] = TG_SET_DEFAULT;
-        }
-    }
 
     /* Entries: none first, then [twin] compare in order. */
     char entries[TG_MAX_CLOSURES + 1][TG_RAW_TEXT];
