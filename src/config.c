@@ -23,6 +23,7 @@
  */
 #include "config.h"
 #include "closure.h"
+#include "basis.h"
 #include "closure_host.h"
 #include "strbuf.h"
 
@@ -1367,6 +1368,15 @@ tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st)
         return rc;
     rc = load_buffer(cfg, path, buf, len, st);
     free(buf);
+    if (rc == TG_OK) {
+        const char *slash = strrchr(path, '/');
+        if (!slash)
+            snprintf(cfg->config_dir, sizeof cfg->config_dir, ".");
+        else if (slash == path)
+            snprintf(cfg->config_dir, sizeof cfg->config_dir, "/");
+        else
+            snprintf(cfg->config_dir, sizeof cfg->config_dir, "%.*s", (int)(slash - path), path);
+    }
     return rc;
 }
 
@@ -1850,6 +1860,21 @@ static int whole_multiple(double x, double unit, long *n)
     return fabs(r - k) <= 1e-9 * fmax(1.0, fabs(r));
 }
 
+int tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n)
+{
+    static const char prefix[] = "coefficients:";
+    if (strncmp(entry, prefix, sizeof prefix - 1) != 0)
+        return 0;
+    const char *p = entry + sizeof prefix - 1;
+    while (isspace((unsigned char)*p))
+        p++;
+    if (p[0] == '/' || p[0] == '\0' || cfg->config_dir[0] == '\0')
+        snprintf(path, n, "%s", p);
+    else
+        snprintf(path, n, "%s/%s", cfg->config_dir, p);
+    return 1;
+}
+
 tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_status *st)
 {
     if (!base)
@@ -1941,7 +1966,22 @@ tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_statu
         for (int k = 0; k < nseen; k++)
             if (strcmp(seen[k], name) == 0)
                 return key_fail(base, K_TWIN_COMPARE, origin, st, "'%s' is listed twice", name);
-        if (strcmp(name, "none") != 0 && strncmp(name, "plugin:", 7) != 0 &&
+        char fitted[TG_PATH_LEN];
+        if (tg_config_fitted_entry(base, name, fitted, sizeof fitted)) {
+            /* A coefficients file: it must load for this many layers. */
+            tg_coef_list list;
+            tg_status cs;
+            tg_status_clear(&cs);
+            if (!strcmp(name + strlen("coefficients:"), ""))
+                return key_fail(base, K_TWIN_COMPARE, origin, st,
+                                "entry %d: coefficients: needs a file, e.g. "
+                                "coefficients:fitted.txt", item);
+            if (tg_coef_read(fitted, base->nlayers, &list, &cs) != TG_OK)
+                return key_fail(base, K_TWIN_COMPARE, origin, st,
+                                "'%s': the coefficients file does not load: %s (relative paths "
+                                "are taken from the config file's directory)", name, cs.msg);
+            tg_coef_list_free(&list);
+        } else if (strcmp(name, "none") != 0 && strncmp(name, "plugin:", 7) != 0 &&
             !tg_closure_find(name)) {
             const char *names[64];
             int nn = tg_closure_count();
