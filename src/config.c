@@ -295,8 +295,9 @@ static const key_row rows[K_COUNT] = {
         .off = OFF(twin_sample_every_days), REAL_GT0("a real number > 0")},
     [K_TWIN_COMPARE] = {
         .info = {"twin", "compare", "", "text", "none",
-                 "comma-separated closure names (`twingyre closures`), plugin:PATH.so or none; "
-                 "at most 7 besides none",
+                 "comma-separated closure names (`twingyre closures`), plugin:PATH.so, "
+                 "coefficients:FILE (a fitted coefficients file, relative to the config's "
+                 "directory) or none; at most 7 besides none",
                  "closures of the coarse runs, one coarse run each; none (no closure) is always run"},
         .kind = V_TEXT, .off = OFF(twin_compare),
         .expect = "a comma-separated list of closure names"},
