@@ -177,7 +177,7 @@ static tg_code standardize(const tg_fit_acc *a, const unsigned char *use,
  * condition number from the eigenvalues (LAPACKE_dsyevd); full rank:
  * Cholesky (LAPACKE_dposv); otherwise the pseudo-inverse. */
 static tg_code solve_block(const std_problem *sp, const int *idx, int m, double lambda,
-                           double *x, int *rank, double *cond, tg_status *st)
+                           double *x, int *rank, double *cond, double *null_vec, tg_status *st)
 {
     const int p = sp->p;
     double A[TG_FIT_MAX_TERMS * TG_FIT_MAX_TERMS], E[TG_FIT_MAX_TERMS * TG_FIT_MAX_TERMS];
@@ -199,6 +199,12 @@ static tg_code solve_block(const std_problem *sp, const int *idx, int m, double 
         r += w[i] > tol;
     *rank = r;
     *cond = (w[0] > 0) ? wmax / w[0] : INFINITY;
+    if (null_vec) {
+        for (int j = 0; j < sp->p; j++)
+            null_vec[j] = 0.0;
+        for (int i = 0; i < m; i++)
+            null_vec[idx[i]] = E[i * m + 0]; /* eigenvalues ascend */
+    }
     if (r == m) {
         memcpy(x, rhs, sizeof(double) * (size_t)m);
         info = LAPACKE_dposv(LAPACK_ROW_MAJOR, 'U', m, 1, A, m, x, 1);
@@ -257,7 +263,7 @@ static tg_code fit_ls(const std_problem *sp, double lambda, tg_fit_result *r, tg
     int idx[TG_FIT_MAX_TERMS] = {0};
     double x[TG_FIT_MAX_TERMS];
     const int m = kept_index(r->kept, sp->p, idx);
-    tg_code rc = solve_block(sp, idx, m, lambda, x, &r->rank, &r->cond, st);
+    tg_code rc = solve_block(sp, idx, m, lambda, x, &r->rank, &r->cond, r->null_vec, st);
     if (rc != TG_OK)
         return rc;
     for (int i = 0; i < m; i++)
@@ -395,7 +401,7 @@ static tg_code fit_rvm(const std_problem *sp, const tg_fit_settings *s, tg_fit_r
     r->noise_std = sp->tau / sqrt(beta);
     /* Rank and condition number of the kept block, for the report. */
     double x[TG_FIT_MAX_TERMS];
-    return solve_block(sp, idx, m, 0.0, x, &r->rank, &r->cond, st);
+    return solve_block(sp, idx, m, 0.0, x, &r->rank, &r->cond, r->null_vec, st);
 }
 
 tg_code tg_fit_solve(const tg_fit_acc *a, const unsigned char *use, const char *const *names,
@@ -432,12 +438,6 @@ tg_code tg_fit_solve(const tg_fit_acc *a, const unsigned char *use, const char *
         for (int j = 0; j < a->p; j++)
             if (r->kept[j] && keep_std[j])
                 r->std[j] = stds[j];
-        if (r->rank < r->nkept)
-            tg_log(TG_LOG_WARN,
-                   "fit: the standardized Gram matrix of the %d kept terms has rank %d "
-                   "(condition number %.3g): some terms are linear combinations of others on "
-                   "these data; the minimum-norm solution is used. Drop terms (--terms) or use "
-                   "--method ridge", r->nkept, r->rank, r->cond);
     }
     free(sp);
     return rc;
@@ -493,7 +493,7 @@ tg_code tg_fit_path_backward(const tg_fit_acc *a, const unsigned char *use, doub
             break;
         int rank;
         double cond;
-        if ((rc = solve_block(sp, idx, m, lambda, x, &rank, &cond, st)) != TG_OK)
+        if ((rc = solve_block(sp, idx, m, lambda, x, &rank, &cond, NULL, st)) != TG_OK)
             break;
         memset(coef, 0, sizeof coef);
         for (int i = 0; i < m; i++)
@@ -512,7 +512,7 @@ tg_code tg_fit_path_backward(const tg_fit_acc *a, const unsigned char *use, doub
             for (int i = 0; i < m; i++)
                 if (i != d)
                     sub[ms++] = idx[i];
-            if ((rc = solve_block(sp, sub, ms, lambda, x, &rank, &cond, st)) != TG_OK)
+            if ((rc = solve_block(sp, sub, ms, lambda, x, &rank, &cond, NULL, st)) != TG_OK)
                 break;
             memset(coef, 0, sizeof coef);
             for (int i = 0; i < ms; i++)

@@ -112,10 +112,16 @@ typedef struct {
     double cond;                      /* its condition number (eigenvalue ratio) */
     int iterations;                   /* stlsq / rvm */
     double noise_std;                 /* rvm: 1/sqrt(beta), physical units of t */
+    /* When rank < nkept: the eigenvector of the smallest eigenvalue of the
+     * standardized Gram block over all p columns (0 off the kept ones), the
+     * combination of terms that is (nearly) zero on the data. */
+    double null_vec[TG_FIT_MAX_TERMS];
 } tg_fit_result;
 
 /* Fits the columns marked in `use` (NULL: all). names[j] names column j in
- * messages (a column that is zero on every row, a target that is zero). */
+ * messages (a column that is zero on every row, a target that is zero).
+ * A rank-deficient Gram matrix is not an error (the minimum-norm solution
+ * is used); the caller reports it from rank, nkept and null_vec. */
 tg_code tg_fit_solve(const tg_fit_acc *a, const unsigned char *use, const char *const *names,
                      const tg_fit_settings *s, tg_fit_result *r, tg_status *st);
 

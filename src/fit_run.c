@@ -394,6 +394,30 @@ static tg_code write_output(fit_ctx *k, tg_status *st)
     return TG_OK;
 }
 
+/* A rank-deficient fit: the terms that carry the near-null combination. */
+static void warn_rank(const fit_ctx *k, int f)
+{
+    const tg_fit_result *r = &k->res[f];
+    double big = 0.0;
+    for (int c = 0; c < k->p; c++)
+        big = fmax(big, fabs(r->null_vec[c]));
+    tg_strbuf b = {0};
+    for (int c = 0; c < k->p; c++)
+        if (fabs(r->null_vec[c]) > 0.1 * big)
+            tg_sb_printf(&b, "%s%s", b.s ? ", " : "", k->names[c]);
+    char where[32];
+    if (k->o->shared)
+        snprintf(where, sizeof where, "all layers");
+    else
+        snprintf(where, sizeof where, "layer %d", f + 1);
+    tg_log(TG_LOG_WARN,
+           "fit (%s): the Gram matrix of the %d terms has rank %d (condition number %.3g): "
+           "a combination of %s is (nearly) zero on these data; the minimum-norm solution is "
+           "used. Leave one of them out (--terms) or use --method ridge",
+           where, r->nkept, r->rank, r->cond, b.s && !b.oom ? b.s : "some terms");
+    free(b.s);
+}
+
 /* ------------------------------------------------------------------ */
 /* The fit                                                             */
 /* ------------------------------------------------------------------ */
@@ -508,6 +532,8 @@ tg_code tg_fit_run(const tg_fit_options *o, char **report, tg_status *st)
         for (int f = 0; f < k->nfits && rc == TG_OK; f++) {
             const tg_fit_acc *a = o->shared ? pool : k->acc[W_TRAIN][f];
             rc = tg_fit_solve(a, NULL, k->names, &o->set, &k->res[f], st);
+            if (rc == TG_OK && k->res[f].rank < k->res[f].nkept)
+                warn_rank(k, f);
             if (rc == TG_OK)
                 rc = tg_fit_path_backward(a, NULL, lam, &k->path[f], st);
             if (rc != TG_OK && !o->shared)
