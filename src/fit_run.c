@@ -432,6 +432,24 @@ static tg_code check_window(int first, int last, int nrec, const char *opt, tg_s
     return TG_OK;
 }
 
+/* Whether the directory of path can take a new file (checked before the
+ * data are read, so that a long read does not end in a refusal). */
+static tg_code dir_writable(const char *path, const char *opt, tg_status *st)
+{
+    char dir[TG_PATH_LEN];
+    const char *slash = strrchr(path, '/');
+    if (!slash)
+        snprintf(dir, sizeof dir, ".");
+    else if (slash == path)
+        snprintf(dir, sizeof dir, "/");
+    else
+        snprintf(dir, sizeof dir, "%.*s", (int)(slash - path), path);
+    if (access(dir, W_OK | X_OK) != 0)
+        return tg_fail(st, TG_ERR_IO, "%s %s: cannot write in directory %s: %s", opt, path, dir,
+                       strerror(errno));
+    return TG_OK;
+}
+
 static void ctx_free(fit_ctx *k)
 {
     for (int w = 0; w < 2; w++)
@@ -458,6 +476,11 @@ tg_code tg_fit_run(const tg_fit_options *o, char **report, tg_status *st)
     if (o->dump_path && !o->overwrite && access(o->dump_path, F_OK) == 0)
         return tg_fail(st, TG_ERR_IO, "--dump-design %s exists; give --overwrite to replace it",
                        o->dump_path);
+    tg_code rc0 = dir_writable(o->output, "--out", st);
+    if (rc0 == TG_OK && o->dump_path)
+        rc0 = dir_writable(o->dump_path, "--dump-design", st);
+    if (rc0 != TG_OK)
+        return rc0;
     fit_ctx *k = calloc(1, sizeof *k);
     if (!k)
         return tg_fail(st, TG_ERR_NOMEM, "fit: no memory");

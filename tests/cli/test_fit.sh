@@ -237,6 +237,8 @@ tg fit "$S" --out "$T/x.txt" --train 0:99
 check "--train 0:99 beyond the 9 samples: exit 1 naming --train and the range" $([ "$rc" -eq 1 ] && has "--train 0:99" "$T/err" && has "samples 0 to 8" "$T/err"; echo $?) "$(err_tail)"
 tg fit "$S" --out "$T/x.txt" --ridge 0.1
 check "--ridge with --method ols: exit 1" $([ "$rc" -eq 1 ] && has "--ridge applies to" "$T/err"; echo $?) "$(err_tail)"
+tg fit "$S" --out "$T/no/such/dir/x.txt"
+check "--out in a missing directory: exit 3 naming --out before any reading" $([ "$rc" -eq 3 ] && has "--out $T/no/such/dir/x.txt: cannot write in directory" "$T/err"; echo $?) "$(err_tail)"
 tg fit "$T/nothing.nc" --out "$T/x.txt"
 check "a missing input file: exit 3 naming it" $([ "$rc" -eq 3 ] && has "$T/nothing.nc" "$T/err"; echo $?) "$(err_tail)"
 tg fit "$T/run-ols/fields.nc" --out "$T/x.txt"
