@@ -361,7 +361,9 @@ static tg_code fit_rvm(const std_problem *sp, const tg_fit_settings *s, tg_fit_r
             const double gamma = 1.0 - alpha[j] * Sg[i * m + i];
             sgamma += gamma;
             double anew = gamma / (mu[i] * mu[i]);
-            if (!(anew < s->alpha_max) || !isfinite(anew)) {
+            /* gamma_j <= 0 (round-off once the prior dominates) or a huge
+             * alpha: the data do not determine the term; prune it. */
+            if (!(anew > 0) || !(anew < s->alpha_max) || !isfinite(anew)) {
                 r->kept[j] = 0;
                 pruned = 1;
                 continue;

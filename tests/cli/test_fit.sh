@@ -8,7 +8,9 @@
 # file's directory, run from another directory) runs it, and its offline
 # R^2 on the same samples equals the fit's training R^2 (both are
 # 1 - SSE/SST over the same nodes and samples; the definition, common
-# practice); bad options and inputs give clear messages, the documented
+# practice); a relative [coefficients] file is taken from the config
+# file's directory and a relative --set value from the current directory;
+# bad options and inputs give clear messages, the documented
 # exit statuses, and leave existing files alone.
 #
 # Environment: TWINGYRE (the program; default /tmp/twingyre), TG_SRCDIR,
@@ -225,6 +227,18 @@ for r in rows:
 EOF
 "$PYTHON" "$T/r2.py" "$T/tw2/skill.csv" "$T/cfg/fitted.txt" >"$T/py" 2>&1
 check "the twin's offline R2 of the fitted file equals the fit's training R2 on the same samples (4 decimals)" $? "$(cat "$T/py")"
+
+# A relative [coefficients] file is taken from the config file's directory;
+# a relative --set value from the current directory.
+{ cat "$T/coarse.ini"; printf '\n[closure]\nuse = coefficients\n\n[coefficients]\nfile = fitted.txt\n'; } >"$T/cfg/coarse-fitted.ini"
+tg run "$T/cfg/coarse-fitted.ini" --out "$T/run-rel" --quiet
+check "[coefficients] file = fitted.txt in cfg/coarse-fitted.ini, run from another directory, loads cfg/fitted.txt" \
+    $([ "$rc" -eq 0 ] && [ -s "$T/run-rel/fields.nc" ]; echo $?) "$(err_tail)"
+(cd "$T/cfg" && "$TWINGYRE" run ../coarse.ini --out "$T/run-rel2" --quiet --set closure.use=coefficients \
+    --set coefficients.file=fitted.txt >"$T/out" 2>"$T/err")
+rc=$?
+check "--set coefficients.file=fitted.txt is taken from the current directory" \
+    $([ "$rc" -eq 0 ] && [ -s "$T/run-rel2/fields.nc" ]; echo $?) "$(err_tail)"
 
 # ---------------------------------------------------------------- errors
 tg fit "$S" --out "$T/x.txt" --bogus 1
