@@ -250,10 +250,17 @@ START_TEST(test_recovery)
     tg_fit_result res;
     ck_assert_msg(tg_fit_solve(a, NULL, rec_terms, &set, &res, &st) == TG_OK, "%s: %s",
                   tg_fit_method_name(method), st.msg);
+    double worst_err = 0.0;
+    for (int c = 0; c < NREC_T; c++)
+        worst_err = fmax(worst_err, fabs(res.coef[c] - truth[c]) * rms[c]);
+    fprintf(stderr, "%s: largest standardized coefficient error %.2e (noise 1e-2, %ld rows)\n",
+            tg_fit_method_name(method), worst_err, n);
     for (int c = 0; c < NREC_T; c++) {
-        /* Standardized error: |c_fit - c_true| rms_j, against w of order 1. */
+        /* Standardized error |c_fit - c_true| rms_j against w of order 1: the
+         * noise (1e-2) over sqrt(rows) is 1e-4 before conditioning; 3e-3 is
+         * the bound. */
         const double err = fabs(res.coef[c] - truth[c]) * rms[c];
-        ck_assert_msg(err < 0.01, "%s: term %s: fitted %.6g, truth %.6g (standardized error %.3g)",
+        ck_assert_msg(err < 3e-3, "%s: term %s: fitted %.6g, truth %.6g (standardized error %.3g)",
                       tg_fit_method_name(method), rec_terms[c], res.coef[c], truth[c], err);
         /* STLSQ drops every zero term (threshold 0.05 far above the noise);
          * the RVM keeps every active term, and prunes a zero term unless a
