@@ -17,8 +17,8 @@
 #include "twin.h"
 #include "twin_io.h"
 
-#define NATTR 4
-static const char *const attr_names[NATTR] = {"filter", "history", "title", "command_line"};
+#define NATTR 2
+static const char *const attr_names[NATTR] = {"filter", "command_line"};
 
 struct tg_fit_data {
     char path[TG_PATH_LEN];

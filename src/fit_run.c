@@ -268,9 +268,14 @@ static char *file_text(const fit_ctx *k)
     tg_sb_printf(&b, "# twingyre fit: learned closure coefficients, for [closure] use = "
                      "coefficients\n");
     tg_sb_printf(&b, "%s\n", TG_BASIS_UNITS_LINE);
-    tg_sb_printf(&b, "# source: %s\n", o->input);
+    const tg_model *m = tg_fit_data_model(k->d);
+    tg_sb_printf(&b, "# source: %s (%d samples; coarse grid %d x %d points, spacing %.6g m, %d "
+                     "layers; filter %s)\n", o->input, tg_fit_data_samples(k->d), m->nout,
+                 m->nout, m->geom->dx, k->nl, tg_fit_data_attr(k->d, "filter"));
+    if (tg_fit_data_attr(k->d, "command_line")[0])
+        tg_sb_printf(&b, "# twin command: %s\n", tg_fit_data_attr(k->d, "command_line"));
     if (o->command_line)
-        tg_sb_printf(&b, "# command: %s\n", o->command_line);
+        tg_sb_printf(&b, "# fit command: %s\n", o->command_line);
     tg_sb_printf(&b, "# target: %s\n",
                  o->target == TG_FIT_TARGET_FLUX
                      ? "-div(subgrid_flux_x, subgrid_flux_y), centred differences on the "
