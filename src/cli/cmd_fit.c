@@ -165,6 +165,14 @@ int cmd_fit(int argc, char **argv)
             o.input = a;
             continue;
         }
+        static const char *const with_value[] = {
+            "--out", "--terms", "--layers", "--method", "--ridge", "--threshold", "--prune-alpha",
+            "--train", "--test", "--target", "--chunk-samples", "--dump-design", "--threads"};
+        int known = 0;
+        for (size_t w = 0; w < sizeof with_value / sizeof with_value[0]; w++)
+            known |= !strcmp(a, with_value[w]);
+        if (!known)
+            return usage_error("unknown option '%s'%s", a, "");
         if (!v)
             return usage_error("%s needs a value%s", a, "");
         if (!strcmp(a, "--out")) {

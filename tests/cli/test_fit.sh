@@ -241,7 +241,7 @@ check "--set coefficients.file=fitted.txt is taken from the current directory" \
     $([ "$rc" -eq 0 ] && [ -s "$T/run-rel2/fields.nc" ]; echo $?) "$(err_tail)"
 
 # ---------------------------------------------------------------- errors
-tg fit "$S" --out "$T/x.txt" --bogus 1
+tg fit "$S" --out "$T/x.txt" --bogus
 check "an unknown option: exit 1 naming it" $([ "$rc" -eq 1 ] && has "--bogus" "$T/err"; echo $?) "$(err_tail)"
 tg fit "$S" --out "$T/x.txt" --method lasso
 check "--method lasso: exit 1 naming --method and the choices" $([ "$rc" -eq 1 ] && has "--method: expected ols, ridge, stlsq or rvm" "$T/err"; echo $?) "$(err_tail)"
