@@ -29,13 +29,14 @@
  *          columns, until the set stops changing (ridge lambda is used in
  *          the inner solves when given).
  *   rvm    sparse Bayesian regression, the relevance vector machine
- *          (Tipping 2001, J. Mach. Learn. Res. 1, 211-244, section 2 and
- *          appendix): prior w_j ~ N(0, 1/alpha_j), noise precision beta;
+ *          (Tipping 2001, J. Mach. Learn. Res. 1, 211-244, section 2;
+ *          the section from memory): prior w_j ~ N(0, 1/alpha_j), noise precision beta;
  *            Sigma = (beta Phi^T Phi + diag(alpha))^-1,  mu = beta Sigma Phi^T t
  *            gamma_j = 1 - alpha_j Sigma_jj,  alpha_j <- gamma_j / mu_j^2,
  *            beta <- (N - sum gamma_j) / ||t - Phi mu||^2
- *          (his eqs. 12-13 and 16-18; numbers from memory), all from the
- *          standardized Gram matrix; a column whose alpha exceeds
+ *          (the posterior, then the re-estimation of the hyperparameters
+ *          by type-II maximum likelihood), all from the standardized Gram
+ *          matrix; a column whose alpha exceeds
  *          alpha_max is pruned. The posterior standard deviation of a kept
  *          coefficient is sqrt(Sigma_jj), un-standardized.
  *
