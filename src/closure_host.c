@@ -242,6 +242,8 @@ tg_code tg_closure_spec_resolve(const tg_config *cfg, const char *origin, tg_clo
         if (parse_param(&c->ops->params[p], trim(value), &c->params[p], c->texts[p], why,
                         sizeof why) != TG_OK)
             return tg_fail(st, TG_ERR_CONFIG, "%s: %s", at, why);
+        if (c->ops->params[p].kind == TG_PARAM_TEXT && e->line <= 0)
+            c->text_from_option = 1;
         seen[ci][p] = 1;
     }
 
@@ -414,7 +416,10 @@ tg_closure_host *tg_closure_host_create(const tg_config *cfg, tg_geometry *g, co
                               .reduced_gravity = cfg->reduced_gravity_m_s2,
                               .f0 = cfg->coriolis_f0_per_s, .beta = cfg->beta_per_m_per_s,
                               .stretching = h->S, .seed = cfg->seed, .member = cfg->member,
-                              .params = ch->params, .texts = texts, .config_dir = "",
+                              .params = ch->params, .texts = texts,
+                              /* Relative file names: from the config file's directory,
+                               * or the current one for --set values. */
+                              .config_dir = ch->text_from_option ? "" : cfg->config_dir,
                               .tools = tg_tools_get(h->tools)};
         tg_status cs;
         tg_status_clear(&cs);

@@ -28,6 +28,7 @@ typedef struct {
     char use[TG_RAW_TEXT];                            /* the entry of `use` as written */
     double params[TG_CLOSURE_MAX_PARAMS];
     char texts[TG_CLOSURE_MAX_PARAMS][TG_RAW_TEXT];
+    int text_from_option;   /* 1: a text value (a file name) came from --set or an override */
 } tg_closure_choice;
 
 typedef struct {

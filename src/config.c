@@ -23,6 +23,7 @@
  */
 #include "config.h"
 #include "closure.h"
+#include "basis.h"
 #include "closure_host.h"
 #include "strbuf.h"
 
@@ -294,8 +295,9 @@ static const key_row rows[K_COUNT] = {
         .off = OFF(twin_sample_every_days), REAL_GT0("a real number > 0")},
     [K_TWIN_COMPARE] = {
         .info = {"twin", "compare", "", "text", "none",
-                 "comma-separated closure names (`twingyre closures`), plugin:PATH.so or none; "
-                 "at most 7 besides none",
+                 "comma-separated closure names (`twingyre closures`), plugin:PATH.so, "
+                 "coefficients:FILE (a fitted coefficients file, relative to the config's "
+                 "directory) or none; at most 7 besides none",
                  "closures of the coarse runs, one coarse run each; none (no closure) is always run"},
         .kind = V_TEXT, .off = OFF(twin_compare),
         .expect = "a comma-separated list of closure names"},
@@ -1297,23 +1299,17 @@ static tg_code read_file(const char *path, char **out, size_t *out_len, tg_statu
     return TG_OK;
 }
 
-tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st)
+/* Parses the INI text buf (len bytes, NUL-terminated, owned by the
+ * caller) over cfg; `path` names it in messages. */
+static tg_code load_buffer(tg_config *cfg, const char *path, char *buf, size_t len,
+                           tg_status *st)
 {
-    if (!cfg || !path)
-        return tg_fail(st, TG_ERR_INTERNAL, "tg_config_load_file: NULL argument");
-
-    char *buf = NULL;
-    size_t len = 0;
-    tg_code rc = read_file(path, &buf, &len, st);
-    if (rc != TG_OK)
-        return rc;
-
+    tg_code rc;
     const char *nul = memchr(buf, '\0', len);
     if (nul) {
         int line = 1;
         for (const char *p = buf; p < nul; p++)
             line += *p == '\n';
-        free(buf);
         return tg_fail(st, TG_ERR_CONFIG, "%s:%d: contains a NUL byte; is this really a text file?",
                        path, line);
     }
@@ -1323,7 +1319,6 @@ tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st)
     if (!c || !work) {
         free(c);
         free(work);
-        free(buf);
         return tg_fail(st, TG_ERR_NOMEM, "out of memory reading config file '%s'", path);
     }
     *work = *cfg;
@@ -1360,6 +1355,42 @@ tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st)
     }
     free(work);
     free(c);
+    return rc;
+}
+
+tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st)
+{
+    if (!cfg || !path)
+        return tg_fail(st, TG_ERR_INTERNAL, "tg_config_load_file: NULL argument");
+    char *buf = NULL;
+    size_t len = 0;
+    tg_code rc = read_file(path, &buf, &len, st);
+    if (rc != TG_OK)
+        return rc;
+    rc = load_buffer(cfg, path, buf, len, st);
+    free(buf);
+    if (rc == TG_OK) {
+        const char *slash = strrchr(path, '/');
+        if (!slash)
+            snprintf(cfg->config_dir, sizeof cfg->config_dir, ".");
+        else if (slash == path)
+            snprintf(cfg->config_dir, sizeof cfg->config_dir, "/");
+        else
+            snprintf(cfg->config_dir, sizeof cfg->config_dir, "%.*s", (int)(slash - path), path);
+    }
+    return rc;
+}
+
+tg_code tg_config_load_text(tg_config *cfg, const char *text, const char *name, tg_status *st)
+{
+    if (!cfg || !text || !name)
+        return tg_fail(st, TG_ERR_INTERNAL, "tg_config_load_text: NULL argument");
+    size_t len = strlen(text);
+    char *buf = malloc(len + 1);
+    if (!buf)
+        return tg_fail(st, TG_ERR_NOMEM, "out of memory reading the config text of %s", name);
+    memcpy(buf, text, len + 1);
+    tg_code rc = load_buffer(cfg, name, buf, len, st);
     free(buf);
     return rc;
 }
@@ -1830,6 +1861,21 @@ static int whole_multiple(double x, double unit, long *n)
     return fabs(r - k) <= 1e-9 * fmax(1.0, fabs(r));
 }
 
+int tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n)
+{
+    static const char prefix[] = "coefficients:";
+    if (strncmp(entry, prefix, sizeof prefix - 1) != 0)
+        return 0;
+    const char *p = entry + sizeof prefix - 1;
+    while (isspace((unsigned char)*p))
+        p++;
+    if (p[0] == '/' || p[0] == '\0' || cfg->config_dir[0] == '\0')
+        snprintf(path, n, "%s", p);
+    else
+        snprintf(path, n, "%s/%s", cfg->config_dir, p);
+    return 1;
+}
+
 tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_status *st)
 {
     if (!base)
@@ -1921,7 +1967,22 @@ tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_statu
         for (int k = 0; k < nseen; k++)
             if (strcmp(seen[k], name) == 0)
                 return key_fail(base, K_TWIN_COMPARE, origin, st, "'%s' is listed twice", name);
-        if (strcmp(name, "none") != 0 && strncmp(name, "plugin:", 7) != 0 &&
+        char fitted[TG_PATH_LEN];
+        if (tg_config_fitted_entry(base, name, fitted, sizeof fitted)) {
+            /* A coefficients file: it must load for this many layers. */
+            tg_coef_list list;
+            tg_status cs;
+            tg_status_clear(&cs);
+            if (!strcmp(name + strlen("coefficients:"), ""))
+                return key_fail(base, K_TWIN_COMPARE, origin, st,
+                                "entry %d: coefficients: needs a file, e.g. "
+                                "coefficients:fitted.txt", item);
+            if (tg_coef_read(fitted, base->nlayers, &list, &cs) != TG_OK)
+                return key_fail(base, K_TWIN_COMPARE, origin, st,
+                                "'%s': the coefficients file does not load: %s (relative paths "
+                                "are taken from the config file's directory)", name, cs.msg);
+            tg_coef_list_free(&list);
+        } else if (strcmp(name, "none") != 0 && strncmp(name, "plugin:", 7) != 0 &&
             !tg_closure_find(name)) {
             const char *names[64];
             int nn = tg_closure_count();

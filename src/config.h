@@ -121,6 +121,11 @@ typedef struct tg_config {
     /* Not a config key: the ensemble member (--member), 0 by default. */
     int member;
 
+    /* Not a config key: the directory of the config file that
+     * tg_config_load_file read last ("" before any, or for text), against
+     * which closure files given in that file are resolved. */
+    char config_dir[TG_PATH_LEN];
+
     /* Bookkeeping for messages, indexed by key-table row (tg_config_key). */
     unsigned char set_by_user[TG_CONFIG_MAX_KEYS]; /* tg_set_origin of each key */
     int set_line[TG_CONFIG_MAX_KEYS];              /* config-file line when TG_SET_FILE, else 0 */
@@ -134,6 +139,10 @@ void tg_config_defaults(tg_config *cfg);
  * "FILE:LINE: [section] key: ..." that names what was expected and what was
  * found, and "did you mean ..." for unknown sections and keys. */
 tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st);
+
+/* The same for INI text held in memory (e.g. the resolved_config attribute
+ * of an output file); `name` stands for the file in messages. */
+tg_code tg_config_load_text(tg_config *cfg, const char *text, const char *name, tg_status *st);
 
 /* Applies one override "section.key=value" with the same checks as the file.
  * Messages start with "--set section.key=value: ". */
@@ -193,6 +202,12 @@ tg_code tg_config_twin_derive(const tg_config *base, int coarse, const char *ori
  * number of steps of both runs, the window a whole number of samples, and
  * the compare list well formed (its names are resolved by twin.c). */
 tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_status *st);
+
+/* A [twin] compare entry "coefficients:PATH" names a coefficients file
+ * (e.g. from `twingyre fit`) to run with the closure `coefficients`.
+ * Returns 1 for such an entry and writes PATH resolved against the config
+ * file's directory (cfg->config_dir; absolute paths unchanged), else 0. */
+int tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n);
 
 /* Prints the reference table (Markdown) used in README. */
 void tg_config_print_reference(FILE *out);

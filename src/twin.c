@@ -68,9 +68,29 @@ static tg_code keep_used_sections(tg_config *cfg, const char *origin, char used[
     }
     *tmp = *cfg;
     tmp->nraw = 0;
-    for (int r = 0; r < cfg->nraw; r++)
-        if (!strcmp(cfg->raw[r].section, "closure"))
+    /* [closure] and the sections named in its use list (a required file
+     * name of a scheme must be seen); plugin sections are named after the
+     * plugin, so with a plugin every [plugin.*] section is kept. */
+    const tg_raw_entry *use = tg_config_raw(cfg, "closure", "use");
+    for (int r = 0; r < cfg->nraw; r++) {
+        const char *sec = cfg->raw[r].section;
+        int keep = !strcmp(sec, "closure");
+        for (const char *p = use ? use->value : ""; *p && !keep;) {
+            size_t len = strcspn(p, ",");
+            const char *a = p, *e = p + len;
+            while (a < e && (*a == ' ' || *a == '\t'))
+                a++;
+            while (e > a && (e[-1] == ' ' || e[-1] == '\t'))
+                e--;
+            if (!strncmp(a, "plugin:", 7))
+                keep = !strncmp(sec, "plugin.", 7);
+            else
+                keep = strlen(sec) == (size_t)(e - a) && !strncmp(sec, a, (size_t)(e - a));
+            p += len + (p[len] == ',');
+        }
+        if (keep)
             tmp->raw[tmp->nraw++] = cfg->raw[r];
+    }
     tg_code rc = tg_closure_spec_resolve(tmp, origin, spec, st);
     if (rc == TG_OK) {
         int n = 0;
@@ -121,6 +141,48 @@ static tg_code entry_label(const tg_config *coarse, const char *use, const char 
     return rc;
 }
 
+tg_code tg_twin_coarse_config(const tg_config *cfg, const char *origin, tg_config *out,
+                              tg_status *st)
+{
+    tg_code rc = tg_config_twin_derive(cfg, 1, origin, out, st);
+    if (rc != TG_OK)
+        return rc;
+    /* Coarse runs: the window, a snapshot at every sample, one summary line. */
+    out->duration_days = cfg->twin_analysis_days;
+    out->snapshot_every_days = cfg->twin_sample_every_days;
+    out->log_every_days = cfg->twin_analysis_days;
+    out->initial_kind = TG_INIT_REST; /* the starting file is written later */
+    out->initial_path[0] = '\0';
+    /* The coarse runs' [initial] keys other than the seed do not apply. */
+    const char *ikeys[] = {"state", "noise_amplitude_m2_per_s"};
+    for (int i = 0; i < 2; i++) {
+        int row = tg_config_key_index("initial", ikeys[i]);
+        if (row >= 0)
+            out->set_by_user[row] = TG_SET_DEFAULT;
+    }
+    return TG_OK;
+}
+
+/* The label of a fitted-file entry "coefficients:PATH": "coefficients-"
+ * and the file's name without its directory and last extension, with any
+ * character other than letters, digits, '-', '_' and '.' replaced by '_'
+ * (it names the coarse run's directory). */
+static void fitted_label(const char *path, char *label, size_t n)
+{
+    const char *b = strrchr(path, '/');
+    b = b ? b + 1 : path;
+    const char *dot = strrchr(b, '.');
+    size_t len = (dot && dot > b) ? (size_t)(dot - b) : strlen(b);
+    int w = snprintf(label, n, "coefficients-");
+    for (size_t i = 0; i < len && (size_t)w + 1 < n; i++) {
+        char ch = b[i];
+        int okc = (ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') ||
+                  (ch >= '0' && ch <= '9') || ch == '-' || ch == '_' || ch == '.';
+        label[w++] = okc ? ch : '_';
+    }
+    label[w] = '\0';
+}
+
 /* Derives and checks every config of the twin into c. */
 static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg_status *st)
 {
@@ -131,7 +193,7 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
     if ((rc = tg_config_check_twin(cfg, origin, st)) != TG_OK)
         return rc;
     if ((rc = tg_config_twin_derive(cfg, 0, origin, &c->ref, st)) != TG_OK ||
-        (rc = tg_config_twin_derive(cfg, 1, origin, &c->coarse, st)) != TG_OK)
+        (rc = tg_twin_coarse_config(cfg, origin, &c->coarse, st)) != TG_OK)
         return rc;
 
     char used[TG_MAX_CLOSURES * (TG_MAX_CLOSURES + 1)][72];
@@ -148,22 +210,7 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
     if ((rc = tg_config_check(r, origin, st)) != TG_OK)
         return tg_fail(st, rc, "the reference run: %s", st->msg);
 
-    /* Coarse runs: the window, a snapshot at every sample, one summary line. */
     tg_config *k = &c->coarse;
-    k->duration_days = cfg->twin_analysis_days;
-    k->snapshot_every_days = cfg->twin_sample_every_days;
-    k->log_every_days = cfg->twin_analysis_days;
-    k->initial_kind = TG_INIT_REST; /* the starting file is written later */
-    k->initial_path[0] = '\0';
-    {
-        /* The coarse runs' [initial] keys other than the seed do not apply. */
-        const char *ikeys[] = {"state", "noise_amplitude_m2_per_s"};
-        for (int i = 0; i < 2; i++) {
-            int row = tg_config_key_index("initial", ikeys[i]);
-            if (row >= 0)
-                k->set_by_user[row] = TG_SET_DEFAULT;
-        }
-    }
 
     /* Entries: none first, then [twin] compare in order. */
     char entries[TG_MAX_CLOSURES + 1][TG_RAW_TEXT];
@@ -191,7 +238,12 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
         tg_skill_closure *cl = &c->clos[i];
         memset(cl, 0, sizeof *cl);
         snprintf(cl->use, sizeof cl->use, "%.*s", TG_RAW_TEXT - 1, entries[i]);
-        if ((rc = entry_label(k, entries[i], origin, cl->label, sizeof cl->label, st)) != TG_OK)
+        char fitted[TG_PATH_LEN];
+        const int is_fitted = tg_config_fitted_entry(cfg, entries[i], fitted, sizeof fitted);
+        if (is_fitted)
+            fitted_label(fitted, cl->label, sizeof cl->label);
+        else if ((rc = entry_label(k, entries[i], origin, cl->label, sizeof cl->label, st)) !=
+                 TG_OK)
             return tg_fail(st, rc, "[twin] compare: %s", st->msg);
         for (int j = 0; j < i; j++)
             if (!strcmp(c->clos[j].label, cl->label))
@@ -199,10 +251,21 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
                                origin ? origin : "config", entries[i], cl->label);
         tg_config *cc = &c->clos_cfg[i];
         *cc = *k;
-        char a[TG_RAW_TEXT + 16];
-        snprintf(a, sizeof a, "closure.use=%.*s", TG_RAW_TEXT - 1, entries[i]);
+        char a[TG_PATH_LEN + 32];
+        snprintf(a, sizeof a, "closure.use=%.*s", TG_RAW_TEXT - 1,
+                 is_fitted ? "coefficients" : entries[i]);
         if ((rc = tg_config_set(cc, a, st)) != TG_OK)
             return rc;
+        if (is_fitted) {
+            /* The file, already resolved against the config's directory. */
+            if (strlen(fitted) >= TG_RAW_TEXT - 1)
+                return tg_fail(st, TG_ERR_CONFIG, "%s: [twin] compare: '%s': path longer than "
+                               "%d characters", origin ? origin : "config", entries[i],
+                               TG_RAW_TEXT - 2);
+            snprintf(a, sizeof a, "coefficients.file=%s", fitted);
+            if ((rc = tg_config_set(cc, a, st)) != TG_OK)
+                return rc;
+        }
         if ((rc = keep_used_sections(cc, origin, used, &nused, st)) != TG_OK)
             return rc;
         if ((rc = tg_config_check(cc, origin, st)) != TG_OK)

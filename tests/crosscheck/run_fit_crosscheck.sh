@@ -1,0 +1,87 @@
+#!/bin/bash
+# run_fit_crosscheck.sh - the least-squares coefficients of `twingyre fit`
+# against numpy.linalg.lstsq (Debian python3-numpy) on the same design
+# matrix, to 1e-8 relative: a tiny twin (65 -> 33 points, 6 samples) gives
+# a subgrid.nc; `twingyre fit --method ols --dump-design` is run per layer
+# on six terms, shared across layers on the same six, and per layer on the
+# whole library (rank-deficient: both sides give the minimum-norm
+# solution); tests/crosscheck/check_fit_numpy.py solves each dumped design
+# matrix independently and compares.
+#
+# Environment: TWINGYRE, TG_SRCDIR, PYTHON (default /usr/bin/python3),
+# TG_TEST_TMPDIR. The last line printed is "N passed, M failed".
+#
+# Part of twingyre. GPL-3.0-or-later.
+set -u
+here=$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)
+TWINGYRE=${TWINGYRE:-/tmp/twingyre}
+TG_SRCDIR=${TG_SRCDIR:-$(cd "$here/../.." && pwd)}
+PYTHON=${PYTHON:-/usr/bin/python3}
+export OMP_NUM_THREADS=1
+scratch_parent=${TG_TEST_TMPDIR:-${TMPDIR:-/tmp}}
+T=$(mktemp -d "$scratch_parent/twingyre-fitcheck.XXXXXX") || { echo "0 passed, 1 failed"; exit 1; }
+trap 'rm -rf "$T"' EXIT
+cat >"$T/twin.ini" <<'EOF'
+[grid]
+geometry = basin
+size_km = 1000
+points = 65
+
+[layers]
+thickness_m = 1000, 3000
+reduced_gravity_m_s2 = 0.02
+
+[wind]
+stress_amplitude_pa = 0.1
+
+[dissipation]
+viscosity_m2_per_s = 300
+
+[time]
+step_s = 3600
+
+[initial]
+state = noise
+noise_amplitude_m2_per_s = 100
+
+[twin]
+reference_points = 65
+coarse_points = 33
+spinup_days = 10
+analysis_days = 10
+sample_every_days = 2
+compare = none
+
+[twin.coarse]
+dissipation.viscosity_m2_per_s = 600
+time.step_s = 7200
+EOF
+if ! "$TWINGYRE" twin "$T/twin.ini" --out "$T/tw" --quiet >"$T/log" 2>&1; then
+    cat "$T/log"
+    echo "FAIL - the tiny twin for the cross-check"
+    echo "0 passed, 1 failed"
+    exit 1
+fi
+terms=zeta,lap_zeta,lap2_zeta,jac_psi_lapzeta,div_gradu_gradzeta,div_absgradzeta_gradzeta
+npass=0
+nfail=0
+run_case() { # NAME MODE fit-options...
+    local name=$1 mode=$2
+    shift 2
+    if ! "$TWINGYRE" fit "$T/tw/subgrid.nc" --out "$T/$name.txt" --method ols \
+        --dump-design "$T/$name.nc" --quiet "$@" >"$T/log" 2>&1; then
+        cat "$T/log"
+        echo "FAIL - $name: twingyre fit"
+        nfail=$((nfail + 1))
+        return
+    fi
+    "$PYTHON" "$TG_SRCDIR/tests/crosscheck/check_fit_numpy.py" "$T/$name.nc" "$T/$name.txt" "$mode" >"$T/py" 2>&1
+    local st=$?
+    sed "s/^/$name: /" "$T/py"
+    if [ $st -eq 0 ]; then npass=$((npass + 1)); else nfail=$((nfail + 1)); fi
+}
+run_case separate separate --terms "$terms"
+run_case shared shared --terms "$terms" --layers shared
+run_case library separate
+echo "$npass passed, $nfail failed"
+[ "$nfail" -eq 0 ]
