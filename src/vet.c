@@ -51,13 +51,20 @@ static double now_s(void)
     return ts.tv_sec + 1e-9 * ts.tv_nsec;
 }
 
-static void progress(vet_ctx *c, long step, long nsteps, double day, double last_day)
+static void progress_fault(vet_ctx *c, long step, long nsteps, double day, double last_day,
+                           const char *fault)
 {
     if (!c->opt || !c->opt->progress)
         return;
     tg_vet_progress p = {.phase = c->phase_name, .index = c->phase, .count = c->nphases,
-                         .step = step, .nsteps = nsteps, .day = day, .last_day = last_day};
+                         .step = fault ? nsteps : step, .nsteps = nsteps, .day = day,
+                         .last_day = last_day, .fault = fault};
     c->opt->progress(&p, c->opt->progress_user);
+}
+
+static void progress(vet_ctx *c, long step, long nsteps, double day, double last_day)
+{
+    progress_fault(c, step, nsteps, day, last_day, NULL);
 }
 
 static void start_phase(vet_ctx *c, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
@@ -156,7 +163,7 @@ static tg_code march(vet_ctx *c, tg_model *m, long nsteps, const double *yard, m
                      day - day0, m->step - step0, bad_layer + 1,
                      m->geom->coord[bad % m->geom->ns] / 1e3,
                      m->geom->coord[bad / m->geom->ns] / 1e3);
-            return TG_OK;
+            goto fault;
         }
         int layer = 0;
         double x = 0.0, y = 0.0;
@@ -169,7 +176,7 @@ static tg_code march(vet_ctx *c, tg_model *m, long nsteps, const double *yard, m
                      "CFL %.3g above max_cfl %.3g at day %.2f in layer %d at x = %.0f km, "
                      "y = %.0f km",
                      cfl, cfg->max_cfl, day - day0, layer + 1, x / 1e3, y / 1e3);
-            return TG_OK;
+            goto fault;
         }
         if (next <= NSAMP && n == (long)next * nsteps / NSAMP) {
             /* Several samples may share a step when nsteps < NSAMP. */
@@ -181,7 +188,7 @@ static tg_code march(vet_ctx *c, tg_model *m, long nsteps, const double *yard, m
                     o->fail_day = day;
                     snprintf(o->reason, sizeof o->reason, "non-finite energy at day %.2f",
                              day - day0);
-                    return TG_OK;
+                    goto fault;
                 }
                 if (yard && isfinite(yard[next]) && yard[next] > 0.0) {
                     const double ratio = e / yard[next];
@@ -194,7 +201,7 @@ static tg_code march(vet_ctx *c, tg_model *m, long nsteps, const double *yard, m
                                  "energy %.3g times that of the run without the closure at day "
                                  "%.2f (limit %g)",
                                  ratio, day - day0, glim);
-                        return TG_OK;
+                        goto fault;
                     }
                 }
                 next++;
@@ -202,6 +209,9 @@ static tg_code march(vet_ctx *c, tg_model *m, long nsteps, const double *yard, m
         }
         progress(c, n, nsteps, day, last_day);
     }
+    return TG_OK;
+fault:
+    progress_fault(c, nsteps, nsteps, o->fail_day, last_day, o->reason);
     return TG_OK;
 }
 
@@ -705,9 +715,14 @@ static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
                 break;
             best = r->factors[i];
         }
-        add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1", best,
-                  "", "", NAN, TG_VET_INFO, "every step factor up to it stays stable (%g s)",
-                  best * cfg->step_s);
+        if (best > 0.0)
+            add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
+                      best, "", "", NAN, TG_VET_INFO,
+                      "every step factor up to it stays stable (%g s)", best * cfg->step_s);
+        else
+            add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
+                      best, "", "", NAN, TG_VET_INFO, "%s",
+                      "unstable already at the smallest step factor tried");
     }
 }
 

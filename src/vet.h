@@ -141,6 +141,7 @@ typedef struct {
     int index, count;          /* this phase's number, 1 .. count */
     long step, nsteps;         /* steps of this phase (0, 0 for phases without steps) */
     double day, last_day;
+    const char *fault;         /* NULL, or why the run stopped (then step = nsteps) */
 } tg_vet_progress;
 
 typedef struct {

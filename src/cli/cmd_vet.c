@@ -66,11 +66,18 @@ static void show(const tg_vet_progress *p, void *user)
         if (t - d->t_last < 0.2 && !last)
             return;
         d->t_last = t;
-        fprintf(stderr, "\r\033[K[%d/%d] %-44.44s %5.1f%%  day %.1f of %.1f  %.0f s", p->index,
-                p->count, p->phase, 100.0 * frac, p->day, p->last_day, t - d->t0);
+        if (p->fault)
+            fprintf(stderr, "\r\033[K[%d/%d] %-44.44s stopped: %s", p->index, p->count, p->phase,
+                    p->fault);
+        else
+            fprintf(stderr, "\r\033[K[%d/%d] %-44.44s %5.1f%%  day %.1f of %.1f  %.0f s",
+                    p->index, p->count, p->phase, 100.0 * frac, p->day, p->last_day, t - d->t0);
         cli_set_line_open(1);
     } else if (last) {
-        if (p->nsteps > 0)
+        if (p->fault)
+            fprintf(stderr, "twingyre: [%d/%d] %s: stopped, %s (%.1f s)\n", p->index, p->count,
+                    p->phase, p->fault, t - d->t0);
+        else if (p->nsteps > 0)
             fprintf(stderr, "twingyre: [%d/%d] %s: %ld steps to day %.1f in %.1f s\n", p->index,
                     p->count, p->phase, p->nsteps, p->day, t - d->t0);
         else
