@@ -332,13 +332,14 @@ static const key_row rows[K_COUNT] = {
                  "length of the spin-up that makes the reference state (reference_state = spinup)"},
         .off = OFF(vet_spinup_days), REAL_GE0("a real number >= 0")},
     [K_VET_WINDOW] = {
-        .info = {"vet", "window_days", "days", "real", "30", "> 0, at least one step",
+        .info = {"vet", "window_days", "days", "real", "30",
+                 "> 0, at least one step of the largest step factor",
                  "length of each online run from the reference state"},
         .off = OFF(vet_window_days), REAL_GT0("a real number > 0")},
     [K_VET_STEP_FACTORS] = {
         .info = {"vet", "step_factors", "", "list of reals", "0.5, 1, 2",
                  "1 to 6 comma-separated values, each > 0 and at most 16",
-                 "online runs use [time] step_s times each factor"},
+                 "online runs use [time] step_s times each factor (1 is always added)"},
         .kind = V_REAL_LIST, .off = OFF(vet_step_factors), .count_off = OFF(n_vet_step_factors),
         .min_count = 1, .max_count = TG_MAX_LAYERS, .lo_kind = B_EXCL, .lo = 0.0,
         .hi_kind = B_INCL, .hi = 16.0,
@@ -347,7 +348,7 @@ static const key_row rows[K_COUNT] = {
     [K_VET_MULTIPLIERS] = {
         .info = {"vet", "multipliers", "", "list of reals", "0.5, 1, 2, 4",
                  "1 to 6 comma-separated values, each > 0 and at most 1000",
-                 "online runs scale the closure's tendency by each multiplier"},
+                 "online runs scale the closure's tendency by each multiplier (1 is always added)"},
         .kind = V_REAL_LIST, .off = OFF(vet_multipliers), .count_off = OFF(n_vet_multipliers),
         .min_count = 1, .max_count = TG_MAX_LAYERS, .lo_kind = B_EXCL, .lo = 0.0,
         .hi_kind = B_INCL, .hi = 1000.0,
@@ -367,7 +368,8 @@ static const key_row rows[K_COUNT] = {
     [K_VET_NOISE] = {
         .info = {"vet", "noise_limit", "", "real", "0.25", "> 0, below 1",
                  "largest allowed kinetic-energy fraction in the highest wavenumber band "
-                 "(K > pi/(2 dx)) at the end of an online run"},
+                 "(K > pi/(2 dx)) at the end of an online run (when also above the run without "
+                 "the closure)"},
         .kind = V_REAL, .off = OFF(vet_noise_limit), .lo_kind = B_EXCL, .lo = 0.0,
         .hi_kind = B_EXCL, .hi = 1.0, .expect = "a real number > 0 and below 1"},
     [K_VET_MARGIN] = {

@@ -147,9 +147,19 @@ static tg_code march(vet_ctx *c, tg_model *m, long nsteps, const double *yard, m
             return tg_fail(st, TG_ERR_INTERRUPTED,
                            "stopped on request during %s; nothing was written", c->phase_name);
         tg_code rc = tg_step(m, NULL, st);
+        const double day = m->time_s / TG_SECONDS_PER_DAY;
+        if (rc == TG_ERR_NUMERIC || rc == TG_ERR_BLOWUP) {
+            /* A closure that reports a numerical failure mid-run: a fault
+             * of this run, not of the battery. */
+            o->stable = 0;
+            o->fail_day = day;
+            snprintf(o->reason, sizeof o->reason, "the step failed at day %.2f: %s", day - day0,
+                     st->msg);
+            tg_status_clear(st);
+            goto fault;
+        }
         if (rc != TG_OK)
             return rc;
-        const double day = m->time_s / TG_SECONDS_PER_DAY;
         long bad = -1;
         int bad_layer = 0;
         for (int k = 0; k < m->nl && bad < 0; k++)

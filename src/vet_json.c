@@ -92,6 +92,8 @@ void tg_vet_table(const tg_vet_report *r, tg_strbuf *b)
         tg_sb_printf(b, "  %-58s %11s %-7s %11s  %-7s %s\n", k->title, fig,
                      k->unit[0] ? k->unit : "-", lim, verdict_word(k->verdict), k->reason);
     }
+    tg_sb_printf(b, "  (the linear and conservation checks evaluate stochastic components with "
+                    "their noise frozen)\n");
     int nfail = 0;
     for (int i = 0; i < r->nchecks; i++)
         nfail += r->checks[i].verdict == TG_VET_FAIL;
