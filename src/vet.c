@@ -153,7 +153,7 @@ static tg_code march(vet_ctx *c, tg_model *m, long nsteps, const double *yard, m
              * of this run, not of the battery. */
             o->stable = 0;
             o->fail_day = day;
-            snprintf(o->reason, sizeof o->reason, "the step failed at day %.2f: %s", day - day0,
+            snprintf(o->reason, sizeof o->reason, "the step failed at day %.2f: %.180s", day - day0,
                      st->msg);
             tg_status_clear(st);
             goto fault;
