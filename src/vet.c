@@ -634,7 +634,11 @@ static void linear_checks(tg_vet_report *r, const tg_config *cfg)
         const double h = l->step_limit;
         if (h >= cfg->step_s)
             add_check(r, name, title, h, "s", ">=", cfg->step_s, TG_VET_PASS, "%s",
-                      isinf(h) ? "no eigenvalue limits the step" : "the configured step is inside");
+                      !isinf(h) ? "the configured step is inside"
+                      : l->growth_rate > 0.0
+                          ? "no eigenvalue in the left half-plane limits the step (the growing "
+                            "ones are the growth check's)"
+                          : "no eigenvalue limits the step");
         else
             add_check(r, name, title, h, "s", ">=", cfg->step_s, TG_VET_FAIL,
                       "the configured step %g s puts an eigenvalue (|lambda| = %.3g s-1) outside "

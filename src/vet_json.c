@@ -77,7 +77,7 @@ void tg_vet_table(const tg_vet_report *r, tg_strbuf *b)
     }
     tg_sb_printf(b, "\nverdicts (closure %s, %d points, step %g s)\n", r->closure, r->points,
                  r->step_s);
-    tg_sb_printf(b, "  %-58s %11s %-7s %11s  %-7s %s\n", "check", "figure", "unit", "limit",
+    tg_sb_printf(b, "  %-64s %11s %-7s %11s  %-7s %s\n", "check", "figure", "unit", "limit",
                  "verdict", "reason");
     for (int i = 0; i < r->nchecks; i++) {
         const tg_vet_check *k = &r->checks[i];
@@ -89,7 +89,7 @@ void tg_vet_table(const tg_vet_report *r, tg_strbuf *b)
             snprintf(lim, sizeof lim, "%s %s", k->relation, l);
         } else
             snprintf(lim, sizeof lim, "-");
-        tg_sb_printf(b, "  %-58s %11s %-7s %11s  %-7s %s\n", k->title, fig,
+        tg_sb_printf(b, "  %-64s %11s %-7s %11s  %-7s %s\n", k->title, fig,
                      k->unit[0] ? k->unit : "-", lim, verdict_word(k->verdict), k->reason);
     }
     tg_sb_printf(b, "  (the linear and conservation checks evaluate stochastic components with "
