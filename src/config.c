@@ -2030,11 +2030,16 @@ tg_code tg_config_check_vet(const tg_config *cfg, const char *origin, tg_status 
     if (!cfg)
         return tg_fail(st, TG_ERR_INTERNAL, "tg_config_check_vet: NULL config");
     const tg_raw_entry *use = tg_config_raw(cfg, "closure", "use");
+    if (use && use->line > 0 && strcmp(use->value, "none") == 0)
+        return tg_fail(st, TG_ERR_CONFIG,
+                       "%s:%d: [closure] use: vet needs a closure to vet, got none (set it in the "
+                       "file or with --set closure.use=NAME)",
+                       origin ? origin : "config", use->line);
     if (!use || strcmp(use->value, "none") == 0)
         return tg_fail(st, TG_ERR_CONFIG,
                        "%s: [closure] use: vet needs a closure to vet, got none (set it in the "
                        "file or with --set closure.use=NAME)",
-                       origin ? origin : "config");
+                       use ? "--set closure.use=none" : origin ? origin : "config");
     const double day = SECONDS_PER_DAY;
     double fmaxf = 0.0;
     for (int i = 0; i < cfg->n_vet_step_factors; i++)

@@ -225,7 +225,10 @@ fault:
     return TG_OK;
 }
 
-/* Depth-weighted kinetic-energy fraction in bins centred above pi/(2 dx). */
+/* Depth-weighted kinetic-energy fraction in bins centred above pi/(2 dx):
+ * the top band (Kc/2, inf), Kc = pi/dx, of the skill bands (skill.h), from
+ * the spectrum of fields.nc (spectrum.h; Parseval with the model's kinetic
+ * energy). Grid-scale noise shows up there first (common practice). */
 static tg_code noise_fraction(tg_model *m, double *frac, tg_status *st)
 {
     tg_spectrum *s = tg_spectrum_create(m->geom, st);
@@ -381,7 +384,12 @@ static tg_code reference_state(vet_ctx *c, tg_model *m, tg_status *st)
 /* Conservation                                                        */
 /* ------------------------------------------------------------------ */
 
-/* Integral, energy and enstrophy input of the closure at m's state. */
+/* Integral, energy and enstrophy input of the closure at m's state, with
+ * the budget's rates (terms.c; DEVELOPERS.md, "Discrete energy"):
+ *   energy     -(1/(H A)) sum_k H_k sum_active (psi_k - c_k) T_k dx^2
+ *   enstrophy  (1/A) sum_active q_k T_k dx^2 per layer
+ * and the same energy sum with |(psi_k - c_k) T_k| as its scale; the
+ * integral ratio |int T dA| / int |T| dA uses the geometry's weights. */
 static tg_code conservation_at(vet_ctx *c, tg_model *m, int which, tg_status *st)
 {
     tg_vet_report *r = c->r;
