@@ -14,7 +14,8 @@
 #     negative viscosity with no sink, falsely declared dissipative) fails
 #     (exit 9) with the failed checks named in vet.json and on stdout:
 #     linear growth, energy input, the online run and the stability margin;
-#   - vet.json holds the documented fields (read with /usr/bin/python3 json);
+#   - vet.json holds the documented fields (read with /usr/bin/python3 json)
+#     and the same figures with 1 and 2 threads;
 #   - bad [vet] settings are refused with file:line and exit 2, an existing
 #     vet.json is not replaced without --overwrite (exit 3), and nothing is
 #     written in either case.
@@ -189,6 +190,22 @@ if [ "$rc" -eq 0 ] && py check_fields.py vf/vet.json; then
     ok "vet.json holds the documented fields; --set vet.KEY applies"
 else
     notok "vet.json holds the documented fields; --set vet.KEY applies" "$(err_tail)" "$(cat py)"
+fi
+
+# The same figures with two threads (the model's sums have a fixed order;
+# the Arnoldi dot products run on one thread).
+tg vet biharmonic.ini --out vf2 --set vet.window_days=7 --set vet.krylov_dimension=12 --threads 2
+cat >same.py <<'EOF'
+import json, sys
+a, b = (json.load(open(p)) for p in sys.argv[1:3])
+for d in (a, b):
+    d.pop("seconds"); d.pop("command_line")
+assert a == b, "vet.json differs between 1 and 2 threads"
+EOF
+if [ "$rc" -eq 0 ] && py same.py vf/vet.json vf2/vet.json; then
+    ok "vet.json is the same with 1 and 2 threads"
+else
+    notok "vet.json is the same with 1 and 2 threads" "$(err_tail)" "$(cat py)"
 fi
 
 # ---------------------------------------------------------------- an unstable closure
