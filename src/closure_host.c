@@ -344,6 +344,7 @@ struct tg_closure_host {
     const double *tends[TG_MAX_CLOSURES];
     double *u, *v;                     /* nl*npl */
     double S[TG_MAX_LAYERS * TG_MAX_LAYERS];
+    double scale;                      /* tg_closure_host_set_scale */
     tg_tools *tools;                   /* the operators the schemes use */
 };
 
@@ -378,6 +379,7 @@ tg_closure_host *tg_closure_host_create(const tg_config *cfg, tg_geometry *g, co
     h->nl = cfg->nlayers;
     h->npl = (long)g->ns * g->ns;
     h->dt = cfg->step_s;
+    h->scale = 1.0;
     for (int k = 0; k < h->nl; k++)
         for (int j = 0; j < h->nl; j++)
             h->S[k * h->nl + j] = md->S[k][j];
@@ -490,7 +492,17 @@ tg_code tg_closure_host_eval(tg_closure_host *h, const tg_closure_input *in, tg_
             return tg_fail(st, cs.code ? cs.code : TG_ERR_NUMERIC, "closure %s at step %ld: %s",
                            ch->label, in->step, cs.msg);
     }
+    if (h->scale != 1.0)
+        for (int c = 0; c < h->n; c++)
+            for (int k = 0; k < h->nl; k++)
+                tg_axpby(h->g, h->scale, h->tend[c] + k * h->npl, 0.0, h->tend[c] + k * h->npl);
     return TG_OK;
+}
+
+void tg_closure_host_set_scale(tg_closure_host *h, double scale)
+{
+    if (h)
+        h->scale = scale;
 }
 
 tg_code tg_closure_host_advance(tg_closure_host *h, const tg_closure_input *in, tg_status *st)

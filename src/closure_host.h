@@ -71,6 +71,12 @@ const tg_closure_ops *tg_closure_host_ops(const tg_closure_host *h, int c);
 tg_code tg_closure_host_eval(tg_closure_host *h, const tg_closure_input *in, tg_status *st);
 const double *tg_closure_host_tend(const tg_closure_host *h, int c);
 
+/* Multiplies every component's tendency by `scale` (1 after creation), after
+ * all components are evaluated, so a component that acts on another's
+ * tendency sees it unscaled. For a closure linear in its coefficient this
+ * is a coefficient multiplier (`twingyre vet`). */
+void tg_closure_host_set_scale(tg_closure_host *h, double scale);
+
 /* Calls every component's per-step hook with the state after a step. */
 tg_code tg_closure_host_advance(tg_closure_host *h, const tg_closure_input *in, tg_status *st);
 

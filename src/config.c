@@ -89,6 +89,9 @@ static int get_wall(const tg_config *c) { return (int)c->wall_condition; }
 static void put_wall(tg_config *c, int v) { c->wall_condition = (tg_wall_kind)v; }
 static int get_wind(const tg_config *c) { return (int)c->wind_profile; }
 static void put_wind(tg_config *c, int v) { c->wind_profile = (tg_wind_kind)v; }
+static const char *const yes_no_names[] = {"no", "yes", NULL};
+static int get_vet_finer(const tg_config *c) { return c->vet_finer_grid != 0; }
+static void put_vet_finer(tg_config *c, int v) { c->vet_finer_grid = v; }
 static int get_twin_filter(const tg_config *c) { return (int)c->twin_filter; }
 static void put_twin_filter(tg_config *c, int v) { c->twin_filter = (tg_twin_filter)v; }
 
@@ -105,6 +108,8 @@ enum {
     K_OUT_DIRECTORY, K_SNAPSHOT_EVERY, K_CHECKPOINT_EVERY, K_LOG_EVERY,
     K_TWIN_REF_POINTS, K_TWIN_COARSE_POINTS, K_TWIN_SPINUP, K_TWIN_ANALYSIS, K_TWIN_SAMPLE,
     K_TWIN_COMPARE, K_TWIN_MEMBERS, K_TWIN_FILTER, K_TWIN_WIDTH,
+    K_VET_REFERENCE, K_VET_SPINUP, K_VET_WINDOW, K_VET_STEP_FACTORS, K_VET_MULTIPLIERS,
+    K_VET_KRYLOV, K_VET_GROWTH, K_VET_NOISE, K_VET_MARGIN, K_VET_FINER,
     K_COUNT
 };
 
@@ -316,6 +321,69 @@ static const key_row rows[K_COUNT] = {
                  "Gaussian filter width in coarse grid spacings (filter = gaussian only)"},
         .kind = V_REAL, .off = OFF(twin_filter_width_factor), .lo_kind = B_EXCL, .lo = 0.0,
         .hi_kind = B_INCL, .hi = 16.0, .expect = "a real number > 0 and at most 16"},
+
+    /* [vet]: read by `twingyre vet` only (vet.h) */
+    [K_VET_REFERENCE] = {
+        .info = {"vet", "reference_state", "", "text", "spinup",
+                 "spinup, or the path of a state file (fields.nc or checkpoint.nc of this grid)",
+                 "state the closure is vetted around: a spin-up from [initial] state, or a file"},
+        .kind = V_TEXT, .off = OFF(vet_reference_state),
+        .expect = "spinup or the path of a state file"},
+    [K_VET_SPINUP] = {
+        .info = {"vet", "spinup_days", "days", "real", "360", ">= 0",
+                 "length of the spin-up that makes the reference state (reference_state = spinup)"},
+        .off = OFF(vet_spinup_days), REAL_GE0("a real number >= 0")},
+    [K_VET_WINDOW] = {
+        .info = {"vet", "window_days", "days", "real", "30",
+                 "> 0, at least one step of the largest step factor",
+                 "length of each online run from the reference state"},
+        .off = OFF(vet_window_days), REAL_GT0("a real number > 0")},
+    [K_VET_STEP_FACTORS] = {
+        .info = {"vet", "step_factors", "", "list of reals", "0.5, 1, 2",
+                 "1 to 6 comma-separated values, each > 0 and at most 16",
+                 "online runs use [time] step_s times each factor (1 is always added)"},
+        .kind = V_REAL_LIST, .off = OFF(vet_step_factors), .count_off = OFF(n_vet_step_factors),
+        .min_count = 1, .max_count = TG_MAX_LAYERS, .lo_kind = B_EXCL, .lo = 0.0,
+        .hi_kind = B_INCL, .hi = 16.0,
+        .expect = "a comma-separated list of 1 to 6 real numbers, each > 0 and at most 16",
+        .item_rule = "> 0 and at most 16"},
+    [K_VET_MULTIPLIERS] = {
+        .info = {"vet", "multipliers", "", "list of reals", "0.5, 1, 2, 4",
+                 "1 to 6 comma-separated values, each > 0 and at most 1000",
+                 "online runs scale the closure's tendency by each multiplier (1 is always added)"},
+        .kind = V_REAL_LIST, .off = OFF(vet_multipliers), .count_off = OFF(n_vet_multipliers),
+        .min_count = 1, .max_count = TG_MAX_LAYERS, .lo_kind = B_EXCL, .lo = 0.0,
+        .hi_kind = B_INCL, .hi = 1000.0,
+        .expect = "a comma-separated list of 1 to 6 real numbers, each > 0 and at most 1000",
+        .item_rule = "> 0 and at most 1000"},
+    [K_VET_KRYLOV] = {
+        .info = {"vet", "krylov_dimension", "", "integer", "40", "4 to 200",
+                 "Arnoldi steps (Jacobian-vector products) of the linear check"},
+        .kind = V_INT, .off = OFF(vet_krylov_dimension), .lo_kind = B_INCL, .lo = 4,
+        .hi_kind = B_INCL, .hi = 200, .expect = "an integer from 4 to 200"},
+    [K_VET_GROWTH] = {
+        .info = {"vet", "growth_limit", "", "real", "2", "> 1",
+                 "largest allowed ratio of the energy with the closure to the energy of the "
+                 "run without it (online), and of exp(2 x growth rate x window_days) (linear)"},
+        .kind = V_REAL, .off = OFF(vet_growth_limit), .lo_kind = B_EXCL, .lo = 1.0,
+        .expect = "a real number > 1"},
+    [K_VET_NOISE] = {
+        .info = {"vet", "noise_limit", "", "real", "0.25", "> 0, below 1",
+                 "largest allowed kinetic-energy fraction in the highest wavenumber band "
+                 "(K > pi/(2 dx)) at the end of an online run (when also above the run without "
+                 "the closure)"},
+        .kind = V_REAL, .off = OFF(vet_noise_limit), .lo_kind = B_EXCL, .lo = 0.0,
+        .hi_kind = B_EXCL, .hi = 1.0, .expect = "a real number > 0 and below 1"},
+    [K_VET_MARGIN] = {
+        .info = {"vet", "required_margin", "", "real", "2", ">= 1, at most the largest multiplier",
+                 "the closure must stay stable online up to this multiplier"},
+        .kind = V_REAL, .off = OFF(vet_required_margin), .lo_kind = B_INCL, .lo = 1.0,
+        .expect = "a real number >= 1"},
+    [K_VET_FINER] = {
+        .info = {"vet", "finer_grid", "", "choice", "yes", "yes, no",
+                 "repeat the online check on the next finer grid (twice the resolution)"},
+        .kind = V_CHOICE, .choices = yes_no_names, .get = get_vet_finer, .put = put_vet_finer,
+        .expect = "one of yes, no"},
 };
 
 #undef REAL_GT0
@@ -2011,5 +2079,56 @@ tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_statu
     }
     if (base->set_by_user[K_TWIN_WIDTH] && base->twin_filter != TG_TWIN_FILTER_GAUSSIAN)
         tg_log(TG_LOG_WARN, "[twin] filter_width_factor is ignored unless filter = gaussian");
+    return TG_OK;
+}
+
+/* ------------------------------------------------------------------ */
+/* [vet]: the rules of `twingyre vet`                                  */
+/* ------------------------------------------------------------------ */
+
+tg_code tg_config_check_vet(const tg_config *cfg, const char *origin, tg_status *st)
+{
+    if (!cfg)
+        return tg_fail(st, TG_ERR_INTERNAL, "tg_config_check_vet: NULL config");
+    const tg_raw_entry *use = tg_config_raw(cfg, "closure", "use");
+    if (use && use->line > 0 && strcmp(use->value, "none") == 0)
+        return tg_fail(st, TG_ERR_CONFIG,
+                       "%s:%d: [closure] use: vet needs a closure to vet, got none (set it in the "
+                       "file or with --set closure.use=NAME)",
+                       origin ? origin : "config", use->line);
+    if (!use || strcmp(use->value, "none") == 0)
+        return tg_fail(st, TG_ERR_CONFIG,
+                       "%s: [closure] use: vet needs a closure to vet, got none (set it in the "
+                       "file or with --set closure.use=NAME)",
+                       use ? "--set closure.use=none" : origin ? origin : "config");
+    const double day = SECONDS_PER_DAY;
+    double fmaxf = 0.0;
+    for (int i = 0; i < cfg->n_vet_step_factors; i++)
+        fmaxf = fmax(fmaxf, cfg->vet_step_factors[i]);
+    if (cfg->vet_window_days * day < cfg->step_s * fmaxf)
+        return key_fail(cfg, K_VET_WINDOW, origin, st,
+                        "the window of %g days is shorter than one step of the largest step "
+                        "factor (%g x %g s)",
+                        cfg->vet_window_days, fmaxf, cfg->step_s);
+    double mmax = 0.0;
+    for (int i = 0; i < cfg->n_vet_multipliers; i++)
+        mmax = fmax(mmax, cfg->vet_multipliers[i]);
+    if (cfg->vet_required_margin > mmax)
+        return key_fail(cfg, K_VET_MARGIN, origin, st,
+                        "expected at most the largest of [vet] multipliers (%g), got %g: a margin "
+                        "beyond the multipliers tried cannot be shown",
+                        mmax, cfg->vet_required_margin);
+    if (strcmp(cfg->vet_reference_state, "spinup") != 0) {
+        const char *path = cfg->vet_reference_state;
+        FILE *f = fopen(path, "rb");
+        if (!f) {
+            const char *const names[] = {"spinup", NULL};
+            const char *close = suggest_choice(names, path);
+            return key_fail(cfg, K_VET_REFERENCE, origin, st,
+                            "cannot open reference state file '%s': %s%s", path, strerror(errno),
+                            close ? "; did you mean spinup?" : "");
+        }
+        fclose(f);
+    }
     return TG_OK;
 }

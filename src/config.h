@@ -30,7 +30,7 @@ typedef enum { TG_TWIN_FILTER_SHARP = 0, TG_TWIN_FILTER_GAUSSIAN = 1 } tg_twin_f
 typedef enum { TG_SET_DEFAULT = 0, TG_SET_FILE = 1, TG_SET_OPTION = 2 } tg_set_origin;
 
 /* Upper bound on the number of rows in the key table (checked in config.c). */
-#define TG_CONFIG_MAX_KEYS 48
+#define TG_CONFIG_MAX_KEYS 64
 
 #define TG_MAX_RAW 96
 #define TG_RAW_TEXT 200
@@ -117,6 +117,20 @@ typedef struct tg_config {
      * tg_config_twin_derive applies and checks them. */
     int ntwin_raw;
     tg_raw_entry twin_raw[TG_MAX_TWIN_RAW];
+
+    /* [vet]: the closure battery of `twingyre vet` (vet.h); `run` ignores it. */
+    char vet_reference_state[TG_PATH_LEN]; /* "spinup" or the path of a state file */
+    double vet_spinup_days;         /* spin-up from [initial] state when reference_state = spinup */
+    double vet_window_days;         /* length of each online run, days */
+    int n_vet_step_factors;
+    double vet_step_factors[TG_MAX_LAYERS];   /* online runs: step = factor x [time] step_s */
+    int n_vet_multipliers;
+    double vet_multipliers[TG_MAX_LAYERS];    /* online runs: closure tendency x multiplier */
+    int vet_krylov_dimension;       /* Arnoldi steps of the linear check */
+    double vet_growth_limit;        /* energy with the closure / without it, at most */
+    double vet_noise_limit;         /* energy fraction in the highest wavenumber band, at most */
+    double vet_required_margin;     /* largest stable multiplier must be at least this */
+    int vet_finer_grid;             /* 1: repeat the online check on the next finer grid */
 
     /* Not a config key: the ensemble member (--member), 0 by default. */
     int member;
@@ -208,6 +222,11 @@ tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_statu
  * Returns 1 for such an entry and writes PATH resolved against the config
  * file's directory (cfg->config_dir; absolute paths unchanged), else 0. */
 int tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n);
+/* [vet] rules (`twingyre vet`, vet.h): a closure is configured, the window
+ * holds at least one step, required_margin is at most the largest
+ * multiplier, and a reference state file can be opened. Messages name the
+ * file and line of the key. */
+tg_code tg_config_check_vet(const tg_config *cfg, const char *origin, tg_status *st);
 
 /* Prints the reference table (Markdown) used in README. */
 void tg_config_print_reference(FILE *out);

@@ -26,14 +26,18 @@ static void usage(FILE *f)
             "  fit SUBGRID.nc --out COEFFS\n"
             "                   fit closure coefficients of the basis terms to a twin's\n"
             "                   sub-grid forcing; writes a file for [closure] use = coefficients\n"
+            "  vet CONFIG       battery of checks on the configured closure (linear, conservation,\n"
+            "                   online over step factors and coefficient multipliers, finer\n"
+            "                   grid); verdict table on stdout and DIR/vet.json; exit 9 when a\n"
+            "                   check fails\n"
             "\n"
-            "options of run, describe and twin:\n"
+            "options of run, describe, twin and vet:\n"
             "  --set SECTION.KEY=VALUE  override one config key (repeatable)\n"
             "  --out DIR                output directory (overrides [output] directory)\n"
-            "  --overwrite              (run, twin) replace the output files already in DIR\n"
-            "  --threads N              (run, twin) OpenMP threads (default: OMP_NUM_THREADS)\n"
+            "  --overwrite              (run, twin, vet) replace the output files already in DIR\n"
+            "  --threads N              (run, twin, vet) OpenMP threads (default: OMP_NUM_THREADS)\n"
             "  --member K               ensemble member of stochastic closures (default 0)\n"
-            "  --quiet                  (run, twin) no progress and no summary lines\n"
+            "  --quiet                  (run, twin, vet) no progress and no summary lines\n"
             "\n"
             "options of fit (defaults in brackets):\n"
             "  --out FILE               the coefficients file to write (required)\n"
@@ -56,7 +60,7 @@ static void usage(FILE *f)
             "\n"
             "Exit status: 0 done, 1 usage, 2 config, 3 input/output, 4 numerical library,\n"
             "5 unstable run (NaN/Inf or CFL), 6 stopped by a signal, 7 out of memory,\n"
-            "8 internal error. The README has the config reference.\n",
+            "8 internal error, 9 vet: a check failed. The README has the config reference.\n",
             PACKAGE_VERSION);
 }
 
