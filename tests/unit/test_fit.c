@@ -265,8 +265,9 @@ START_TEST(test_recovery)
         /* STLSQ drops every zero term (threshold 0.05 far above the noise);
          * the RVM keeps every active term, and prunes a zero term unless a
          * chance correlation with the noise gives it a finite optimal alpha
-         * (Tipping & Faul 2003, Proc. 9th Int. Workshop on AI and Statistics,
-         * section 3: q_i^2 > s_i; the section from memory), in
+         * (Tipping & Faul 2003, "Fast marginal likelihood maximisation for
+         * sparse Bayesian models", section 3: q_i^2 > s_i; the section from
+         * memory), in
          * which case its credible interval must hold 0 (checked below). */
         if (method == TG_FIT_STLSQ)
             ck_assert_msg(res.kept[c] == (rec_w[c] != 0.0), "%s: term %s kept = %d",
