@@ -22,7 +22,7 @@ typedef struct {
     tg_sweep *sw;
     tg_status *st;
     int failed;
-    int line_base, line_kind, line_combine, line_dir;
+    int line_base, line_kind, line_combine;
     char kind[32], combine[32], base[TG_PATH_LEN], directory[TG_PATH_LEN];
 } sweep_ctx;
 
@@ -222,7 +222,6 @@ static int on_pair(void *user, const char *section, const char *key, const char 
             return copy_text(c, c->combine, sizeof c->combine, section, key, value);
         }
         if (!strcmp(key, "directory")) {
-            c->line_dir = c->lineno;
             return copy_text(c, c->directory, sizeof c->directory, section, key, value);
         }
         if (!strcmp(key, "seeds") || !strcmp(key, "members")) {
@@ -530,23 +529,21 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
                                             "got '%s'", path, c->line_combine, c->combine);
     }
     if (rc == TG_OK) {
-        char d[TG_PATH_LEN];
         if (out_dir) {
-            snprintf(d, sizeof d, "%s", out_dir);
-            snprintf(sw->directory, sizeof sw->directory, "%s", d);
+            if (strlen(out_dir) >= sizeof sw->directory)
+                rc = tg_fail(st, TG_ERR_USAGE, "--out: the path is too long");
+            snprintf(sw->directory, sizeof sw->directory, "%s", out_dir);
         } else if (c->directory[0]) {
-            if (!resolve(path, c->directory, sw->directory, sizeof sw->directory))
-                rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: [sweep] directory: the path is too long",
-                             path, c->line_dir);
+            /* Like [output] directory of a config: relative to the current folder. */
+            snprintf(sw->directory, sizeof sw->directory, "%s", c->directory);
         } else {
-            /* Default: NAME-output beside the sweep file NAME.ini. */
+            /* Default: NAME-output in the current folder for the sweep file NAME.ini. */
             const char *b = strrchr(path, '/');
             b = b ? b + 1 : path;
             size_t bl = strlen(b);
             if (bl > 4 && !strcmp(b + bl - 4, ".ini"))
                 bl -= 4;
-            snprintf(d, sizeof d, "%.*s-output", (int)bl, b);
-            resolve(path, d, sw->directory, sizeof sw->directory);
+            snprintf(sw->directory, sizeof sw->directory, "%.*s-output", (int)bl, b);
         }
         size_t dl = strlen(sw->directory);
         while (dl > 1 && sw->directory[dl - 1] == '/')

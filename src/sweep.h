@@ -65,7 +65,7 @@ typedef struct {
 typedef struct {
     char path[TG_PATH_LEN];       /* the sweep file as given */
     char base[TG_PATH_LEN];       /* base config, resolved against the sweep file's folder */
-    char directory[TG_PATH_LEN];  /* output folder, resolved likewise */
+    char directory[TG_PATH_LEN];  /* output folder (relative to the current folder) */
     tg_sweep_kind kind;
     tg_sweep_combine combine;
     int naxes;                    /* [vary] keys first (file order), then seeds, then members */
