@@ -25,6 +25,27 @@ static void on_signal(int sig)
     g_stop = 1;
 }
 
+/* Log sink that passes each distinct line once: checking every member's
+ * config would otherwise repeat the base config's warnings per member. */
+typedef struct {
+    int n;
+    unsigned long hash[256];
+} seen_lines;
+
+static void log_once(tg_log_level level, const char *line, void *user)
+{
+    seen_lines *s = user;
+    unsigned long h = 5381;
+    for (const char *p = line; *p; p++)
+        h = h * 33 + (unsigned char)*p;
+    for (int i = 0; i < s->n; i++)
+        if (s->hash[i] == h)
+            return;
+    if (s->n < 256)
+        s->hash[s->n++] = h;
+    cli_log_to_stderr(level, line, NULL);
+}
+
 typedef struct {
     const char *sweep, *out, *slurm;
     int jobs, threads, member, collect, mpi, quiet;
@@ -176,7 +197,8 @@ static int slurm_script(tg_sweep *sw, const sweep_args *a)
 
 int cmd_sweep(int argc, char **argv)
 {
-    tg_set_log(cli_log_to_stderr, NULL);
+    seen_lines seen = {0};
+    tg_set_log(log_once, &seen);
     sweep_args a;
     if (!parse(argc, argv, &a))
         return cli_exit_code(TG_ERR_USAGE);

@@ -6,7 +6,8 @@
 # definitions in README, "Sweeps and ensembles"); a member whose value
 # blows up and one whose value is refused are recorded as failed while the
 # other completes; a sweep stopped with SIGINT after its first member is
-# done is resumed by a second run, which skips the finished member; --member,
+# done is resumed by a second run, which skips the finished member; a sweep
+# of twins carries their skill metrics into sweep.csv; --member,
 # --collect and --slurm-script; bad sweep files are refused with FILE:LINE
 # and exit status 2 before anything is written.
 #
@@ -212,6 +213,82 @@ if [ "$rc" -eq 0 ] && [ "$ndone2" -eq 4 ] && [ "$starts1" = "$starts2" ] &&
 else
     notok "running the sweep again skips the finished members and completes the others" \
         "$(err_tail)" "before: $starts1" "after:  $starts2"
+fi
+
+# ---------------------------------------------------------------- twins
+# A twin base (detected from its [twin] section): reference 33 points,
+# coarse 17, 10 + 10 days; the coarse viscosity is varied.
+cat >twin.ini <<'EOF'
+[grid]
+geometry = basin
+size_km = 1000
+points = 33
+
+[layers]
+thickness_m = 1000, 3000
+reduced_gravity_m_s2 = 0.02
+
+[wind]
+profile = double_gyre
+stress_amplitude_pa = 0.1
+
+[dissipation]
+bottom_drag_per_s = 1e-7
+viscosity_m2_per_s = 300
+
+[time]
+step_s = 3600
+
+[initial]
+state = noise
+noise_amplitude_m2_per_s = 100
+seed = 3
+
+[twin]
+reference_points = 33
+coarse_points = 17
+spinup_days = 10
+analysis_days = 10
+sample_every_days = 5
+compare = smagorinsky
+
+[twin.coarse]
+time.step_s = 7200
+EOF
+cat >twins.ini <<'EOF'
+[sweep]
+base = twin.ini
+
+[vary]
+twin.coarse.dissipation.viscosity_m2_per_s = 1000, 2000
+EOF
+tg sweep twins.ini --jobs 2 --out "$T/twins"
+cat >check_twins.py <<'EOF'
+import csv, json, sys
+top = sys.argv[1]
+with open(top + "/sweep.csv", newline="") as f:
+    rows = list(csv.DictReader(f))
+assert [r["name"] for r in rows] == ["viscosity_m2_per_s-1000", "viscosity_m2_per_s-2000"], rows
+assert json.load(open(top + "/sweep.json"))["kind"] == "twin"
+for r in rows:
+    assert r["status"] == "done", r
+    with open("%s/%s/skill.csv" % (top, r["name"]), newline="") as f:
+        skill = list(csv.DictReader(f))
+    n = 0
+    for s in skill:
+        run = s["run"].replace(" ", "_")
+        assert r["skill_%s_status" % run] == s["status"]
+        for k in ("kinetic_energy_ratio", "psi_pattern_correlation", "offline_r2"):
+            assert r["skill_%s_layer%s_%s" % (run, s["layer"], k)] == s[k], (run, k)
+            n += 1
+    assert n == 12, n  # runs none and smagorinsky, two layers, three metrics
+print("ok")
+EOF
+if [ "$rc" -eq 0 ] && "$PYTHON" check_twins.py "$T/twins" >py.out 2>&1; then
+    ok "a twin sweep: kind detected, skill.csv metrics of each member in sweep.csv"
+else
+    notok "a twin sweep: kind detected, skill.csv metrics of each member in sweep.csv" \
+        "$(err_tail)" "$(cat py.out)"
 fi
 
 # ---------------------------------------------------------------- Slurm script
