@@ -247,7 +247,7 @@ static int on_pair(void *user, const char *section, const char *key, const char 
             return ctx_fail(c, "[vary] %s: expected section.key (e.g. "
                                "dissipation.viscosity_m2_per_s = 200, 400)", key);
         for (int a = 0; a < sw->naxes; a++)
-            if (!strcmp(sw->axis[a].key, key))
+            if (sw->axis[a].kind == TG_AXIS_KEY && !strcmp(sw->axis[a].key, key))
                 return ctx_fail(c, "[vary] %s is given twice (first at line %d)", key,
                                 sw->axis[a].line);
         tg_sweep_axis *ax = new_axis(c, section, key);
