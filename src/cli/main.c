@@ -23,6 +23,8 @@ static void usage(FILE *f)
             "  twin CONFIG      twin experiment: fine reference, coarse runs with the closures\n"
             "                   of [twin] compare, sub-grid forcing (DIR/subgrid.nc) and skill\n"
             "                   (DIR/skill.csv, DIR/skill.json)\n"
+            "  sweep SWEEP      run the members of a sweep file (base config, keys to vary)\n"
+            "                   and merge their summaries into DIR/sweep.csv, DIR/sweep.json\n"
             "\n"
             "options of run, describe and twin:\n"
             "  --set SECTION.KEY=VALUE  override one config key (repeatable)\n"
@@ -32,12 +34,24 @@ static void usage(FILE *f)
             "  --member K               ensemble member of stochastic closures (default 0)\n"
             "  --quiet                  (run, twin) no progress and no summary lines\n"
             "\n"
+            "options of sweep:\n"
+            "  --jobs N                 members run at the same time on this machine (default 1)\n"
+            "  --threads T              OpenMP threads of each member (default 1)\n"
+            "  --out DIR                output folder (overrides [sweep] directory)\n"
+            "  --member K               run member K only (what a cluster task calls)\n"
+            "  --collect                write DIR/sweep.csv and DIR/sweep.json again\n"
+            "  --slurm-script FILE      write FILE (job array), FILE.collect, FILE.submit\n"
+            "  --mpi                    hand members to MPI ranks (automatic under mpirun;\n"
+            "                           needs a build with ./configure --with-mpi)\n"
+            "  --quiet                  no progress line\n"
+            "\n"
             "  --help                   this text\n"
             "  --version                program version\n"
             "\n"
             "Exit status: 0 done, 1 usage, 2 config, 3 input/output, 4 numerical library,\n"
             "5 unstable run (NaN/Inf or CFL), 6 stopped by a signal, 7 out of memory,\n"
-            "8 internal error. The README has the config reference.\n",
+            "8 internal error, 9 sweep with failed members. The README has the config\n"
+            "reference and the sweep file reference.\n",
             PACKAGE_VERSION);
 }
 
