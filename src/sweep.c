@@ -639,6 +639,11 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
             rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: [sweep] kind: expected run, twin or auto, "
                                             "got '%s'", path, c->line_kind, c->kind);
     }
+    for (int a = 0; a < sw->naxes && rc == TG_OK; a++)
+        if (sw->kind == TG_SWEEP_TWIN && sw->axis[a].kind == TG_AXIS_MEMBER)
+            rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: [sweep] members: picks the noise of "
+                         "stochastic closures in runs; a twin sets its ensemble with [twin] "
+                         "members (vary twin.members instead)", path, sw->axis[a].line);
     if (rc == TG_OK)
         rc = check_keys(sw, scratch, st);
     if (rc == TG_OK)

@@ -15,7 +15,8 @@
  * skill_RUN_status (RUN with blanks as '_'), columns in order of first
  * appearance over the members. sweep.csv holds nothing that depends on the
  * machine or the clock, so the local pool, MPI and Slurm give the same
- * bytes; host, threads and times are in sweep.json only.
+ * bytes; host, threads and times are in sweep.json only. A done member whose
+ * files cannot be read gets empty figures and a warning in the log.
  */
 #include "ncio_util.h"
 #include "strbuf.h"
@@ -332,13 +333,24 @@ tg_code tg_sweep_collect(const tg_sweep *sw, tg_status *st)
             break;
         if (!ms[k].present || strcmp(ms[k].status, "done") != 0)
             continue;
+        /* A done member whose files cannot be read keeps its row with empty
+         * figures (a warning says why); the table of the others is written. */
+        tg_status mst;
+        tg_status_clear(&mst);
         snprintf(path, sizeof path, "%s/%s/%sbudget.nc", sw->directory, sw->name[k],
                  sw->kind == TG_SWEEP_TWIN ? "reference/" : "");
-        if ((rc = budget_figures(path, fig[k], st)) != TG_OK)
-            break;
-        if (sw->kind == TG_SWEEP_TWIN) {
+        tg_code mrc = budget_figures(path, fig[k], &mst);
+        if (mrc == TG_OK && sw->kind == TG_SWEEP_TWIN) {
             snprintf(path, sizeof path, "%s/%s/skill.csv", sw->directory, sw->name[k]);
-            rc = skill_columns(path, k, &xt, st);
+            mrc = skill_columns(path, k, &xt, &mst);
+        }
+        if (mrc == TG_ERR_NOMEM) {
+            rc = tg_fail(st, mrc, "%s", mst.msg);
+        } else if (mrc != TG_OK) {
+            for (int i = 0; i < NFIG; i++)
+                fig[k][i] = NAN;
+            tg_log(TG_LOG_WARN, "sweep table: member %d (%s) is done but its figures are left "
+                                "empty: %s", k, sw->name[k], mst.msg);
         }
     }
 

@@ -110,6 +110,17 @@ if [ "$rc" -eq 0 ] && cmp -s first.csv "$csv"; then
 else
     notok "--collect again gives the same sweep.csv byte for byte" "$(err_tail)"
 fi
+cp -r "$T/local" "$T/damaged"
+rm "$T/damaged/viscosity_m2_per_s-400_seed-2/budget.nc"
+tg sweep grid.ini --out "$T/damaged" --collect
+if [ "$rc" -eq 0 ] && grep -q 'member 1 (viscosity_m2_per_s-400_seed-2) is done but its figures are left empty' "$T/err" &&
+    grep -q '^1,viscosity_m2_per_s-400_seed-2,400,2,done,0,,,,,,,$' "$T/damaged/sweep.csv" &&
+    [ "$(sed -n 4p "$T/damaged/sweep.csv")" = "$(sed -n 4p "$csv")" ]; then
+    ok "--collect with a done member's budget.nc missing: empty figures, a warning, the other rows intact"
+else
+    notok "--collect with a done member's budget.nc missing: empty figures, a warning, the other rows intact" \
+        "$(err_tail)" "$(cat "$T/damaged/sweep.csv" 2>&1)"
+fi
 tg sweep grid.ini --out "$T/local" --member 1
 if [ "$rc" -eq 0 ] && grep -q 'already done' "$T/err"; then
     ok "--member K of a finished member does nothing (exit 0)"
