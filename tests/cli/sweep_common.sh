@@ -123,8 +123,11 @@ dissipation.viscosity_m2_per_s = 400, 800
 
 [cluster]
 job_name = tg-sweep-test
+partition = tgsweep
 time_limit = 00:05:00
 cpus_per_task = 1
+extra = --comment=twingyre-sweep-test
+setup = echo "setup line of the sweep test ran"
 EOF
 
 # The columns sweep.csv must have for grid.ini (README, "Sweeps and ensembles").

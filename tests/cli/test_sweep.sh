@@ -307,6 +307,9 @@ tg sweep grid.ini --out "$T/slurm" --slurm-script "$T/job.sh"
 if [ "$rc" -eq 0 ] && grep -q '^#SBATCH --array=0-3$' job.sh &&
     grep -q '^#SBATCH --job-name=tg-sweep-test$' job.sh &&
     grep -q '^#SBATCH --time=00:05:00$' job.sh &&
+    grep -q '^#SBATCH --partition=tgsweep$' job.sh &&
+    grep -q '^#SBATCH --comment=twingyre-sweep-test$' job.sh &&
+    grep -q '^echo "setup line of the sweep test ran"$' job.sh &&
     grep -q -- '--member "$SLURM_ARRAY_TASK_ID"' job.sh &&
     grep -q -- '--collect' job.sh.collect &&
     grep -q -- '--dependency=afterany:' job.sh.submit &&

@@ -21,7 +21,7 @@ set -u
 . "$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)/sweep_common.sh"
 
 missing=()
-for p in slurmctld slurmd sbatch squeue sinfo munged munge; do
+for p in slurmctld slurmd sbatch squeue sinfo scontrol munged munge unmunge; do
     command -v "$p" >/dev/null 2>&1 || missing+=("$p")
 done
 why=
@@ -171,10 +171,17 @@ else
     finish
 fi
 ntask=$(ls "$T"/cluster/slurm-logs/member-*.out 2>/dev/null | wc -l)
-if [ "$ntask" -eq 4 ]; then
-    ok "one array task per member (4 task logs)"
+nsetup=$(grep -l 'setup line of the sweep test ran' "$T"/cluster/slurm-logs/member-*.out 2>/dev/null | wc -l)
+if [ "$ntask" -eq 4 ] && [ "$nsetup" -eq 4 ]; then
+    ok "one array task per member (4 task logs), each ran the [cluster] setup line"
 else
-    notok "one array task per member (4 task logs)" "$(ls "$T/cluster/slurm-logs" 2>&1)"
+    notok "one array task per member (4 task logs), each ran the [cluster] setup line" \
+        "$(ls "$T/cluster/slurm-logs" 2>&1)" "setup line in $nsetup logs"
+fi
+if scontrol show job "$collect" 2>/dev/null | grep -q 'Partition=tgsweep'; then
+    ok "the jobs ran in the [cluster] partition"
+else
+    notok "the jobs ran in the [cluster] partition" "$(scontrol show job "$collect" 2>&1 | head -n 5)"
 fi
 if cmp -s "$T/local/sweep.csv" "$T/cluster/sweep.csv"; then
     ok "sweep.csv from Slurm equals the local pool's byte for byte"
