@@ -22,6 +22,8 @@ typedef struct {
     tg_sweep *sw;
     tg_status *st;
     int failed;
+    int continued;       /* the line being handled is an indented continuation */
+    int last_axis;       /* axis of the previous key = value line, -1 when none */
     int line_base, line_kind, line_combine;
     char kind[32], combine[32], base[TG_PATH_LEN], directory[TG_PATH_LEN];
 } sweep_ctx;
@@ -41,7 +43,8 @@ static int ctx_fail(sweep_ctx *c, const char *fmt, ...)
 }
 
 /* Line reader for ini_parse_stream: counts lines (the Debian libinih
- * handler gets no line number) and refuses indented continuation lines. */
+ * handler gets no line number) and notes indented continuation lines
+ * (libinih hands them to the handler with the previous key). */
 static char *reader(char *str, int num, void *stream)
 {
     sweep_ctx *c = stream;
@@ -60,13 +63,13 @@ static char *reader(char *str, int num, void *stream)
     memcpy(str, start, take);
     str[take] = '\0';
     const char *p = str;
+    c->continued = 0;
+    if (p[strspn(p, " \t")] == '[')
+        c->last_axis = -1; /* a section header ends any value list */
     if (*p == ' ' || *p == '\t') {
         while (*p == ' ' || *p == '\t')
             p++;
-        if (*p && *p != '\r' && *p != '\n' && *p != ';' && *p != '#') {
-            ctx_fail(c, "indented line; write each key = value at the start of its line");
-            return NULL;
-        }
+        c->continued = *p && *p != '\r' && *p != '\n' && *p != ';' && *p != '#';
     }
     return str;
 }
@@ -91,21 +94,28 @@ static char *trim(char *s)
     return s;
 }
 
-/* Splits a value list at '|' when it has one, else at ','. */
-static int split_values(sweep_ctx *c, tg_sweep_axis *ax, const char *section, const char *value)
+/* Splits a value list at '|' when it has one, else at ','; a separator at
+ * the end of the line is allowed (the list goes on on an indented line).
+ * `append`: add to the values already there (a continuation line). */
+static int split_values(sweep_ctx *c, tg_sweep_axis *ax, const char *section, const char *value,
+                        int append)
 {
     char buf[TG_SWEEP_MAX_VALUES * TG_SWEEP_VALUE_LEN];
     if (strlen(value) >= sizeof buf)
         return ctx_fail(c, "[%s] %s: the value list is too long", section, ax->key);
     strcpy(buf, value);
     const char sep = strchr(buf, '|') ? '|' : ',';
-    ax->nvalues = 0;
+    if (!append)
+        ax->nvalues = 0;
+    const int first = ax->nvalues;
     char *p = buf;
     for (;;) {
         char *e = strchr(p, sep);
         if (e)
             *e = '\0';
         char *v = trim(p);
+        if (*v == '\0' && !e && ax->nvalues > first)
+            break; /* a separator at the end of the line */
         if (*v == '\0')
             return ctx_fail(c, "[%s] %s: expected a list of values separated by '%c', found an "
                                "empty value (value %d)", section, ax->key, sep, ax->nvalues + 1);
@@ -208,6 +218,17 @@ static int on_pair(void *user, const char *section, const char *key, const char 
         return 0;
     if (!key) /* a section header alone */
         return 1;
+    if (c->continued) {
+        if (c->last_axis < 0)
+            return ctx_fail(c, "indented line continues [%s] %s, which takes one value; only "
+                               "value lists ([vary] keys, seeds, members) go on over indented "
+                               "lines", section, key);
+        tg_sweep_axis *ax = &sw->axis[c->last_axis];
+        return split_values(c, ax, section, value, 1) &&
+               (ax->kind != TG_AXIS_SEED || whole_numbers(c, ax, 0, 4294967295LL)) &&
+               (ax->kind != TG_AXIS_MEMBER || whole_numbers(c, ax, 0, 1000000));
+    }
+    c->last_axis = -1;
     if (!strcmp(section, "sweep")) {
         if (!strcmp(key, "base")) {
             c->line_base = c->lineno;
@@ -235,7 +256,8 @@ static int on_pair(void *user, const char *section, const char *key, const char 
             ax->kind = seeds ? TG_AXIS_SEED : TG_AXIS_MEMBER;
             strcpy(ax->key, seeds ? "initial.seed" : "member");
             strcpy(ax->label, seeds ? "seed" : "member");
-            if (!split_values(c, ax, section, value))
+            c->last_axis = sw->naxes - 1;
+            if (!split_values(c, ax, section, value, 0))
                 return 0;
             return seeds ? whole_numbers(c, ax, 0, 4294967295LL) : whole_numbers(c, ax, 0, 1000000);
         }
@@ -257,7 +279,8 @@ static int on_pair(void *user, const char *section, const char *key, const char 
         if (!copy_text(c, ax->key, sizeof ax->key, section, key, key))
             return 0;
         strcpy(ax->label, strrchr(key, '.') + 1);
-        return split_values(c, ax, section, value);
+        c->last_axis = sw->naxes - 1;
+        return split_values(c, ax, section, value, 0);
     }
     if (!strcmp(section, "cluster"))
         return cluster_pair(c, key, value);
@@ -502,6 +525,7 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
     c->len = len;
     c->sw = sw;
     c->st = st;
+    c->last_axis = -1;
     int r = ini_parse_stream(reader, c, on_pair, c);
     if (!c->failed && r > 0)
         rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: expected 'key = value', a [section] header or a "

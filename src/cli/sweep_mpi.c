@@ -127,7 +127,7 @@ static int leader(const sweep_ctl *c, int size)
     sweep_progress_show(&pr, 1);
     int next = 0, workers = size - 1, stopped = 0, own = -1;
     pid_t own_pid = 0;
-    double t_own = 0;
+    time_t t_own = 0;
     while (workers > 0 || own_pid > 0 || (next < npending && !*c->stop)) {
         int flag = 0;
         MPI_Status ms;
@@ -139,8 +139,15 @@ static int leader(const sweep_ctl *c, int size)
             if (!mpi_ok(MPI_Recv(msg, 2, MPI_INT, ms.MPI_SOURCE, TAG_ASK, MPI_COMM_WORLD,
                                  MPI_STATUS_IGNORE), "receiving a request"))
                 break;
-            if (msg[0] >= 0)
+            if (msg[0] >= 0 && msg[0] < sw->nmembers) {
                 count(&pr, msg[1], &stopped);
+                tg_member_status mst; /* its run time, for the estimate */
+                if (tg_sweep_read_status(sw, msg[0], &mst, &st) == TG_OK && mst.present &&
+                    msg[1] != TG_ERR_INTERRUPTED) {
+                    pr.busy_s += mst.seconds;
+                    pr.finished_here++;
+                }
+            }
             if (next < npending && !*c->stop) {
                 give = pending[next++];
                 pr.running++;
@@ -175,9 +182,12 @@ static int leader(const sweep_ctl *c, int size)
             if (*c->stop)
                 kill(own_pid, SIGINT);
             if (waitpid(own_pid, &ws, WNOHANG) == own_pid) {
-                count(&pr, (int)sweep_reap(c, own, ws), &stopped);
-                pr.busy_s += time(NULL) - t_own;
-                pr.finished_here++;
+                tg_code oc = sweep_reap(c, own, ws);
+                count(&pr, (int)oc, &stopped);
+                if (oc != TG_ERR_INTERRUPTED) {
+                    pr.busy_s += difftime(time(NULL), t_own);
+                    pr.finished_here++;
+                }
                 own_pid = 0;
                 sweep_progress_show(&pr, 1);
                 continue;
@@ -209,16 +219,22 @@ int sweep_mpi(const sweep_ctl *c, int *argc, char ***argv)
     int rank = 0, size = 1;
     if (!mpi_ok(MPI_Init(argc, argv), "MPI_Init"))
         return cli_exit_code(TG_ERR_INTERNAL);
-    MPI_Comm_set_errhandler(MPI_COMM_WORLD, MPI_ERRORS_RETURN);
-    MPI_Comm_rank(MPI_COMM_WORLD, &rank);
-    MPI_Comm_size(MPI_COMM_WORLD, &size);
+    if (!mpi_ok(MPI_Comm_set_errhandler(MPI_COMM_WORLD, MPI_ERRORS_RETURN),
+                "setting the error handler") ||
+        !mpi_ok(MPI_Comm_rank(MPI_COMM_WORLD, &rank), "MPI_Comm_rank") ||
+        !mpi_ok(MPI_Comm_size(MPI_COMM_WORLD, &size), "MPI_Comm_size")) {
+        MPI_Abort(MPI_COMM_WORLD, TG_ERR_INTERNAL);
+        return cli_exit_code(TG_ERR_INTERNAL);
+    }
     sweep_ctl mine = *c;
     if (rank != 0)
         mine.quiet = 1; /* one progress line, from rank 0 */
     int rc = rank == 0 ? leader(&mine, size) : worker(&mine);
     int all = rc;
-    /* Every rank exits with rank 0's status. */
-    MPI_Bcast(&all, 1, MPI_INT, 0, MPI_COMM_WORLD);
-    MPI_Finalize();
+    /* Every rank exits with rank 0's status (a rank's own error first). */
+    if (!mpi_ok(MPI_Bcast(&all, 1, MPI_INT, 0, MPI_COMM_WORLD), "sharing the exit status"))
+        all = cli_exit_code(TG_ERR_INTERNAL);
+    if (!mpi_ok(MPI_Finalize(), "MPI_Finalize") && rc == 0)
+        rc = cli_exit_code(TG_ERR_INTERNAL);
     return rank == 0 ? rc : (rc ? rc : all);
 }

@@ -133,6 +133,25 @@ START_TEST(name_clashes)
 }
 END_TEST
 
+START_TEST(continuation_lines)
+{
+    put("base.ini", BASE);
+    tg_sweep *sw;
+    tg_status st;
+    ck_assert_int_eq(load("l.ini",
+                          "[sweep]\nbase = base.ini\nseeds = 1,\n    2, 3\n"
+                          "[vary]\ntime.step_s = 600, 900,\n  1200   ; comment\n"
+                          "  1800\n",
+                          &sw, &st),
+                     TG_OK);
+    ck_assert_int_eq(sw->axis[0].nvalues, 4);
+    ck_assert_str_eq(sw->axis[0].value[3], "1800");
+    ck_assert_int_eq(sw->axis[1].nvalues, 3);
+    ck_assert_int_eq(sw->nmembers, 12);
+    tg_sweep_free(sw);
+}
+END_TEST
+
 static void expect_error(const char *name, const char *text, tg_code code, const char *msg)
 {
     tg_sweep *sw = NULL;
@@ -161,6 +180,10 @@ START_TEST(bad_files)
     expect_error("e8.ini",
                  "[sweep]\nbase = base.ini\nseeds = 1\n[vary]\ninitial.seed = 1, 2\n",
                  TG_ERR_CONFIG, "both vary the seed");
+    expect_error("e10.ini", "[sweep]\nbase = base.ini\n  combine = zip\n[vary]\ntime.step_s = 1\n",
+                 TG_ERR_CONFIG, "e10.ini:3: indented line continues [sweep] base");
+    expect_error("e11.ini", "[sweep]\nbase = base.ini\nseeds = 1,\n  x\n", TG_ERR_CONFIG,
+                 "e11.ini:4: [sweep] seed: expected whole numbers");
     expect_error("e9.ini", "[sweep]\nbase = base.ini\n[vary]\ntime.step_s = 1\n"
                            "[cluster]\nmemory = lots\n",
                  TG_ERR_CONFIG, "e9.ini:6: [cluster] memory: expected a size");
@@ -219,6 +242,7 @@ static Suite *sweep_suite(void)
     tcase_add_test(tc, product_order_and_names);
     tcase_add_test(tc, zip_order);
     tcase_add_test(tc, name_clashes);
+    tcase_add_test(tc, continuation_lines);
     tcase_add_test(tc, bad_files);
     tcase_add_test(tc, member_config_failure);
     tcase_add_test(tc, status_round_trip);
