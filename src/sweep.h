@@ -139,6 +139,9 @@ typedef struct {
 tg_code tg_sweep_run_member(const tg_sweep *sw, int k, const tg_sweep_member_options *o,
                             int *skipped, tg_status *st);
 
+/* Makes DIRECTORY (and its parents). */
+tg_code tg_sweep_make_directory(const tg_sweep *sw, tg_status *st);
+
 /* Makes DIRECTORY/NAME/ of member k (and its parents). */
 tg_code tg_sweep_prepare_member(const tg_sweep *sw, int k, tg_status *st);
 

@@ -221,6 +221,11 @@ tg_code tg_sweep_record_failure(const tg_sweep *sw, int k, tg_code code, const c
     return write_status(sw, k, &ms, st);
 }
 
+tg_code tg_sweep_make_directory(const tg_sweep *sw, tg_status *st)
+{
+    return make_dirs(sw->directory, st);
+}
+
 tg_code tg_sweep_prepare_member(const tg_sweep *sw, int k, tg_status *st)
 {
     char dir[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 2];

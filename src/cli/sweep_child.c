@@ -45,6 +45,31 @@ tg_code sweep_plan(const sweep_ctl *c, int *pending, int *npending, int *done, i
     return rc;
 }
 
+int sweep_lock(const sweep_ctl *c, tg_status *st)
+{
+    if (tg_sweep_make_directory(c->sw, st) != TG_OK)
+        return -1;
+    char path[TG_PATH_LEN + 16];
+    snprintf(path, sizeof path, "%s/sweep.lock", c->sw->directory);
+    int fd = open(path, O_RDWR | O_CREAT, 0644);
+    if (fd < 0) {
+        tg_fail(st, TG_ERR_IO, "cannot open %s: %s", path, strerror(errno));
+        return -1;
+    }
+    struct flock fl = {.l_type = F_WRLCK, .l_whence = SEEK_SET, .l_start = 0, .l_len = 0};
+    if (fcntl(fd, F_SETLK, &fl) != 0) {
+        int e = errno;
+        close(fd);
+        if (e == EACCES || e == EAGAIN)
+            tg_fail(st, TG_ERR_IO, "another twingyre sweep is working in %s (%s is locked); "
+                                   "wait for it or stop it first", c->sw->directory, path);
+        else
+            tg_fail(st, TG_ERR_IO, "cannot lock %s: %s", path, strerror(e));
+        return -1;
+    }
+    return fd;
+}
+
 pid_t sweep_launch(const sweep_ctl *c, int k, tg_status *st)
 {
     const tg_sweep *sw = c->sw;

@@ -33,6 +33,11 @@ typedef struct {
 tg_code sweep_plan(const sweep_ctl *c, int *pending, int *npending, int *done, int *failed,
                    tg_status *st);
 
+/* Takes DIR/sweep.lock (a POSIX record lock, released when the process
+ * ends) so that two pools or MPI runs never work in one folder at once.
+ * Returns the open descriptor or -1 with the message in st. */
+int sweep_lock(const sweep_ctl *c, tg_status *st);
+
 /* Starts member k as a child process; returns its pid or -1 (message in st). */
 pid_t sweep_launch(const sweep_ctl *c, int k, tg_status *st);
 

@@ -106,9 +106,11 @@ static int leader(const sweep_ctl *c, int size)
     tg_status_clear(&st);
     int *pending = malloc((size_t)sw->nmembers * sizeof *pending);
     int npending = 0, done = 0, failed = 0, planned = pending != NULL;
+    int lock = -1;
     if (!pending)
         fprintf(stderr, "twingyre: out of memory starting the sweep\n");
-    else if (sweep_plan(c, pending, &npending, &done, &failed, &st) != TG_OK) {
+    else if ((lock = sweep_lock(c, &st)) < 0 ||
+             sweep_plan(c, pending, &npending, &done, &failed, &st) != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         planned = 0;
     }
@@ -198,11 +200,16 @@ static int leader(const sweep_ctl *c, int size)
     }
     sweep_progress_end(&pr);
     free(pending);
-    if (!planned)
+    if (!planned) {
+        if (lock >= 0)
+            close(lock);
         return cli_exit_code(st.code ? st.code : TG_ERR_NOMEM);
+    }
     if (*c->stop)
         stopped = 1;
-    if (tg_sweep_collect(sw, &st) != TG_OK) {
+    tg_code crc = tg_sweep_collect(sw, &st);
+    close(lock);
+    if (crc != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         return cli_exit_code(st.code);
     }

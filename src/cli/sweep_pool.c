@@ -3,7 +3,8 @@
  * threads, starts the next one when one ends, and collects at the end.
  * A stop request (SIGINT/SIGTERM) is passed on to the running members,
  * which write their checkpoint and record themselves as stopped; nothing
- * new starts, and a later run of the same sweep starts them again. */
+ * new starts, and a later run of the same sweep starts them again.
+ * DIR/sweep.lock keeps a second pool out of the same folder. */
 #define _POSIX_C_SOURCE 200809L
 #include <errno.h>
 #include <signal.h>
@@ -44,10 +45,13 @@ int sweep_pool(const sweep_ctl *c)
         return cli_exit_code(TG_ERR_NOMEM);
     }
     int npending, done, failed;
-    if (sweep_plan(c, pending, &npending, &done, &failed, &st) != TG_OK) {
+    int lock = sweep_lock(c, &st);
+    if (lock < 0 || sweep_plan(c, pending, &npending, &done, &failed, &st) != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         free(pending);
         free(run);
+        if (lock >= 0)
+            close(lock);
         return cli_exit_code(st.code);
     }
     if (!c->quiet && done > 0)
@@ -132,9 +136,13 @@ int sweep_pool(const sweep_ctl *c)
         stopped = 1;
     free(pending);
     free(run);
-    if (launch_error)
+    if (launch_error) {
+        close(lock);
         return cli_exit_code(st.code);
-    if (tg_sweep_collect(sw, &st) != TG_OK) {
+    }
+    tg_code crc = tg_sweep_collect(sw, &st);
+    close(lock);
+    if (crc != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         return cli_exit_code(st.code);
     }

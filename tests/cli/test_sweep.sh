@@ -202,6 +202,12 @@ for _ in $(seq 1 600); do
     fi
     sleep 0.1
 done
+tg sweep long.ini --jobs 1 --out "$T/long"
+if [ "$rc" -eq 3 ] && grep -q 'another twingyre sweep is working in' "$T/err"; then
+    ok "a second pool in the same folder is refused while the first runs (exit 3)"
+else
+    notok "a second pool in the same folder is refused while the first runs (exit 3)" "$(err_tail)"
+fi
 kill -INT "$pid"
 wait "$pid"
 rc=$?
