@@ -556,6 +556,8 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
         if (out_dir) {
             if (strlen(out_dir) >= sizeof sw->directory)
                 rc = tg_fail(st, TG_ERR_USAGE, "--out: the path is too long");
+            else if (out_dir[0] == '\0')
+                rc = tg_fail(st, TG_ERR_USAGE, "--out: the folder name is empty");
             snprintf(sw->directory, sizeof sw->directory, "%s", out_dir);
         } else if (c->directory[0]) {
             /* Like [output] directory of a config: relative to the current folder. */
