@@ -64,8 +64,9 @@ int cmd_fit(int argc, char **argv);
 int cmd_vet(int argc, char **argv);
 int cmd_sweep(int argc, char **argv);
 
-/* Exit status of `vet` when the battery ran and a check failed (README,
- * "Exit codes"); not a library code. */
+/* Exit status of a command that ran to its end but judged something failed:
+ * a `vet` check, or some `sweep` members (README, "Exit codes"); not a
+ * library code. */
 #define CLI_EXIT_CHECK_FAILED 9
 
 /* Exit status of a library code (README, "Exit codes"). */

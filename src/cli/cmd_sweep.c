@@ -1,12 +1,274 @@
-/* cmd_sweep.c - `twingyre sweep` (being written; see the issue list). */
+/* cmd_sweep.c - `twingyre sweep SWEEP [--jobs N] [--threads T] [--out DIR]
+ * [--quiet] [--member K | --collect | --slurm-script FILE | --mpi]`:
+ * argument parsing and the choice of what to do; the work is in the
+ * library (sweep.h) and in sweep_pool.c, sweep_mpi.c, sweep_child.c. */
+#define _POSIX_C_SOURCE 200809L
+#define _XOPEN_SOURCE 700 /* realpath */
+#include <limits.h>
+#include <signal.h>
 #include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+#ifdef _OPENMP
+#include <omp.h>
+#endif
 
 #include "cli.h"
+#include "sweep_cli.h"
+
+static volatile sig_atomic_t g_stop = 0;
+
+static void on_signal(int sig)
+{
+    (void)sig;
+    g_stop = 1;
+}
+
+/* Log sink that passes each distinct line once: checking every member's
+ * config would otherwise repeat the base config's warnings per member. */
+typedef struct {
+    int n;
+    unsigned long hash[256];
+} seen_lines;
+
+static void log_once(tg_log_level level, const char *line, void *user)
+{
+    seen_lines *s = user;
+    unsigned long h = 5381;
+    for (const char *p = line; *p; p++)
+        h = h * 33 + (unsigned char)*p;
+    for (int i = 0; i < s->n; i++)
+        if (s->hash[i] == h)
+            return;
+    if (s->n < 256)
+        s->hash[s->n++] = h;
+    cli_log_to_stderr(level, line, NULL);
+}
+
+typedef struct {
+    const char *sweep, *out, *slurm;
+    int jobs, threads, member, collect, mpi, quiet;
+} sweep_args;
+
+static int whole(const char *opt, const char *v, int lo, int hi, int *out)
+{
+    char *end;
+    long x = strtol(v, &end, 10);
+    if (*v == '\0' || *end != '\0' || x < lo || x > hi) {
+        fprintf(stderr, "twingyre: %s needs a whole number from %d to %d, got '%s'\n", opt, lo, hi,
+                v);
+        return 0;
+    }
+    *out = (int)x;
+    return 1;
+}
+
+static int parse(int argc, char **argv, sweep_args *a)
+{
+    memset(a, 0, sizeof *a);
+    a->jobs = 1;
+    a->threads = 1;
+    a->member = -1;
+    for (int i = 2; i < argc; i++) {
+        const char *s = argv[i];
+        if (s[0] != '-' || s[1] == '\0') {
+            if (a->sweep) {
+                fprintf(stderr, "twingyre: unexpected argument '%s' (the sweep file is '%s')\n", s,
+                        a->sweep);
+                return 0;
+            }
+            a->sweep = s;
+            continue;
+        }
+        char name[64];
+        const char *eq = strchr(s, '=');
+        size_t nl = eq ? (size_t)(eq - s) : strlen(s);
+        snprintf(name, sizeof name, "%.*s", (int)(nl < 63 ? nl : 63), s);
+        const int takes = !strcmp(name, "--jobs") || !strcmp(name, "--threads") ||
+                          !strcmp(name, "--member") || !strcmp(name, "--out") ||
+                          !strcmp(name, "--slurm-script");
+        const int flag = !strcmp(name, "--collect") || !strcmp(name, "--mpi") ||
+                         !strcmp(name, "--quiet");
+        if (!takes && !flag) {
+            fprintf(stderr, "twingyre: unknown option '%s' of sweep (see --help)\n", s);
+            return 0;
+        }
+        const char *v = NULL;
+        if (takes) {
+            if (eq)
+                v = eq + 1;
+            else if (i + 1 < argc)
+                v = argv[++i];
+            else {
+                fprintf(stderr, "twingyre: option %s needs a value\n", name);
+                return 0;
+            }
+        } else if (eq) {
+            fprintf(stderr, "twingyre: option %s takes no value\n", name);
+            return 0;
+        }
+        if (!strcmp(name, "--jobs") && !whole("--jobs", v, 1, 1024, &a->jobs))
+            return 0;
+        if (!strcmp(name, "--threads") && !whole("--threads", v, 1, 1024, &a->threads))
+            return 0;
+        if (!strcmp(name, "--member") && !whole("--member", v, 0, TG_SWEEP_MAX_MEMBERS, &a->member))
+            return 0;
+        if (!strcmp(name, "--out"))
+            a->out = v;
+        if (!strcmp(name, "--slurm-script"))
+            a->slurm = v;
+        if (!strcmp(name, "--collect"))
+            a->collect = 1;
+        if (!strcmp(name, "--mpi"))
+            a->mpi = 1;
+        if (!strcmp(name, "--quiet"))
+            a->quiet = 1;
+    }
+    if (!a->sweep) {
+        fprintf(stderr, "twingyre: no sweep file given (see --help)\n");
+        return 0;
+    }
+    if ((a->member >= 0) + a->collect + (a->slurm != NULL) + a->mpi > 1) {
+        fprintf(stderr, "twingyre: --member, --collect, --slurm-script and --mpi exclude each "
+                        "other\n");
+        return 0;
+    }
+    return 1;
+}
+
+/* The executable children and batch scripts should call: this one, or the
+ * libtool wrapper beside .libs/ in an uninstalled build (the bare binary
+ * there finds its library only through the wrapper's environment). */
+static void own_program(char *buf, size_t n)
+{
+    char real[PATH_MAX];
+    if (!realpath("/proc/self/exe", real)) {
+        snprintf(buf, n, "/proc/self/exe");
+        return;
+    }
+    snprintf(buf, n, "%s", real);
+    char *slash = strrchr(real, '/');
+    if (!slash || slash - real < 6 || strncmp(slash - 6, "/.libs", 6) != 0)
+        return;
+    const char *base = slash + 1;
+    if (!strncmp(base, "lt-", 3))
+        base += 3;
+    char wrapper[PATH_MAX + 16];
+    snprintf(wrapper, sizeof wrapper, "%.*s/%s", (int)(slash - 6 - real), real, base);
+    if (strlen(wrapper) < n && access(wrapper, X_OK) == 0)
+        memcpy(buf, wrapper, strlen(wrapper) + 1);
+}
+
+static int under_mpirun(void)
+{
+    return getenv("OMPI_COMM_WORLD_SIZE") != NULL || getenv("PMI_SIZE") != NULL ||
+           getenv("PMIX_RANK") != NULL;
+}
+
+static int slurm_script(tg_sweep *sw, const sweep_args *a)
+{
+    tg_status st;
+    tg_status_clear(&st);
+    char program[PATH_MAX], sweep_abs[PATH_MAX], cwd[PATH_MAX];
+    own_program(program, sizeof program);
+    if (!realpath(a->sweep, sweep_abs) || !getcwd(cwd, sizeof cwd)) {
+        fprintf(stderr, "twingyre: cannot resolve the path of %s\n", a->sweep);
+        return cli_exit_code(TG_ERR_IO);
+    }
+    if (sw->directory[0] != '/') {
+        char abs[TG_PATH_LEN];
+        if (snprintf(abs, sizeof abs, "%s/%s", cwd, sw->directory) >= (int)sizeof abs) {
+            fprintf(stderr, "twingyre: the output folder path is too long\n");
+            return cli_exit_code(TG_ERR_USAGE);
+        }
+        strcpy(sw->directory, abs);
+    }
+    if (tg_sweep_write_slurm(sw, a->slurm, program, sweep_abs, &st) != TG_OK) {
+        fprintf(stderr, "twingyre: %s\n", st.msg);
+        return cli_exit_code(st.code);
+    }
+    if (!a->quiet)
+        fprintf(stderr, "twingyre: wrote %s (job array of %d members), %s.collect and %s.submit; "
+                        "submit with: bash %s.submit\n",
+                a->slurm, sw->nmembers, a->slurm, a->slurm, a->slurm);
+    return 0;
+}
 
 int cmd_sweep(int argc, char **argv)
 {
-    (void)argc;
-    (void)argv;
-    fprintf(stderr, "twingyre: sweep is not available in this build yet\n");
-    return 1;
+    seen_lines seen = {0};
+    tg_set_log(log_once, &seen);
+    sweep_args a;
+    if (!parse(argc, argv, &a))
+        return cli_exit_code(TG_ERR_USAGE);
+#ifndef TG_WITH_MPI
+    if (a.mpi) {
+        fprintf(stderr, "twingyre: --mpi: this twingyre was built without MPI; rebuild with "
+                        "./configure --with-mpi (Debian packages libopenmpi-dev and "
+                        "openmpi-bin)\n");
+        return cli_exit_code(TG_ERR_USAGE);
+    }
+#endif
+    cli_progress quiet_flag;
+    cli_progress_init(&quiet_flag, a.quiet); /* the log sink's quiet flag */
+    tg_status st;
+    tg_status_clear(&st);
+    tg_sweep *sw = NULL;
+    if (tg_sweep_load(a.sweep, a.out, &sw, &st) != TG_OK) {
+        fprintf(stderr, "twingyre: %s\n", st.msg);
+        return cli_exit_code(st.code);
+    }
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = on_signal;
+    sigemptyset(&sa.sa_mask);
+    sigaction(SIGINT, &sa, NULL);
+    sigaction(SIGTERM, &sa, NULL);
+
+    int rc = 0;
+    if (a.slurm) {
+        rc = slurm_script(sw, &a);
+    } else if (a.collect) {
+        if (tg_sweep_collect(sw, &st) != TG_OK) {
+            fprintf(stderr, "twingyre: %s\n", st.msg);
+            rc = cli_exit_code(st.code);
+        } else if (!a.quiet) {
+            fprintf(stderr, "twingyre: wrote %s/sweep.csv and %s/sweep.json (%d members)\n",
+                    sw->directory, sw->directory, sw->nmembers);
+        }
+    } else if (a.member >= 0) {
+#ifdef _OPENMP
+        omp_set_num_threads(a.threads);
+#endif
+        char *cmdline = cli_command_line(argc, argv);
+        tg_sweep_member_options mo = {.threads = a.threads, .command_line = cmdline,
+                                      .stop_requested = &g_stop};
+        int skipped = 0;
+        tg_code mrc = tg_sweep_run_member(sw, a.member, &mo, &skipped, &st);
+        free(cmdline);
+        if (mrc != TG_OK) {
+            fprintf(stderr, "twingyre: member %d: %s: %s\n", a.member, tg_code_name(mrc), st.msg);
+            rc = cli_exit_code(mrc);
+        } else if (!a.quiet) {
+            fprintf(stderr, "twingyre: member %d (%s) %s\n", a.member, sw->name[a.member],
+                    skipped ? "was already done" : "done");
+        }
+    } else {
+        char program[PATH_MAX];
+        own_program(program, sizeof program);
+        sweep_ctl c = {.sw = sw, .program = program, .sweep_path = a.sweep, .jobs = a.jobs,
+                       .threads = a.threads, .quiet = a.quiet, .stop = &g_stop};
+#ifdef TG_WITH_MPI
+        if (a.mpi || under_mpirun())
+            rc = sweep_mpi(&c, &argc, &argv);
+        else
+            rc = sweep_pool(&c);
+#else
+        (void)under_mpirun;
+        rc = sweep_pool(&c);
+#endif
+    }
+    tg_sweep_free(sw);
+    return rc;
 }

@@ -30,6 +30,8 @@ static void usage(FILE *f)
             "                   online over step factors and coefficient multipliers, finer\n"
             "                   grid); verdict table on stdout and DIR/vet.json; exit 9 when a\n"
             "                   check fails\n"
+            "  sweep SWEEP      run the members of a sweep file (base config, keys to vary)\n"
+            "                   and merge their summaries into DIR/sweep.csv, DIR/sweep.json\n"
             "\n"
             "options of run, describe, twin and vet:\n"
             "  --set SECTION.KEY=VALUE  override one config key (repeatable)\n"
@@ -55,12 +57,24 @@ static void usage(FILE *f)
             "  --dump-design FILE.nc    also write the training design matrix and target\n"
             "  --overwrite, --quiet, --threads N  as above\n"
             "\n"
+            "options of sweep:\n"
+            "  --jobs N                 members run at the same time on this machine (default 1)\n"
+            "  --threads T              OpenMP threads of each member (default 1)\n"
+            "  --out DIR                output folder (overrides [sweep] directory)\n"
+            "  --member K               run member K only (what a cluster task calls)\n"
+            "  --collect                write DIR/sweep.csv and DIR/sweep.json again\n"
+            "  --slurm-script FILE      write FILE (job array), FILE.collect, FILE.submit\n"
+            "  --mpi                    hand members to MPI ranks (automatic under mpirun;\n"
+            "                           needs a build with ./configure --with-mpi)\n"
+            "  --quiet                  no progress line\n"
+            "\n"
             "  --help                   this text\n"
             "  --version                program version\n"
             "\n"
             "Exit status: 0 done, 1 usage, 2 config, 3 input/output, 4 numerical library,\n"
             "5 unstable run (NaN/Inf or CFL), 6 stopped by a signal, 7 out of memory,\n"
-            "8 internal error, 9 vet: a check failed. The README has the config reference.\n",
+            "8 internal error, 9 a vet check or some sweep members failed. The README has\n"
+            "the config reference and the sweep file reference.\n",
             PACKAGE_VERSION);
 }
 

@@ -1,0 +1,155 @@
+/* sweep_pool.c - the local pool of `twingyre sweep` (sweep_cli.h): keeps up
+ * to --jobs members running as child processes, each with --threads
+ * threads, starts the next one when one ends, and collects at the end.
+ * A stop request (SIGINT/SIGTERM) is passed on to the running members,
+ * which write their checkpoint and record themselves as stopped; nothing
+ * new starts, and a later run of the same sweep starts them again.
+ * DIR/sweep.lock keeps a second pool out of the same folder. */
+#define _POSIX_C_SOURCE 200809L
+#include <errno.h>
+#include <signal.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/wait.h>
+#include <time.h>
+#include <unistd.h>
+
+#include "cli.h"
+#include "sweep_cli.h"
+
+static double now_s(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return ts.tv_sec + 1e-9 * ts.tv_nsec;
+}
+
+typedef struct {
+    pid_t pid;
+    int member;
+    double t0;
+} slot;
+
+int sweep_pool(const sweep_ctl *c)
+{
+    const tg_sweep *sw = c->sw;
+    tg_status st;
+    tg_status_clear(&st);
+    int *pending = malloc((size_t)sw->nmembers * sizeof *pending);
+    slot *run = calloc((size_t)c->jobs, sizeof *run);
+    if (!pending || !run) {
+        free(pending);
+        free(run);
+        fprintf(stderr, "twingyre: out of memory starting the sweep\n");
+        return cli_exit_code(TG_ERR_NOMEM);
+    }
+    int npending, done, failed;
+    int lock = sweep_lock(c, &st);
+    if (lock < 0 || sweep_plan(c, pending, &npending, &done, &failed, &st) != TG_OK) {
+        fprintf(stderr, "twingyre: %s\n", st.msg);
+        free(pending);
+        free(run);
+        if (lock >= 0)
+            close(lock);
+        return cli_exit_code(st.code);
+    }
+    if (!c->quiet && done > 0)
+        fprintf(stderr, "twingyre: sweep: skipping %d member%s already done\n", done,
+                done == 1 ? "" : "s");
+    sweep_progress pr;
+    sweep_progress_init(&pr, c->quiet, sw->nmembers);
+    pr.done = done;
+    pr.failed = failed;
+    pr.left = npending;
+    int next = 0, nrun = 0, stopped = 0, forwarded = 0, launch_error = 0;
+    sweep_progress_show(&pr, 1);
+    while (nrun > 0 || (next < npending && !*c->stop && !launch_error)) {
+        if (*c->stop && !forwarded) {
+            for (int j = 0; j < c->jobs; j++)
+                if (run[j].pid > 0)
+                    kill(run[j].pid, SIGINT);
+            forwarded = 1;
+        }
+        for (int j = 0; j < c->jobs && next < npending && !*c->stop && !launch_error; j++) {
+            if (run[j].pid > 0)
+                continue;
+            int k = pending[next];
+            pid_t pid = sweep_launch(c, k, &st);
+            if (pid < 0) {
+                fprintf(stderr, "twingyre: %s\n", st.msg);
+                launch_error = 1;
+                break;
+            }
+            next++;
+            run[j] = (slot){pid, k, now_s()};
+            nrun++;
+            pr.running++;
+            pr.left--;
+            sweep_progress_show(&pr, 1);
+        }
+        int ws;
+        pid_t p = waitpid(-1, &ws, WNOHANG);
+        if (p < 0 && errno != EINTR && errno != ECHILD) {
+            fprintf(stderr, "twingyre: waitpid: %s\n", strerror(errno));
+            break;
+        }
+        if (p <= 0) {
+            struct timespec nap = {0, 100000000L};
+            nanosleep(&nap, NULL);
+            sweep_progress_show(&pr, 0);
+            continue;
+        }
+        for (int j = 0; j < c->jobs; j++) {
+            if (run[j].pid != p)
+                continue;
+            tg_code code = sweep_reap(c, run[j].member, ws);
+            pr.running--;
+            nrun--;
+            if (code == TG_OK) {
+                pr.done++;
+                pr.busy_s += now_s() - run[j].t0;
+                pr.finished_here++;
+            } else if (code == TG_ERR_INTERRUPTED) {
+                stopped = 1;
+                pr.left++;
+            } else {
+                pr.failed++;
+                pr.busy_s += now_s() - run[j].t0;
+                pr.finished_here++;
+                if (!c->quiet) {
+                    tg_member_status ms;
+                    tg_status rst;
+                    if (tg_sweep_read_status(sw, run[j].member, &ms, &rst) == TG_OK) {
+                        sweep_progress_end(&pr);
+                        fprintf(stderr, "twingyre: member %d (%s) failed with status %d: %s\n",
+                                run[j].member, sw->name[run[j].member], (int)code, ms.message);
+                    }
+                }
+            }
+            run[j].pid = 0;
+            sweep_progress_show(&pr, 1);
+        }
+    }
+    sweep_progress_end(&pr);
+    if (*c->stop)
+        stopped = 1;
+    free(pending);
+    free(run);
+    if (launch_error) {
+        close(lock);
+        return cli_exit_code(st.code);
+    }
+    tg_code crc = tg_sweep_collect(sw, &st);
+    close(lock);
+    if (crc != TG_OK) {
+        fprintf(stderr, "twingyre: %s\n", st.msg);
+        return cli_exit_code(st.code);
+    }
+    if (!c->quiet)
+        fprintf(stderr, "twingyre: sweep: %d done, %d failed%s; table in %s/sweep.csv and "
+                        "sweep.json\n",
+                pr.done, pr.failed, stopped ? ", stopped (run the sweep again to resume)" : "",
+                sw->directory);
+    return sweep_exit_status(c, pr.failed, stopped);
+}

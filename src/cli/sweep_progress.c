@@ -1,0 +1,83 @@
+/* sweep_progress.c - the one progress line of a whole sweep (sweep_cli.h):
+ * members done, running, failed and left, time elapsed and an estimate of
+ * the time left (mean run time of the members finished so far, shared
+ * among the slots in use). On a terminal the line is rewritten in place;
+ * otherwise a plain line is printed whenever a count changes. */
+#define _POSIX_C_SOURCE 200809L
+#include <stdio.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
+#include "cli.h"
+#include "sweep_cli.h"
+
+static double now_s(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return ts.tv_sec + 1e-9 * ts.tv_nsec;
+}
+
+static void fmt_time(double s, char *buf, size_t n)
+{
+    if (!(s >= 0) || s > 1e8)
+        snprintf(buf, n, "?");
+    else if (s < 120)
+        snprintf(buf, n, "%.0f s", s);
+    else if (s < 7200)
+        snprintf(buf, n, "%.1f min", s / 60);
+    else
+        snprintf(buf, n, "%.1f h", s / 3600);
+}
+
+void sweep_progress_init(sweep_progress *p, int quiet, int total)
+{
+    memset(p, 0, sizeof *p);
+    p->quiet = quiet;
+    p->tty = isatty(STDERR_FILENO);
+    p->total = total;
+    p->t0 = now_s();
+}
+
+void sweep_progress_show(sweep_progress *p, int force)
+{
+    if (p->quiet)
+        return;
+    const double t = now_s();
+    if (p->tty && !force && t - p->t_last < 0.5)
+        return;
+    char el[32], lf[32], counts[160], line[256];
+    fmt_time(t - p->t0, el, sizeof el);
+    double left = -1;
+    const int slots = p->running > 0 ? p->running : 1;
+    if (p->finished_here > 0)
+        left = p->busy_s / p->finished_here * (p->left + p->running) / slots;
+    else if (p->left + p->running == 0)
+        left = 0;
+    fmt_time(left, lf, sizeof lf);
+    snprintf(counts, sizeof counts, "%d of %d done, %d running, %d failed, %d left", p->done,
+             p->total, p->running, p->failed, p->left);
+    if (p->tty) {
+        p->t_last = t;
+        snprintf(line, sizeof line, "sweep: %s, %s elapsed, %s left", counts, el, lf);
+        fprintf(stderr, "\r\033[K%s", line);
+        p->open = 1;
+        cli_set_line_open(1);
+    } else {
+        if (!force && !strcmp(counts, p->last))
+            return;
+        fprintf(stderr, "twingyre: sweep: %s, %s elapsed, %s left\n", counts, el, lf);
+    }
+    snprintf(p->last, sizeof p->last, "%s", counts);
+    fflush(stderr);
+}
+
+void sweep_progress_end(sweep_progress *p)
+{
+    if (p->open) {
+        fputc('\n', stderr);
+        p->open = 0;
+        cli_set_line_open(0);
+    }
+}
