@@ -22,99 +22,25 @@
 
 set -u
 
-here=$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)
-TWINGYRE=${TWINGYRE:-/tmp/twingyre}
-TG_SRCDIR=${TG_SRCDIR:-$(cd "$here/../.." && pwd)}
-PYTHON=${PYTHON:-/usr/bin/python3}
+. "$(dirname "${BASH_SOURCE[0]}")/testlib.sh"
 CFG=$TG_SRCDIR/tests/cli/configs
 BAD=$TG_SRCDIR/tests/cli/bad
 
-export OMP_NUM_THREADS=1
-export OMP_WAIT_POLICY=${OMP_WAIT_POLICY:-passive}
-
-npass=0
-nfail=0
-ok() { npass=$((npass + 1)); echo "ok - $1"; }
-notok() {
-    nfail=$((nfail + 1))
-    echo "FAIL - $1"
-    shift
-    local l
-    for l in "$@"; do
-        printf '%s\n' "$l" | sed 's/^/#   /'
-    done
-}
-finish() {
-    echo "$npass passed, $nfail failed"
-    [ "$nfail" -eq 0 ]
-    exit $?
-}
-
-scratch_parent=${TG_TEST_TMPDIR:-${TMPDIR:-/tmp}}
-T=$(mktemp -d "$scratch_parent/twingyre-cli.XXXXXX") || {
-    notok "create a scratch directory in $scratch_parent"
-    finish
-}
+# Background runs still alive at exit are killed (signal tests).
 bg_pids=()
-cleanup() {
+kill_bg() {
     local p
     for p in "${bg_pids[@]}"; do
         kill -9 "$p" 2>/dev/null
     done
-    rm -rf "$T"
 }
-trap cleanup EXIT
-trap 'exit 130' INT TERM
-cd "$T" || exit 1
-
-if [ ! -x "$TWINGYRE" ]; then
-    notok "the program $TWINGYRE exists and is executable"
-    finish
-fi
+tg_cleanup_hooks+=(kill_bg)
+tg_scratch cli
+tg_need_program
 
 # ---------------------------------------------------------------- helpers
-
-# tg ARGS...: runs the program; sets rc, stdout in $T/out, stderr in $T/err.
-tg() {
-    "$TWINGYRE" "$@" >"$T/out" 2>"$T/err"
-    rc=$?
-}
-
-# The last lines of the last run's stderr, for failure details.
-err_tail() { echo "exit status $rc; stderr:"; tail -n 5 "$T/err"; }
-
-has() { grep -qF -- "$1" "$2"; }
-
-# ini_get FILE SECTION KEY: a value written in a config file.
-ini_get() {
-    awk -v sec="[$2]" -v key="$3" '
-        /^\[/ { cur = $0; next }
-        cur == sec {
-            split($0, kv, "=")
-            k = kv[1]; gsub(/[ \t]/, "", k)
-            if (k == key) { v = substr($0, index($0, "=") + 1); gsub(/^[ \t]+|[ \t]+$/, "", v); print v }
-        }' "$1"
-}
-
-# calc EXPR: floating-point arithmetic.
-calc() { awk "BEGIN { printf \"%.17g\n\", $1 }"; }
-
-# close_to GOT WANT RELTOL
-close_to() {
-    awk -v g="$1" -v w="$2" -v t="$3" 'BEGIN {
-        if (g == "" || w == "") exit 1
-        d = g - w; if (d < 0) d = -d; a = w < 0 ? -w : w
-        exit !(d <= t * a) }'
-}
-
-# dir_state DIR: names and checksums of every file in DIR (or "absent").
-dir_state() {
-    if [ -e "$1" ]; then
-        (cd "$1" && find . -type f | LC_ALL=C sort | xargs -r md5sum)
-    else
-        echo absent
-    fi
-}
+# tg, has, ini_get, calc, close_to and dir_state come from testlib.sh.
+err_tail_lines=5
 
 # wait_for PID SECONDS COMMAND...: polls COMMAND every 0.1 s until it
 # succeeds; returns 1 when the process ends first or the time is up.

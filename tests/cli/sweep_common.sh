@@ -2,9 +2,9 @@
 # sweep_common.sh - shared set-up of the sweep tests (test_sweep.sh,
 # test_sweep_mpi.sh, test_sweep_slurm.sh); sourced, not run.
 #
-# Defines ok/notok/finish (TAP-like lines, last line "N passed, M failed"),
-# makes the scratch folder $T under $TG_TEST_TMPDIR (removed at exit
-# unless TG_KEEP_TMP=1), and writes there:
+# Sources testlib.sh (ok/notok/finish/skip, tg, err_tail, ...), makes the
+# scratch folder $T under $TG_TEST_TMPDIR (removed at exit unless
+# TG_KEEP_TMP=1; more clean-up goes in tg_cleanup_hooks), and writes there:
 #   base.ini   a tiny invented basin (Sellmoor, 33 x 33 points, 20 days):
 #              about a tenth of a second per run
 #   grid.ini   the 2 x 2 sweep every test runs: viscosity 400, 800 crossed
@@ -14,62 +14,9 @@
 #
 # Part of twingyre. GPL-3.0-or-later.
 
-here=$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)
-TWINGYRE=${TWINGYRE:-/tmp/twingyre}
-TG_SRCDIR=${TG_SRCDIR:-$(cd "$here/../.." && pwd)}
-PYTHON=${PYTHON:-/usr/bin/python3}
-export OMP_NUM_THREADS=1
-export OMP_WAIT_POLICY=${OMP_WAIT_POLICY:-passive}
-
-npass=0
-nfail=0
-ok() { npass=$((npass + 1)); echo "ok - $1"; }
-notok() {
-    nfail=$((nfail + 1))
-    echo "FAIL - $1"
-    shift
-    local l
-    for l in "$@"; do
-        printf '%s\n' "$l" | sed 's/^/#   /'
-    done
-}
-finish() {
-    echo "$npass passed, $nfail failed"
-    [ "$nfail" -eq 0 ]
-    exit $?
-}
-skip() {
-    echo "SKIP - $1"
-    exit 77
-}
-
-scratch_parent=${TG_TEST_TMPDIR:-${TMPDIR:-/tmp}}
-mkdir -p "$scratch_parent"
-T=$(mktemp -d "$scratch_parent/twingyre-sweep.XXXXXX") || {
-    notok "create a scratch directory in $scratch_parent"
-    finish
-}
-sweep_cleanup_hooks=()
-sweep_cleanup() {
-    local h
-    for h in "${sweep_cleanup_hooks[@]}"; do
-        "$h"
-    done
-    [ "${TG_KEEP_TMP:-0}" = 1 ] || rm -rf "$T"
-}
-trap sweep_cleanup EXIT
-trap 'exit 130' INT TERM
-cd "$T" || exit 1
-if [ ! -x "$TWINGYRE" ]; then
-    notok "the program $TWINGYRE exists and is executable"
-    finish
-fi
-
-tg() {
-    "$TWINGYRE" "$@" >"$T/out" 2>"$T/err"
-    rc=$?
-}
-err_tail() { echo "exit status $rc; stderr:"; tail -n 8 "$T/err"; }
+. "$(dirname "${BASH_SOURCE[0]}")/testlib.sh"
+tg_scratch sweep
+tg_need_program
 
 cat >base.ini <<'EOF'
 ; The Sellmoor basin: an invented 1000 km double-gyre basin at 33 x 33

@@ -16,14 +16,9 @@
 #
 # Part of twingyre. GPL-3.0-or-later.
 set -u
-here=$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)
-TWINGYRE=${TWINGYRE:-/tmp/twingyre}
-TG_SRCDIR=${TG_SRCDIR:-$(cd "$here/../.." && pwd)}
-PYTHON=${PYTHON:-/usr/bin/python3}
-export OMP_NUM_THREADS=${OMP_NUM_THREADS:-1} OMP_WAIT_POLICY=${OMP_WAIT_POLICY:-passive}
-scratch_parent=${TG_TEST_TMPDIR:-${TMPDIR:-/tmp}}
-T=$(mktemp -d "$scratch_parent/twingyre-closure-budget.XXXXXX") || { echo "0 passed, 1 failed"; exit 1; }
-trap 'rm -rf "$T"' EXIT
+tg_omp_from_env=1
+. "$(dirname "${BASH_SOURCE[0]}")/testlib.sh"
+tg_scratch closure-budget
 
 cat >"$T/c.ini" <<'INI'
 [grid]
@@ -48,10 +43,8 @@ use = smagorinsky, backscatter, stochastic_additive, thickness_diffusion
 noise_amplitude_per_s2 = 1e-12
 INI
 if ! "$TWINGYRE" run "$T/c.ini" --out "$T/out" --quiet >"$T/log" 2>&1; then
-    echo "FAIL - the composite-closure run completes"
-    sed 's/^/#   /' "$T/log" | tail -n 5
-    echo "0 passed, 1 failed"
-    exit 1
+    notok "the composite-closure run completes" "$(tail -n 5 "$T/log")"
+    finish
 fi
 "$PYTHON" - "$T/out/budget.nc" <<'PY'
 import sys

@@ -16,15 +16,9 @@
 #
 # Part of twingyre. GPL-3.0-or-later.
 set -u
-here=$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)
-TWINGYRE=${TWINGYRE:-/tmp/twingyre}
-TG_SRCDIR=${TG_SRCDIR:-$(cd "$here/../.." && pwd)}
-PYTHON=${PYTHON:-/usr/bin/python3}
-export OMP_NUM_THREADS=1 OMP_WAIT_POLICY=passive
-scratch_parent=${TG_TEST_TMPDIR:-${TMPDIR:-/tmp}}
-T=$(mktemp -d "$scratch_parent/twingyre-closures-long.XXXXXX") || { echo "0 passed, 1 failed"; exit 1; }
-trap 'rm -rf "$T"' EXIT
-npass=0 nfail=0
+. "$(dirname "${BASH_SOURCE[0]}")/testlib.sh"
+export OMP_WAIT_POLICY=passive
+tg_scratch closures-long
 
 CFG=$TG_SRCDIR/configs/gyre-129.ini
 COMMON=(--set time.step_s=10800 --set time.duration_days=730 --set output.snapshot_every_days=365
@@ -41,9 +35,8 @@ while IFS= read -r name; do
 done < <("$TWINGYRE" closures | sed -n 's/^\([a-z_0-9]*\)\( .*\)\{0,1\}$/\1/p' | grep -v '^$')
 
 if [ "${#runs[@]}" -lt 1 ]; then
-    echo "FAIL - twingyre closures listed no scheme"
-    echo "0 passed, 1 failed"
-    exit 1
+    notok "twingyre closures listed no scheme"
+    finish
 fi
 
 start_run() {
@@ -105,5 +98,4 @@ while [ $i -lt ${#runs[@]} ]; do
     check_run "${a%%|*}"
     i=$((i + 2))
 done
-echo "$npass passed, $nfail failed"
-[ "$nfail" -eq 0 ]
+finish

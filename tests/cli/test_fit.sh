@@ -23,55 +23,9 @@
 
 set -u
 
-here=$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)
-TWINGYRE=${TWINGYRE:-/tmp/twingyre}
-TG_SRCDIR=${TG_SRCDIR:-$(cd "$here/../.." && pwd)}
-PYTHON=${PYTHON:-/usr/bin/python3}
-export OMP_NUM_THREADS=1
-export OMP_WAIT_POLICY=${OMP_WAIT_POLICY:-passive}
-
-npass=0
-nfail=0
-ok() { npass=$((npass + 1)); echo "ok - $1"; }
-notok() {
-    nfail=$((nfail + 1))
-    echo "FAIL - $1"
-    shift
-    local l
-    for l in "$@"; do
-        printf '%s\n' "$l" | sed 's/^/#   /'
-    done
-}
-finish() {
-    echo "$npass passed, $nfail failed"
-    [ "$nfail" -eq 0 ]
-    exit $?
-}
-
-scratch_parent=${TG_TEST_TMPDIR:-${TMPDIR:-/tmp}}
-T=$(mktemp -d "$scratch_parent/twingyre-fit.XXXXXX") || {
-    notok "create a scratch directory in $scratch_parent"
-    finish
-}
-trap 'rm -rf "$T"' EXIT
-trap 'exit 130' INT TERM
-cd "$T" || exit 1
-if [ ! -x "$TWINGYRE" ]; then
-    notok "the program $TWINGYRE exists and is executable"
-    finish
-fi
-
-tg() {
-    "$TWINGYRE" "$@" >"$T/out" 2>"$T/err"
-    rc=$?
-}
-err_tail() { echo "exit status $rc; stderr:"; tail -n 8 "$T/err"; }
-has() { grep -qF -- "$1" "$2"; }
-check() { # check NAME CONDITION-STATUS [details...]
-    local name=$1 st=$2
-    shift 2
-    if [ "$st" -eq 0 ]; then ok "$name"; else notok "$name" "$@"; fi
-}
+. "$(dirname "${BASH_SOURCE[0]}")/testlib.sh"
+tg_scratch fit
+tg_need_program
 
 # ---------------------------------------------------------------- the twin
 # A 1000 km invented basin (the Skerrow Basin's small cousin); the coarse

@@ -52,7 +52,7 @@ stop_daemons() {
     done
     pids=()
 }
-sweep_cleanup_hooks+=(stop_daemons)
+tg_cleanup_hooks+=(stop_daemons)
 
 # ---------------------------------------------------------------- munge
 dd if=/dev/urandom of="$S/munge/munge.key" bs=1024 count=1 2>/dev/null

@@ -24,31 +24,11 @@
 
 set -u
 
-here=$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)
-TWINGYRE=${TWINGYRE:-/tmp/twingyre}
-TG_SRCDIR=${TG_SRCDIR:-$(cd "$here/../.." && pwd)}
-PYTHON=${PYTHON:-/usr/bin/python3}
+tg_omp_from_env=1
+. "$(dirname "${BASH_SOURCE[0]}")/../cli/testlib.sh"
 CHECKER=$TG_SRCDIR/tests/crosscheck/check_fields_xarray.py
-
-export OMP_NUM_THREADS=${OMP_NUM_THREADS:-1}
-export OMP_WAIT_POLICY=${OMP_WAIT_POLICY:-passive}
-
-scratch_parent=${TG_TEST_TMPDIR:-${TMPDIR:-/tmp}}
-T=$(mktemp -d "$scratch_parent/twingyre-crosscheck.XXXXXX") || {
-    echo "FAIL - create a scratch directory in $scratch_parent"
-    echo "0 passed, 1 failed"
-    exit 1
-}
-trap 'rm -rf "$T"' EXIT
-cd "$T" || exit 1
-
-for f in "$TWINGYRE" "$CHECKER"; do
-    if [ ! -e "$f" ]; then
-        echo "FAIL - $f exists"
-        echo "0 passed, 1 failed"
-        exit 1
-    fi
-done
+tg_scratch crosscheck
+tg_need_program "$CHECKER"
 
 cat >"$T/tiny.ini" <<'EOF'
 ; tiny.ini - two days of a 33 x 33 two-layer basin, for the xarray cross-check.

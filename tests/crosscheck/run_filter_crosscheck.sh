@@ -11,17 +11,12 @@
 #
 # Part of twingyre. GPL-3.0-or-later.
 set -u
-here=$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)
-TG_SRCDIR=${TG_SRCDIR:-$(cd "$here/../.." && pwd)}
-TG_BUILDDIR=${TG_BUILDDIR:-$TG_SRCDIR}
-PYTHON=${PYTHON:-/usr/bin/python3}
-scratch_parent=${TG_TEST_TMPDIR:-${TMPDIR:-/tmp}}
-T=$(mktemp -d "$scratch_parent/twingyre-filtercheck.XXXXXX") || { echo "0 passed, 1 failed"; exit 1; }
-trap 'rm -rf "$T"' EXIT
+tg_omp_from_env=1
+. "$(dirname "${BASH_SOURCE[0]}")/../cli/testlib.sh"
+tg_scratch filtercheck
 if ! TG_TEST_TMPDIR=$T CK_RUN_CASE=crosscheck "$TG_BUILDDIR/tests/unit/test_coarsen" >"$T/c.log" 2>&1; then
     cat "$T/c.log"
-    echo "FAIL - tests/unit/test_coarsen could not write the cross-check data"
-    echo "0 passed, 1 failed"
-    exit 1
+    notok "tests/unit/test_coarsen could not write the cross-check data"
+    finish
 fi
 TG_TEST_TMPDIR=$T "$PYTHON" "$TG_SRCDIR/tests/crosscheck/check_filter_scipy.py" "$T/twingyre-filter-crosscheck.txt"

@@ -13,14 +13,8 @@
 #
 # Part of twingyre. GPL-3.0-or-later.
 set -u
-here=$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)
-TWINGYRE=${TWINGYRE:-/tmp/twingyre}
-TG_SRCDIR=${TG_SRCDIR:-$(cd "$here/../.." && pwd)}
-PYTHON=${PYTHON:-/usr/bin/python3}
-export OMP_NUM_THREADS=1
-scratch_parent=${TG_TEST_TMPDIR:-${TMPDIR:-/tmp}}
-T=$(mktemp -d "$scratch_parent/twingyre-fitcheck.XXXXXX") || { echo "0 passed, 1 failed"; exit 1; }
-trap 'rm -rf "$T"' EXIT
+. "$(dirname "${BASH_SOURCE[0]}")/../cli/testlib.sh"
+tg_scratch fitcheck
 cat >"$T/twin.ini" <<'EOF'
 [grid]
 geometry = basin
@@ -58,13 +52,10 @@ time.step_s = 7200
 EOF
 if ! "$TWINGYRE" twin "$T/twin.ini" --out "$T/tw" --quiet >"$T/log" 2>&1; then
     cat "$T/log"
-    echo "FAIL - the tiny twin for the cross-check"
-    echo "0 passed, 1 failed"
-    exit 1
+    notok "the tiny twin for the cross-check"
+    finish
 fi
 terms=zeta,lap_zeta,lap2_zeta,jac_psi_lapzeta,div_gradu_gradzeta,div_absgradzeta_gradzeta
-npass=0
-nfail=0
 run_case() { # NAME MODE fit-options...
     local name=$1 mode=$2
     shift 2
@@ -83,5 +74,4 @@ run_case() { # NAME MODE fit-options...
 run_case separate separate --terms "$terms"
 run_case shared shared --terms "$terms" --layers shared
 run_case library separate
-echo "$npass passed, $nfail failed"
-[ "$nfail" -eq 0 ]
+finish
