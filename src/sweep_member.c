@@ -9,6 +9,7 @@
  * loses nothing. A ';' after a blank would start an inline comment, so the
  * writer drops blanks before ';'. */
 #include "sweep.h"
+#include "clock.h"
 #include "run.h"
 #include "strbuf.h"
 #include "twin.h"
@@ -55,13 +56,6 @@ static void utc_now(char *buf, size_t n)
     struct tm tm;
     gmtime_r(&t, &tm);
     strftime(buf, n, "%Y-%m-%dT%H:%M:%SZ", &tm);
-}
-
-static double mono_s(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return ts.tv_sec + 1e-9 * ts.tv_nsec;
 }
 
 /* ---------------------------------------------------------------- reading */
@@ -279,7 +273,7 @@ tg_code tg_sweep_run_member(const tg_sweep *sw, int k, const tg_sweep_member_opt
     strcpy(ms.status, "running");
     if ((rc = write_status(sw, k, &ms, st)) != TG_OK)
         return rc;
-    const double t0 = mono_s();
+    const double t0 = tg_clock_s();
 
     tg_config *cfg = malloc(sizeof *cfg);
     if (!cfg)
@@ -309,7 +303,7 @@ tg_code tg_sweep_run_member(const tg_sweep *sw, int k, const tg_sweep_member_opt
     ms.exit_status = (int)rc;
     snprintf(ms.message, sizeof ms.message, "%s", rc == TG_OK ? "" : st->msg);
     utc_now(ms.end, sizeof ms.end);
-    ms.seconds = mono_s() - t0;
+    ms.seconds = tg_clock_s() - t0;
     tg_code wrc = write_status(sw, k, &ms, &wst);
     if (wrc != TG_OK && rc == TG_OK) {
         *st = wst;

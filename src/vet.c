@@ -17,9 +17,9 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
-#include <time.h>
 #include <unistd.h>
 
+#include "clock.h"
 #include "closure_host.h"
 #include "constants.h"
 #include "fdops.h"
@@ -43,13 +43,6 @@ typedef struct {
     double *psi_ref_out;      /* output layout, for the finer grid */
     int nout;
 } vet_ctx;
-
-static double now_s(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return ts.tv_sec + 1e-9 * ts.tv_nsec;
-}
 
 static void progress_fault(vet_ctx *c, long step, long nsteps, double day, double last_day,
                            const char *fault)
@@ -875,7 +868,7 @@ tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_repor
     tg_code rc = tg_vet_validate(cfg, opt, st);
     if (rc != TG_OK)
         return rc;
-    const double t0 = now_s();
+    const double t0 = tg_clock_s();
     tg_vet_report *r = calloc(1, sizeof *r);
     vet_ctx c = {.cfg = cfg, .opt = opt, .r = r};
     tg_model *m = NULL;
@@ -973,7 +966,7 @@ tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_repor
     for (int i = 0; i < r->nchecks; i++)
         if (r->checks[i].verdict == TG_VET_FAIL)
             r->passed = 0;
-    r->seconds = now_s() - t0;
+    r->seconds = tg_clock_s() - t0;
     rc = write_json(r, cfg, opt ? opt->command_line : NULL, st);
 
 done:

@@ -5,6 +5,7 @@
 #ifndef TG_CLI_H
 #define TG_CLI_H
 
+#include <signal.h>
 #include <stdio.h>
 
 #include "../config.h"
@@ -34,6 +35,15 @@ tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st);
 
 /* Joins argv into one string (for the files' attributes); malloc'ed. */
 char *cli_command_line(int argc, char **argv);
+
+/* Makes SIGINT and SIGTERM set the returned flag (for the library's
+ * stop_requested fields) instead of ending the program; a failed sigaction
+ * is logged as a warning. Call once per command, after tg_set_log. */
+volatile sig_atomic_t *cli_catch_stop_signals(void);
+
+/* Writes a duration for a progress line: "12 s", "3.5 min", "2.1 h", or "?"
+ * when s is negative, not a number or above `longest` seconds. */
+void cli_format_duration(double s, double longest, char *buf, size_t n);
 
 /* Log sink writing "twingyre: ..." lines to stderr, aware of the progress line. */
 void cli_log_to_stderr(tg_log_level level, const char *line, void *user);

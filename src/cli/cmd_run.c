@@ -11,14 +11,6 @@
 #include "../run.h"
 #include "cli.h"
 
-static volatile sig_atomic_t g_stop = 0;
-
-static void on_signal(int sig)
-{
-    (void)sig;
-    g_stop = 1;
-}
-
 int cmd_run(int argc, char **argv)
 {
     tg_status st;
@@ -35,17 +27,12 @@ int cmd_run(int argc, char **argv)
     if (o.threads > 0)
         omp_set_num_threads(o.threads);
 #endif
-    struct sigaction sa;
-    memset(&sa, 0, sizeof sa);
-    sa.sa_handler = on_signal;
-    sigemptyset(&sa.sa_mask);
-    sigaction(SIGINT, &sa, NULL);
-    sigaction(SIGTERM, &sa, NULL);
+    volatile sig_atomic_t *stop = cli_catch_stop_signals();
 
     cli_progress prog;
     cli_progress_init(&prog, o.quiet);
     char *cmdline = cli_command_line(argc, argv);
-    tg_run_options ro = {.command_line = cmdline, .stop_requested = &g_stop,
+    tg_run_options ro = {.command_line = cmdline, .stop_requested = stop,
                          .overwrite = o.overwrite, .progress = cli_progress_cb,
                          .progress_user = &prog};
     tg_code rc = tg_run(&cfg, &ro, &st);

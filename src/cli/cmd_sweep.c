@@ -17,14 +17,6 @@
 #include "cli.h"
 #include "sweep_cli.h"
 
-static volatile sig_atomic_t g_stop = 0;
-
-static void on_signal(int sig)
-{
-    (void)sig;
-    g_stop = 1;
-}
-
 /* Log sink that passes each distinct line once: checking every member's
  * config would otherwise repeat the base config's warnings per member. */
 typedef struct {
@@ -219,12 +211,7 @@ int cmd_sweep(int argc, char **argv)
         fprintf(stderr, "twingyre: %s\n", st.msg);
         return cli_exit_code(st.code);
     }
-    struct sigaction sa;
-    memset(&sa, 0, sizeof sa);
-    sa.sa_handler = on_signal;
-    sigemptyset(&sa.sa_mask);
-    sigaction(SIGINT, &sa, NULL);
-    sigaction(SIGTERM, &sa, NULL);
+    volatile sig_atomic_t *stop = cli_catch_stop_signals();
 
     int rc = 0;
     if (a.slurm) {
@@ -243,7 +230,7 @@ int cmd_sweep(int argc, char **argv)
 #endif
         char *cmdline = cli_command_line(argc, argv);
         tg_sweep_member_options mo = {.threads = a.threads, .command_line = cmdline,
-                                      .stop_requested = &g_stop};
+                                      .stop_requested = stop};
         int skipped = 0;
         tg_code mrc = tg_sweep_run_member(sw, a.member, &mo, &skipped, &st);
         free(cmdline);
@@ -258,7 +245,7 @@ int cmd_sweep(int argc, char **argv)
         char program[PATH_MAX];
         own_program(program, sizeof program);
         sweep_ctl c = {.sw = sw, .program = program, .sweep_path = a.sweep, .jobs = a.jobs,
-                       .threads = a.threads, .quiet = a.quiet, .stop = &g_stop};
+                       .threads = a.threads, .quiet = a.quiet, .stop = stop};
 #ifdef TG_WITH_MPI
         if (a.mpi || under_mpirun())
             rc = sweep_mpi(&c, &argc, &argv);

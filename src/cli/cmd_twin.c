@@ -7,41 +7,14 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <time.h>
 #include <unistd.h>
 #ifdef _OPENMP
 #include <omp.h>
 #endif
 
 #include "../twin.h"
+#include "../clock.h"
 #include "cli.h"
-
-static volatile sig_atomic_t g_stop = 0;
-
-static void on_signal(int sig)
-{
-    (void)sig;
-    g_stop = 1;
-}
-
-static double now_s(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return ts.tv_sec + 1e-9 * ts.tv_nsec;
-}
-
-static void fmt_time(double s, char *buf, size_t n)
-{
-    if (!(s >= 0) || s > 1e7)
-        snprintf(buf, n, "?");
-    else if (s < 120)
-        snprintf(buf, n, "%.0f s", s);
-    else if (s < 7200)
-        snprintf(buf, n, "%.1f min", s / 60);
-    else
-        snprintf(buf, n, "%.1f h", s / 3600);
-}
 
 /* One line per phase: updated in place on a terminal, otherwise printed at
  * each quarter of the phase. */
@@ -66,7 +39,7 @@ static void show(const tg_twin_progress *tp, void *user)
     if (d->quiet)
         return;
     const tg_progress *p = &tp->p;
-    double t = now_s();
+    double t = tg_clock_s();
     if (tp->index != d->index) {
         end_line(d);
         d->index = tp->index;
@@ -80,7 +53,7 @@ static void show(const tg_twin_progress *tp, void *user)
     const double left = rate > 0 ? (p->step_last - p->step) / rate : -1;
     const int last = p->step >= p->step_last;
     char lb[32];
-    fmt_time(last ? t - d->t0 : left, lb, sizeof lb);
+    cli_format_duration(last ? t - d->t0 : left, 1e7, lb, sizeof lb);
     if (d->tty) {
         if (t - d->t_last < 0.2 && !last)
             return;
@@ -144,17 +117,12 @@ int cmd_twin(int argc, char **argv)
     if (o.threads > 0)
         omp_set_num_threads(o.threads);
 #endif
-    struct sigaction sa;
-    memset(&sa, 0, sizeof sa);
-    sa.sa_handler = on_signal;
-    sigemptyset(&sa.sa_mask);
-    sigaction(SIGINT, &sa, NULL);
-    sigaction(SIGTERM, &sa, NULL);
+    volatile sig_atomic_t *stop = cli_catch_stop_signals();
 
     twin_display disp = {.quiet = o.quiet, .tty = isatty(STDERR_FILENO)};
     char *cmdline = cli_command_line(argc, argv);
     tg_twin_options to = {.command_line = cmdline, .origin = o.config_path,
-                          .stop_requested = &g_stop, .overwrite = o.overwrite,
+                          .stop_requested = stop, .overwrite = o.overwrite,
                           .progress = show, .progress_user = &disp};
     char *table = NULL;
     rc = tg_twin_run(cfg, &to, &table, &st);

@@ -8,29 +8,14 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <time.h>
 #include <unistd.h>
 #ifdef _OPENMP
 #include <omp.h>
 #endif
 
 #include "../vet.h"
+#include "../clock.h"
 #include "cli.h"
-
-static volatile sig_atomic_t g_stop = 0;
-
-static void on_signal(int sig)
-{
-    (void)sig;
-    g_stop = 1;
-}
-
-static double now_s(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return ts.tv_sec + 1e-9 * ts.tv_nsec;
-}
 
 typedef struct {
     int quiet, tty;
@@ -53,7 +38,7 @@ static void show(const tg_vet_progress *p, void *user)
     vet_display *d = user;
     if (d->quiet)
         return;
-    const double t = now_s();
+    const double t = tg_clock_s();
     if (p->index != d->index) {
         end_line(d);
         d->index = p->index;
@@ -111,17 +96,12 @@ int cmd_vet(int argc, char **argv)
     if (o.threads > 0)
         omp_set_num_threads(o.threads);
 #endif
-    struct sigaction sa;
-    memset(&sa, 0, sizeof sa);
-    sa.sa_handler = on_signal;
-    sigemptyset(&sa.sa_mask);
-    sigaction(SIGINT, &sa, NULL);
-    sigaction(SIGTERM, &sa, NULL);
+    volatile sig_atomic_t *stop = cli_catch_stop_signals();
 
     char *cmdline = cli_command_line(argc, argv);
     vet_display d = {.quiet = o.quiet, .tty = isatty(STDERR_FILENO)};
     tg_vet_options opt = {.origin = o.config_path, .command_line = cmdline,
-                          .stop_requested = &g_stop, .overwrite = o.overwrite,
+                          .stop_requested = stop, .overwrite = o.overwrite,
                           .progress = show, .progress_user = &d};
     tg_vet_report *rep = NULL;
     rc = tg_vet_run(cfg, &opt, &rep, &st);

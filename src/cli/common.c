@@ -1,4 +1,12 @@
-/* common.c - option parsing and config loading shared by the commands. */
+/* common.c - what the commands share: option parsing, config loading, the
+ * stop request (SIGINT/SIGTERM) and the format of durations.
+ *
+ * The stop flag is the one piece of state here: a signal handler can only
+ * reach a static object. */
+#define _POSIX_C_SOURCE 200809L
+#include <errno.h>
+#include <signal.h>
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -120,4 +128,39 @@ char *cli_command_line(int argc, char **argv)
 int cli_exit_code(tg_code code)
 {
     return (int)code; /* the codes are the exit statuses; README lists them */
+}
+
+static volatile sig_atomic_t g_stop = 0;
+
+static void on_stop_signal(int sig)
+{
+    (void)sig;
+    g_stop = 1;
+}
+
+volatile sig_atomic_t *cli_catch_stop_signals(void)
+{
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_handler = on_stop_signal;
+    sigemptyset(&sa.sa_mask);
+    const int sigs[2] = {SIGINT, SIGTERM};
+    for (int i = 0; i < 2; i++)
+        if (sigaction(sigs[i], &sa, NULL) != 0)
+            tg_log(TG_LOG_WARN, "cannot catch %s (sigaction: %s); it will end the program "
+                   "without a checkpoint", sigs[i] == SIGINT ? "SIGINT" : "SIGTERM",
+                   strerror(errno));
+    return &g_stop;
+}
+
+void cli_format_duration(double s, double longest, char *buf, size_t n)
+{
+    if (!(s >= 0) || s > longest)
+        snprintf(buf, n, "?");
+    else if (s < 120)
+        snprintf(buf, n, "%.0f s", s);
+    else if (s < 7200)
+        snprintf(buf, n, "%.1f min", s / 60);
+    else
+        snprintf(buf, n, "%.1f h", s / 3600);
 }

@@ -6,20 +6,13 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <time.h>
 #include <unistd.h>
 
+#include "../clock.h"
 #include "cli.h"
 
 static int g_line_open = 0; /* a progress line is on stderr without a newline */
 static int g_quiet = 0;
-
-static double now_s(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return ts.tv_sec + 1e-9 * ts.tv_nsec;
-}
 
 void cli_log_to_stderr(tg_log_level level, const char *line, void *user)
 {
@@ -49,21 +42,9 @@ void cli_progress_init(cli_progress *p, int quiet)
     p->quiet = quiet;
     g_quiet = quiet;
     p->tty = isatty(STDERR_FILENO);
-    p->t_start = p->t_last = now_s();
+    p->t_start = p->t_last = tg_clock_s();
     p->step_start = -1;
     p->last_decile = -1;
-}
-
-static void fmt_time(double s, char *buf, size_t n)
-{
-    if (!(s >= 0) || s > 1e7)
-        snprintf(buf, n, "?");
-    else if (s < 120)
-        snprintf(buf, n, "%.0f s", s);
-    else if (s < 7200)
-        snprintf(buf, n, "%.1f min", s / 60);
-    else
-        snprintf(buf, n, "%.1f h", s / 3600);
 }
 
 void cli_progress_cb(const tg_progress *pr, void *user)
@@ -73,13 +54,13 @@ void cli_progress_cb(const tg_progress *pr, void *user)
         return;
     if (p->step_start < 0)
         p->step_start = pr->step_first; /* timing started at init, before step one */
-    double t = now_s();
+    double t = tg_clock_s();
     long done = pr->step - p->step_start, total = pr->step_last - p->step_start;
     double frac = total > 0 ? (double)done / total : 1.0;
     double rate = (t - p->t_start) > 0 ? done / (t - p->t_start) : 0.0;
     double left = rate > 0 ? (pr->step_last - pr->step) / rate : -1;
     char lb[32];
-    fmt_time(left, lb, sizeof lb);
+    cli_format_duration(left, 1e7, lb, sizeof lb);
     if (p->tty) {
         if (t - p->t_last < 0.2 && pr->step != pr->step_last)
             return;

@@ -15,15 +15,9 @@
 #include <time.h>
 #include <unistd.h>
 
+#include "../clock.h"
 #include "cli.h"
 #include "sweep_cli.h"
-
-static double now_s(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return ts.tv_sec + 1e-9 * ts.tv_nsec;
-}
 
 typedef struct {
     pid_t pid;
@@ -82,7 +76,7 @@ int sweep_pool(const sweep_ctl *c)
                 break;
             }
             next++;
-            run[j] = (slot){pid, k, now_s()};
+            run[j] = (slot){pid, k, tg_clock_s()};
             nrun++;
             pr.running++;
             pr.left--;
@@ -108,14 +102,14 @@ int sweep_pool(const sweep_ctl *c)
             nrun--;
             if (code == TG_OK) {
                 pr.done++;
-                pr.busy_s += now_s() - run[j].t0;
+                pr.busy_s += tg_clock_s() - run[j].t0;
                 pr.finished_here++;
             } else if (code == TG_ERR_INTERRUPTED) {
                 stopped = 1;
                 pr.left++;
             } else {
                 pr.failed++;
-                pr.busy_s += now_s() - run[j].t0;
+                pr.busy_s += tg_clock_s() - run[j].t0;
                 pr.finished_here++;
                 if (!c->quiet) {
                     tg_member_status ms;

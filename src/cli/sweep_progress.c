@@ -6,30 +6,11 @@
 #define _POSIX_C_SOURCE 200809L
 #include <stdio.h>
 #include <string.h>
-#include <time.h>
 #include <unistd.h>
 
+#include "../clock.h"
 #include "cli.h"
 #include "sweep_cli.h"
-
-static double now_s(void)
-{
-    struct timespec ts;
-    clock_gettime(CLOCK_MONOTONIC, &ts);
-    return ts.tv_sec + 1e-9 * ts.tv_nsec;
-}
-
-static void fmt_time(double s, char *buf, size_t n)
-{
-    if (!(s >= 0) || s > 1e8)
-        snprintf(buf, n, "?");
-    else if (s < 120)
-        snprintf(buf, n, "%.0f s", s);
-    else if (s < 7200)
-        snprintf(buf, n, "%.1f min", s / 60);
-    else
-        snprintf(buf, n, "%.1f h", s / 3600);
-}
 
 void sweep_progress_init(sweep_progress *p, int quiet, int total)
 {
@@ -37,25 +18,25 @@ void sweep_progress_init(sweep_progress *p, int quiet, int total)
     p->quiet = quiet;
     p->tty = isatty(STDERR_FILENO);
     p->total = total;
-    p->t0 = now_s();
+    p->t0 = tg_clock_s();
 }
 
 void sweep_progress_show(sweep_progress *p, int force)
 {
     if (p->quiet)
         return;
-    const double t = now_s();
+    const double t = tg_clock_s();
     if (p->tty && !force && t - p->t_last < 0.5)
         return;
     char el[32], lf[32], counts[160], line[256];
-    fmt_time(t - p->t0, el, sizeof el);
+    cli_format_duration(t - p->t0, 1e8, el, sizeof el);
     double left = -1;
     const int slots = p->running > 0 ? p->running : 1;
     if (p->finished_here > 0)
         left = p->busy_s / p->finished_here * (p->left + p->running) / slots;
     else if (p->left + p->running == 0)
         left = 0;
-    fmt_time(left, lf, sizeof lf);
+    cli_format_duration(left, 1e8, lf, sizeof lf);
     snprintf(counts, sizeof counts, "%d of %d done, %d running, %d failed, %d left", p->done,
              p->total, p->running, p->failed, p->left);
     if (p->tty) {
