@@ -25,6 +25,7 @@
 #include "closure_tools.h"
 #include "fdops.h"
 #include "geometry.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -536,9 +537,5 @@ static Suite *suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed ? 1 : 0;
+    return tg_unit_run(suite());
 }

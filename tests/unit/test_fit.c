@@ -42,6 +42,7 @@
 #include "rng.h"
 #include "twin.h"
 #include "twin_io.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <lapacke.h>
@@ -596,9 +597,5 @@ static Suite *suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed ? 1 : 0;
+    return tg_unit_run(suite());
 }

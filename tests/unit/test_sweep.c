@@ -20,6 +20,7 @@
 
 #include "status.h"
 #include "sweep.h"
+#include "unit_util.h"
 
 static char g_dir[256];
 
@@ -258,10 +259,7 @@ int main(void)
         perror("mkdtemp");
         return 1;
     }
-    SRunner *sr = srunner_create(sweep_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
+    const int failed = tg_unit_run(sweep_suite());
     char cmd[512];
     snprintf(cmd, sizeof cmd, "rm -rf '%s'", g_dir);
     if (system(cmd) != 0)

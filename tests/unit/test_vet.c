@@ -36,6 +36,7 @@
 #include "constants.h"
 #include "model.h"
 #include "vet.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -235,9 +236,5 @@ static Suite *suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed ? 1 : 0;
+    return tg_unit_run(suite());
 }
