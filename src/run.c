@@ -3,6 +3,7 @@
  * including the kinetic-energy spectrum written with each snapshot. */
 #define _POSIX_C_SOURCE 200809L
 #include "run.h"
+#include "textfile.h"
 
 #include <errno.h>
 #include <math.h>
@@ -23,30 +24,6 @@
 #ifndef PACKAGE_VERSION
 #define PACKAGE_VERSION "unknown"
 #endif
-
-/* mkdir -p */
-static tg_code make_dirs(const char *path, tg_status *st)
-{
-    char buf[TG_PATH_LEN];
-    if (snprintf(buf, sizeof buf, "%s", path) >= (int)sizeof buf)
-        return tg_fail(st, TG_ERR_IO, "output directory path too long: %s", path);
-    for (char *p = buf + 1;; p++) {
-        char c = *p;
-        if (c == '/' || c == '\0') {
-            *p = '\0';
-            if (mkdir(buf, 0777) != 0 && errno != EEXIST)
-                return tg_fail(st, TG_ERR_IO, "cannot create directory %s: %s", buf,
-                               strerror(errno));
-            *p = c;
-        }
-        if (c == '\0')
-            break;
-    }
-    struct stat sb;
-    if (stat(path, &sb) != 0 || !S_ISDIR(sb.st_mode))
-        return tg_fail(st, TG_ERR_IO, "%s exists and is not a directory", path);
-    return TG_OK;
-}
 
 static long steps_for(double days, double dt)
 {
@@ -273,7 +250,7 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
         goto done;
 
     /* Output files: only now, after every input has been checked. */
-    if ((rc = make_dirs(dir, st)) != TG_OK)
+    if ((rc = tg_make_dirs(dir, st)) != TG_OK)
         goto done;
     c.grid = (tg_nc_grid){.nx = m->nout, .ny = m->nout, .nlayers = m->nl,
                           .x = tg_model_out_coord(m), .y = tg_model_out_coord(m),

@@ -21,6 +21,7 @@
 #include "ncio_util.h"
 #include "strbuf.h"
 #include "sweep.h"
+#include "textfile.h"
 
 #include <netcdf.h>
 
@@ -255,50 +256,6 @@ static void csv_text(FILE *f, const char *s)
     fputc('"', f);
 }
 
-static void json_text(FILE *f, const char *s)
-{
-    fputc('"', f);
-    for (; *s; s++) {
-        unsigned char ch = (unsigned char)*s;
-        if (ch == '"' || ch == '\\')
-            fprintf(f, "\\%c", ch);
-        else if (ch < 0x20)
-            fprintf(f, "\\u%04x", ch);
-        else
-            fputc(ch, f);
-    }
-    fputc('"', f);
-}
-
-static void json_num(FILE *f, double v)
-{
-    if (isfinite(v))
-        fprintf(f, "%.10g", v);
-    else
-        fputs("null", f);
-}
-
-static FILE *open_tmp(const char *path, char *tmp, size_t n, tg_status *st)
-{
-    snprintf(tmp, n, "%s.tmp", path);
-    FILE *f = fopen(tmp, "w");
-    if (!f)
-        tg_fail(st, TG_ERR_IO, "cannot write %s: %s", tmp, strerror(errno));
-    return f;
-}
-
-static tg_code close_tmp(FILE *f, const char *tmp, const char *path, tg_status *st)
-{
-    int bad = ferror(f);
-    if (fclose(f) != 0 || bad) {
-        remove(tmp);
-        return tg_fail(st, TG_ERR_IO, "cannot write %s", tmp);
-    }
-    if (rename(tmp, path) != 0)
-        return tg_fail(st, TG_ERR_IO, "cannot rename %s to %s: %s", tmp, path, strerror(errno));
-    return TG_OK;
-}
-
 /* A skill value as JSON: a number when it reads as one, null when empty. */
 static void json_cell(FILE *f, const char *v)
 {
@@ -311,7 +268,7 @@ static void json_cell(FILE *f, const char *v)
     if (*end == '\0')
         fputs(v, f);
     else
-        json_text(f, v);
+        tg_json_string(f, v);
 }
 
 tg_code tg_sweep_collect(const tg_sweep *sw, tg_status *st)
@@ -358,7 +315,7 @@ tg_code tg_sweep_collect(const tg_sweep *sw, tg_status *st)
     FILE *f = NULL;
     if (rc == TG_OK) {
         snprintf(path, sizeof path, "%s/sweep.csv", sw->directory);
-        f = open_tmp(path, tmp, sizeof tmp, st);
+        f = tg_tmp_open(path, tmp, sizeof tmp, st);
         if (!f)
             rc = st->code;
     }
@@ -400,60 +357,60 @@ tg_code tg_sweep_collect(const tg_sweep *sw, tg_status *st)
             }
             fputc('\n', f);
         }
-        rc = close_tmp(f, tmp, path, st);
+        rc = tg_tmp_commit(f, tmp, path, st);
     }
 
     /* sweep.json */
     if (rc == TG_OK) {
         snprintf(path, sizeof path, "%s/sweep.json", sw->directory);
-        f = open_tmp(path, tmp, sizeof tmp, st);
+        f = tg_tmp_open(path, tmp, sizeof tmp, st);
         if (!f)
             rc = st->code;
     }
     if (rc == TG_OK) {
         fputs("{\n  \"sweep\": ", f);
-        json_text(f, sw->path);
+        tg_json_string(f, sw->path);
         fputs(",\n  \"base\": ", f);
-        json_text(f, sw->base);
+        tg_json_string(f, sw->base);
         fprintf(f, ",\n  \"kind\": \"%s\",\n  \"combine\": \"%s\",\n  \"varied\": [",
                 sw->kind == TG_SWEEP_TWIN ? "twin" : "run",
                 sw->combine == TG_SWEEP_ZIP ? "zip" : "product");
         for (int a = 0; a < sw->naxes; a++) {
             fputs(a ? ", " : "", f);
-            json_text(f, sw->axis[a].key);
+            tg_json_string(f, sw->axis[a].key);
         }
         fputs("],\n  \"members\": [\n", f);
         for (int k = 0; k < M; k++) {
             fprintf(f, "    {\"index\": %d, \"name\": ", k);
-            json_text(f, sw->name[k]);
+            tg_json_string(f, sw->name[k]);
             fputs(", \"values\": {", f);
             for (int a = 0; a < sw->naxes; a++) {
                 fputs(a ? ", " : "", f);
-                json_text(f, sw->axis[a].key);
+                tg_json_string(f, sw->axis[a].key);
                 fputs(": ", f);
-                json_text(f, sw->axis[a].value[tg_sweep_choice(sw, k, a)]);
+                tg_json_string(f, sw->axis[a].value[tg_sweep_choice(sw, k, a)]);
             }
             fputs("},\n     \"status\": ", f);
-            json_text(f, ms[k].present ? ms[k].status : "not_run");
+            tg_json_string(f, ms[k].present ? ms[k].status : "not_run");
             fputs(", \"exit_status\": ", f);
             if (ms[k].present && strcmp(ms[k].status, "running") != 0)
                 fprintf(f, "%d", ms[k].exit_status);
             else
                 fputs("null", f);
             fputs(", \"message\": ", f);
-            json_text(f, ms[k].message);
+            tg_json_string(f, ms[k].message);
             fputs(",\n     \"host\": ", f);
-            json_text(f, ms[k].host);
+            tg_json_string(f, ms[k].host);
             fprintf(f, ", \"threads\": %d, \"start\": ", ms[k].threads);
-            json_text(f, ms[k].start);
+            tg_json_string(f, ms[k].start);
             fputs(", \"end\": ", f);
-            json_text(f, ms[k].end);
+            tg_json_string(f, ms[k].end);
             fputs(", \"seconds\": ", f);
-            json_num(f, ms[k].present ? ms[k].seconds : NAN);
+            tg_json_number(f, ms[k].present ? ms[k].seconds : NAN);
             fputs(",\n     ", f);
             for (int i = 0; i < NFIG; i++) {
                 fprintf(f, "%s\"%s\": ", i ? ", " : "", fig_names[i]);
-                json_num(f, fig[k][i]);
+                tg_json_number(f, fig[k][i]);
             }
             if (sw->kind == TG_SWEEP_TWIN) {
                 fputs(",\n     \"skill\": {", f);
@@ -463,7 +420,7 @@ tg_code tg_sweep_collect(const tg_sweep *sw, tg_status *st)
                         continue;
                     fputs(first ? "" : ", ", f);
                     first = 0;
-                    json_text(f, xt.col[c]);
+                    tg_json_string(f, xt.col[c]);
                     fputs(": ", f);
                     json_cell(f, xt.val[k][c]);
                 }
@@ -472,7 +429,7 @@ tg_code tg_sweep_collect(const tg_sweep *sw, tg_status *st)
             fprintf(f, "}%s\n", k + 1 < M ? "," : "");
         }
         fputs("  ]\n}\n", f);
-        rc = close_tmp(f, tmp, path, st);
+        rc = tg_tmp_commit(f, tmp, path, st);
     }
     extra_free(&xt);
     free(ms);

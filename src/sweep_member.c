@@ -12,6 +12,7 @@
 #include "clock.h"
 #include "run.h"
 #include "strbuf.h"
+#include "textfile.h"
 #include "twin.h"
 
 #include <ini.h>
@@ -24,31 +25,6 @@
 #include <sys/stat.h>
 #include <time.h>
 #include <unistd.h>
-
-/* mkdir -p */
-static tg_code make_dirs(const char *path, tg_status *st)
-{
-    char buf[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 2];
-    if (strlen(path) >= sizeof buf)
-        return tg_fail(st, TG_ERR_IO, "cannot create %s: the path is too long", path);
-    strcpy(buf, path);
-    for (char *p = buf + 1;; p++) {
-        if (*p == '/' || *p == '\0') {
-            char c = *p;
-            *p = '\0';
-            if (mkdir(buf, 0777) != 0 && errno != EEXIST)
-                return tg_fail(st, TG_ERR_IO, "cannot create folder %s: %s", buf, strerror(errno));
-            *p = c;
-            if (c == '\0')
-                break;
-        }
-    }
-    struct stat sb;
-    if (stat(path, &sb) != 0 || !S_ISDIR(sb.st_mode))
-        return tg_fail(st, TG_ERR_IO, "cannot create folder %s: a file of that name is in the way",
-                       path);
-    return TG_OK;
-}
 
 static void utc_now(char *buf, size_t n)
 {
@@ -202,7 +178,7 @@ tg_code tg_sweep_record_failure(const tg_sweep *sw, int k, tg_code code, const c
         return TG_OK;
     char dir[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 2];
     tg_sweep_member_dir(sw, k, dir, sizeof dir);
-    if ((rc = make_dirs(dir, st)) != TG_OK)
+    if ((rc = tg_make_dirs(dir, st)) != TG_OK)
         return rc;
     if (!ms.present) {
         fill_host(&ms);
@@ -217,14 +193,14 @@ tg_code tg_sweep_record_failure(const tg_sweep *sw, int k, tg_code code, const c
 
 tg_code tg_sweep_make_directory(const tg_sweep *sw, tg_status *st)
 {
-    return make_dirs(sw->directory, st);
+    return tg_make_dirs(sw->directory, st);
 }
 
 tg_code tg_sweep_prepare_member(const tg_sweep *sw, int k, tg_status *st)
 {
     char dir[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 2];
     tg_sweep_member_dir(sw, k, dir, sizeof dir);
-    return make_dirs(dir, st);
+    return tg_make_dirs(dir, st);
 }
 
 static tg_code write_config(const char *dir, const tg_config *cfg, tg_status *st)
@@ -264,7 +240,7 @@ tg_code tg_sweep_run_member(const tg_sweep *sw, int k, const tg_sweep_member_opt
     }
     char dir[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 2];
     tg_sweep_member_dir(sw, k, dir, sizeof dir);
-    if ((rc = make_dirs(dir, st)) != TG_OK)
+    if ((rc = tg_make_dirs(dir, st)) != TG_OK)
         return rc;
     memset(&ms, 0, sizeof ms);
     fill_host(&ms);

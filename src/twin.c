@@ -11,6 +11,7 @@
  */
 #define _POSIX_C_SOURCE 200809L
 #include "twin.h"
+#include "textfile.h"
 
 #include <errno.h>
 #include <math.h>
@@ -360,29 +361,6 @@ static char *config_text(const twin_ctx *c)
 /* Files and directories                                               */
 /* ------------------------------------------------------------------ */
 
-static tg_code make_dirs(const char *path, tg_status *st)
-{
-    char buf[TG_PATH_LEN];
-    if (snprintf(buf, sizeof buf, "%s", path) >= (int)sizeof buf)
-        return tg_fail(st, TG_ERR_IO, "directory path too long: %s", path);
-    for (char *p = buf + 1;; p++) {
-        char ch = *p;
-        if (ch == '/' || ch == '\0') {
-            *p = '\0';
-            if (mkdir(buf, 0777) != 0 && errno != EEXIST)
-                return tg_fail(st, TG_ERR_IO, "cannot create directory %s: %s", buf,
-                               strerror(errno));
-            *p = ch;
-        }
-        if (ch == '\0')
-            break;
-    }
-    struct stat sb;
-    if (stat(path, &sb) != 0 || !S_ISDIR(sb.st_mode))
-        return tg_fail(st, TG_ERR_IO, "%s exists and is not a directory", path);
-    return TG_OK;
-}
-
 /* Refuses to replace an earlier twin's outputs without overwrite. */
 static tg_code outputs_free(const twin_ctx *c, tg_status *st)
 {
@@ -710,7 +688,7 @@ static tg_code run_reference(twin_ctx *c, const tg_twin_options *opt, int nphase
     /* Files: subgrid.nc (coarse grid), reference/budget.nc (fine grid). */
     char refdir[TG_PATH_LEN + 16];
     snprintf(refdir, sizeof refdir, "%s/reference", c->dir);
-    if ((rc = make_dirs(refdir, st)) != TG_OK)
+    if ((rc = tg_make_dirs(refdir, st)) != TG_OK)
         goto done;
     r.fine_grid = (tg_nc_grid){.nx = m->nout, .ny = m->nout, .nlayers = m->nl,
                                .x = tg_model_out_coord(m), .y = tg_model_out_coord(m),
@@ -924,7 +902,7 @@ tg_code tg_twin_run(const tg_config *cfg, const tg_twin_options *opt, char **tab
     if (rc == TG_OK && !opt->overwrite)
         rc = outputs_free(c, st);
     if (rc == TG_OK)
-        rc = make_dirs(c->dir, st);
+        rc = tg_make_dirs(c->dir, st);
     const int nphases = 2 + c->nruns;
     if (rc == TG_OK)
         rc = run_reference(c, opt, nphases, st);

@@ -8,6 +8,7 @@
 #define _POSIX_C_SOURCE 200809L
 #include "strbuf.h"
 #include "twin_skill.h"
+#include "textfile.h"
 
 #include <errno.h>
 #include <math.h>
@@ -288,29 +289,6 @@ static tg_code run_pass(sk_ctx *k, tg_skill_run *r, tg_status *st)
 /* ------------------------------------------------------------------ */
 
 
-static void json_num(FILE *f, double v)
-{
-    if (isfinite(v))
-        fprintf(f, "%.10g", v);
-    else
-        fputs("null", f);
-}
-
-static void json_str(FILE *f, const char *s)
-{
-    fputc('"', f);
-    for (; *s; s++) {
-        unsigned char ch = (unsigned char)*s;
-        if (ch == '"' || ch == '\\')
-            fprintf(f, "\\%c", ch);
-        else if (ch < 0x20)
-            fprintf(f, "\\u%04x", ch);
-        else
-            fputc(ch, f);
-    }
-    fputc('"', f);
-}
-
 static void csv_num(FILE *f, double v)
 {
     if (isfinite(v))
@@ -332,26 +310,6 @@ static void cell(tg_strbuf *b, double v, const char *fmt)
         tg_sb_printf(b, "%9s", "-");
 }
 
-/* Writes path atomically enough for our use: to path.tmp, then rename. */
-static FILE *open_out(const char *path, char *tmp, size_t n, tg_status *st)
-{
-    snprintf(tmp, n, "%s.tmp", path);
-    FILE *f = fopen(tmp, "w");
-    if (!f)
-        tg_fail(st, TG_ERR_IO, "cannot write %s: %s", tmp, strerror(errno));
-    return f;
-}
-
-static tg_code close_out(FILE *f, const char *tmp, const char *path, tg_status *st)
-{
-    int bad = ferror(f);
-    if (fclose(f) != 0 || bad)
-        return tg_fail(st, TG_ERR_IO, "cannot write %s", tmp);
-    if (rename(tmp, path) != 0)
-        return tg_fail(st, TG_ERR_IO, "cannot rename %s to %s: %s", tmp, path, strerror(errno));
-    return TG_OK;
-}
-
 static const char *metric_names[] = {"kinetic_energy_ratio", "psi_pattern_correlation",
                                      "psi_normalized_rmse", "eke_pattern_correlation"};
 
@@ -364,7 +322,7 @@ static tg_code write_all(sk_ctx *k, layer_skill *res, char **table, tg_status *s
 
     /* skill.csv: one row per run and layer. */
     snprintf(path, sizeof path, "%s/skill.csv", job->dir);
-    FILE *f = open_out(path, tmp, sizeof tmp, st);
+    FILE *f = tg_tmp_open(path, tmp, sizeof tmp, st);
     if (!f)
         return st->code;
     fprintf(f, "run,directory,closure,member,status,layer");
@@ -395,97 +353,97 @@ static tg_code write_all(sk_ctx *k, layer_skill *res, char **table, tg_status *s
             fputc('\n', f);
         }
     }
-    if ((rc = close_out(f, tmp, path, st)) != TG_OK)
+    if ((rc = tg_tmp_commit(f, tmp, path, st)) != TG_OK)
         return rc;
 
     /* skill.json */
     snprintf(path, sizeof path, "%s/skill.json", job->dir);
-    if (!(f = open_out(path, tmp, sizeof tmp, st)))
+    if (!(f = tg_tmp_open(path, tmp, sizeof tmp, st)))
         return st->code;
     fprintf(f, "{\n  \"format\": \"twingyre twin skill 1\",\n  \"geometry\": ");
-    json_str(f, job->coarse->geometry == TG_GEOM_PERIODIC ? "periodic" : "basin");
+    tg_json_string(f, job->coarse->geometry == TG_GEOM_PERIODIC ? "periodic" : "basin");
     fprintf(f, ",\n  \"layers\": %d,\n  \"reference_points\": %d,\n  \"coarse_points\": %d,\n"
                "  \"coarsening_ratio\": %d,\n  \"filter\": ",
             k->nl, b->twin_reference_points, b->twin_coarse_points, job->ratio);
-    json_str(f, b->twin_filter == TG_TWIN_FILTER_SHARP ? "sharp" : "gaussian");
+    tg_json_string(f, b->twin_filter == TG_TWIN_FILTER_SHARP ? "sharp" : "gaussian");
     fprintf(f, ",\n  \"filter_width_m\": ");
-    json_num(f, job->filter_width_m);
+    tg_json_number(f, job->filter_width_m);
     fprintf(f, ",\n  \"spinup_days\": ");
-    json_num(f, b->twin_spinup_days);
+    tg_json_number(f, b->twin_spinup_days);
     fprintf(f, ",\n  \"analysis_days\": ");
-    json_num(f, b->twin_analysis_days);
+    tg_json_number(f, b->twin_analysis_days);
     fprintf(f, ",\n  \"sample_every_days\": ");
-    json_num(f, b->twin_sample_every_days);
+    tg_json_number(f, b->twin_sample_every_days);
     fprintf(f, ",\n  \"samples\": %d,\n  \"spectrum_bands_rad_per_m\": [", k->nrec);
     for (int band = 0; band < TG_SKILL_BANDS; band++) {
         fprintf(f, "%s[", band ? ", " : "");
-        json_num(f, k->edges[band]);
+        tg_json_number(f, k->edges[band]);
         fputs(", ", f);
-        json_num(f, k->edges[band + 1]);
+        tg_json_number(f, k->edges[band + 1]);
         fputs("]", f);
     }
     fprintf(f, "],\n  \"reference\": {\"kinetic_energy_m2_s2\": [");
     for (int l = 0; l < k->nl; l++) {
         fputs(l ? ", " : "", f);
-        json_num(f, k->ref.ke[l] / (double)k->ref.nt);
+        tg_json_number(f, k->ref.ke[l] / (double)k->ref.nt);
     }
     fprintf(f, "], \"jet_length_km\": [");
     for (int l = 0; l < k->nl; l++) {
         fputs(l ? ", " : "", f);
-        json_num(f, ref_jet_km(k, l));
+        tg_json_number(f, ref_jet_km(k, l));
     }
     fprintf(f, "]},\n  \"closures\": [");
     for (int c = 0; c < job->nclosures; c++) {
         fprintf(f, "%s\n    {\"name\": ", c ? "," : "");
-        json_str(f, job->closure[c].label);
+        tg_json_string(f, job->closure[c].label);
         fprintf(f, ", \"compare_entry\": ");
-        json_str(f, job->closure[c].use);
+        tg_json_string(f, job->closure[c].use);
         fprintf(f, ", \"stochastic\": %s}", job->closure[c].stochastic ? "true" : "false");
     }
     fprintf(f, "\n  ],\n  \"runs\": [");
     for (int r = 0; r < job->nruns; r++) {
         const tg_skill_run *run = &job->run[r];
         fprintf(f, "%s\n    {\"name\": ", r ? "," : "");
-        json_str(f, run->name);
+        tg_json_string(f, run->name);
         fprintf(f, ", \"closure\": ");
-        json_str(f, job->closure[run->closure].label);
+        tg_json_string(f, job->closure[run->closure].label);
         fprintf(f, ", \"member\": %d, \"directory\": ", run->member);
-        json_str(f, run->dir);
+        tg_json_string(f, run->dir);
         fprintf(f, ", \"status\": ");
-        json_str(f, status_word(run->status));
+        tg_json_string(f, status_word(run->status));
         fprintf(f, ", \"message\": ");
-        json_str(f, run->message);
+        tg_json_string(f, run->message);
         fprintf(f, ",\n     \"layers\": [");
         for (int l = 0; l < k->nl; l++) {
             const layer_skill *s = &res[r * k->nl + l];
             fprintf(f, "%s\n       {\"layer\": %d, \"kinetic_energy_ratio\": ", l ? "," : "",
                     l + 1);
-            json_num(f, s->ke_ratio);
+            tg_json_number(f, s->ke_ratio);
             fprintf(f, ", \"psi_pattern_correlation\": ");
-            json_num(f, s->psi_corr);
+            tg_json_number(f, s->psi_corr);
             fprintf(f, ", \"psi_normalized_rmse\": ");
-            json_num(f, s->psi_nrmse);
+            tg_json_number(f, s->psi_nrmse);
             fprintf(f, ", \"eke_pattern_correlation\": ");
-            json_num(f, s->eke_corr);
+            tg_json_number(f, s->eke_corr);
             fprintf(f, ", \"ke_spectrum_ratio\": [");
             for (int band = 0; band < TG_SKILL_BANDS; band++) {
                 fputs(band ? ", " : "", f);
-                json_num(f, s->band[band]);
+                tg_json_number(f, s->band[band]);
             }
             fprintf(f, "], \"jet_length_km\": ");
-            json_num(f, s->jet_km);
+            tg_json_number(f, s->jet_km);
             fprintf(f, ", \"jet_length_ratio\": ");
-            json_num(f, s->jet_ratio);
+            tg_json_number(f, s->jet_ratio);
             fprintf(f, ", \"offline_r2\": ");
-            json_num(f, s->off_r2);
+            tg_json_number(f, s->off_r2);
             fprintf(f, ", \"offline_correlation\": ");
-            json_num(f, s->off_corr);
+            tg_json_number(f, s->off_corr);
             fputs("}", f);
         }
         fprintf(f, "\n     ]}");
     }
     fprintf(f, "\n  ]\n}\n");
-    if ((rc = close_out(f, tmp, path, st)) != TG_OK)
+    if ((rc = tg_tmp_commit(f, tmp, path, st)) != TG_OK)
         return rc;
 
     /* offline.nc: -S_q and each closure's tendency at the last sample. */

@@ -26,6 +26,7 @@
 #include "ncio.h"
 #include "spectrum.h"
 #include "stepper.h"
+#include "textfile.h"
 
 /* Energy samples per online run (the growth check compares them with the
  * run without the closure at the same times). */
@@ -749,29 +750,6 @@ static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
 /* The battery                                                         */
 /* ------------------------------------------------------------------ */
 
-static tg_code make_dirs(const char *path, tg_status *st)
-{
-    char buf[TG_PATH_LEN];
-    if (snprintf(buf, sizeof buf, "%s", path) >= (int)sizeof buf)
-        return tg_fail(st, TG_ERR_IO, "output directory path too long: %s", path);
-    for (char *p = buf + 1;; p++) {
-        char ch = *p;
-        if (ch == '/' || ch == '\0') {
-            *p = '\0';
-            if (mkdir(buf, 0777) != 0 && errno != EEXIST)
-                return tg_fail(st, TG_ERR_IO, "cannot create directory %s: %s", buf,
-                               strerror(errno));
-            *p = ch;
-        }
-        if (ch == '\0')
-            break;
-    }
-    struct stat sb;
-    if (stat(path, &sb) != 0 || !S_ISDIR(sb.st_mode))
-        return tg_fail(st, TG_ERR_IO, "%s exists and is not a directory", path);
-    return TG_OK;
-}
-
 static void json_path(const tg_config *cfg, char *out, size_t n)
 {
     snprintf(out, n, "%s/vet.json", cfg->out_directory);
@@ -822,7 +800,7 @@ static int with_one_sorted(const double *values, int n, double *out)
 static tg_code write_json(const tg_vet_report *r, const tg_config *cfg, const char *cmdline,
                           tg_status *st)
 {
-    tg_code rc = make_dirs(cfg->out_directory, st);
+    tg_code rc = tg_make_dirs(cfg->out_directory, st);
     if (rc != TG_OK)
         return rc;
     tg_strbuf b = {0};
@@ -833,27 +811,15 @@ static tg_code write_json(const tg_vet_report *r, const tg_config *cfg, const ch
     }
     char path[TG_PATH_LEN + 16], tmp[TG_PATH_LEN + 32];
     json_path(cfg, path, sizeof path);
-    snprintf(tmp, sizeof tmp, "%s.tmp", path);
-    FILE *f = fopen(tmp, "w");
+    FILE *f = tg_tmp_open(path, tmp, sizeof tmp, st);
     if (!f) {
-        rc = tg_fail(st, TG_ERR_IO, "cannot write %s: %s", tmp, strerror(errno));
         free(b.s);
-        return rc;
+        return st->code;
     }
-    const size_t len = b.s ? strlen(b.s) : 0;
-    const int bad = fwrite(b.s, 1, len, f) != len;
-    const int bad2 = fclose(f) != 0;
+    if (b.s)
+        fputs(b.s, f); /* a failed write shows in ferror(f), checked by tg_tmp_commit */
     free(b.s);
-    if (bad || bad2) {
-        remove(tmp);
-        return tg_fail(st, TG_ERR_IO, "cannot write %s", tmp);
-    }
-    if (rename(tmp, path) != 0) {
-        rc = tg_fail(st, TG_ERR_IO, "cannot rename %s to %s: %s", tmp, path, strerror(errno));
-        remove(tmp);
-        return rc;
-    }
-    return TG_OK;
+    return tg_tmp_commit(f, tmp, path, st);
 }
 
 void tg_vet_report_free(tg_vet_report *r)

@@ -1,0 +1,88 @@
+/* textfile.c - folders, PATH.tmp-then-rename text files and JSON values
+ * (textfile.h). */
+#define _POSIX_C_SOURCE 200809L
+#include "textfile.h"
+
+#include <errno.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+#include <sys/stat.h>
+
+tg_code tg_make_dirs(const char *path, tg_status *st)
+{
+    char *buf = strdup(path);
+    if (!buf)
+        return tg_fail(st, TG_ERR_NOMEM, "no memory to create directory %s", path);
+    for (char *p = buf + (buf[0] != '\0');; p++) {
+        const char ch = *p;
+        if (ch == '/' || ch == '\0') {
+            *p = '\0';
+            if (mkdir(buf, 0777) != 0 && errno != EEXIST) {
+                tg_code rc = tg_fail(st, TG_ERR_IO, "cannot create directory %s: %s", buf,
+                                     strerror(errno));
+                free(buf);
+                return rc;
+            }
+            *p = ch;
+        }
+        if (ch == '\0')
+            break;
+    }
+    free(buf);
+    struct stat sb;
+    if (stat(path, &sb) != 0 || !S_ISDIR(sb.st_mode))
+        return tg_fail(st, TG_ERR_IO, "%s exists and is not a directory", path);
+    return TG_OK;
+}
+
+FILE *tg_tmp_open(const char *path, char *tmp, size_t n, tg_status *st)
+{
+    if (snprintf(tmp, n, "%s.tmp", path) >= (int)n) {
+        tg_fail(st, TG_ERR_IO, "cannot write %s: the path is too long", path);
+        return NULL;
+    }
+    FILE *f = fopen(tmp, "w");
+    if (!f)
+        tg_fail(st, TG_ERR_IO, "cannot write %s: %s", tmp, strerror(errno));
+    return f;
+}
+
+tg_code tg_tmp_commit(FILE *f, const char *tmp, const char *path, tg_status *st)
+{
+    const int bad = ferror(f);
+    if (fclose(f) != 0 || bad) {
+        remove(tmp);
+        return tg_fail(st, TG_ERR_IO, "cannot write %s", tmp);
+    }
+    if (rename(tmp, path) != 0) {
+        tg_code rc = tg_fail(st, TG_ERR_IO, "cannot rename %s to %s: %s", tmp, path,
+                             strerror(errno));
+        remove(tmp);
+        return rc;
+    }
+    return TG_OK;
+}
+
+void tg_json_number(FILE *f, double v)
+{
+    if (isfinite(v))
+        fprintf(f, "%.10g", v);
+    else
+        fputs("null", f);
+}
+
+void tg_json_string(FILE *f, const char *s)
+{
+    fputc('"', f);
+    for (; *s; s++) {
+        const unsigned char ch = (unsigned char)*s;
+        if (ch == '"' || ch == '\\')
+            fprintf(f, "\\%c", ch);
+        else if (ch < 0x20)
+            fprintf(f, "\\u%04x", ch);
+        else
+            fputc(ch, f);
+    }
+    fputc('"', f);
+}

@@ -1,0 +1,35 @@
+/* textfile.h - the library's small file-system and text-output helpers:
+ * folders made as needed (mkdir -p), text files written under PATH.tmp and
+ * renamed into place only when complete (so an existing file is never left
+ * half-written), and JSON numbers and strings (RFC 8259) for the files
+ * written straight to a FILE (skill.json, sweep.json).
+ *
+ * Part of twingyre. GPL-3.0-or-later.
+ */
+#ifndef TG_TEXTFILE_H
+#define TG_TEXTFILE_H
+
+#include <stddef.h>
+#include <stdio.h>
+
+#include "status.h"
+
+/* Creates path and its missing parents; TG_ERR_IO naming the folder that
+ * could not be made, or a file that stands in the way. */
+tg_code tg_make_dirs(const char *path, tg_status *st);
+
+/* Opens tmp = "path.tmp" (n bytes at tmp) for writing; NULL and a message
+ * in st when it cannot. */
+FILE *tg_tmp_open(const char *path, char *tmp, size_t n, tg_status *st);
+
+/* Closes f and renames tmp to path; on a write error removes tmp and leaves
+ * path as it was. */
+tg_code tg_tmp_commit(FILE *f, const char *tmp, const char *path, tg_status *st);
+
+/* v with 10 significant digits, null when not finite. */
+void tg_json_number(FILE *f, double v);
+
+/* s quoted, with '"', '\\' and control characters escaped. */
+void tg_json_string(FILE *f, const char *s);
+
+#endif
