@@ -136,10 +136,23 @@ tg_code sweep_reap(const sweep_ctl *c, int k, int ws)
     return code;
 }
 
-int sweep_exit_status(const sweep_ctl *c, int failed, int stopped)
+int sweep_finish(const sweep_ctl *c, int lock, const sweep_progress *pr, int stopped)
 {
-    (void)c;
+    const tg_sweep *sw = c->sw;
+    tg_status st;
+    tg_status_clear(&st);
+    tg_code crc = tg_sweep_collect(sw, &st);
+    close(lock);
+    if (crc != TG_OK) {
+        fprintf(stderr, "twingyre: %s\n", st.msg);
+        return cli_exit_code(st.code);
+    }
+    if (!c->quiet)
+        fprintf(stderr, "twingyre: sweep: %d done, %d failed%s; table in %s/sweep.csv and "
+                        "sweep.json\n",
+                pr->done, pr->failed, stopped ? ", stopped (run the sweep again to resume)" : "",
+                sw->directory);
     if (stopped)
         return TG_ERR_INTERRUPTED;
-    return failed ? SWEEP_EXIT_MEMBERS_FAILED : 0;
+    return pr->failed ? SWEEP_EXIT_MEMBERS_FAILED : 0;
 }

@@ -69,7 +69,9 @@ int sweep_pool(const sweep_ctl *c);
  * exit status of this rank. */
 int sweep_mpi(const sweep_ctl *c, int *argc, char ***argv);
 
-/* Exit status after a pool or MPI sweep from its counts. */
-int sweep_exit_status(const sweep_ctl *c, int failed, int stopped);
+/* End of a pool or MPI sweep: collects sweep.csv / sweep.json, closes the
+ * lock descriptor, prints the summary line (unless quiet) and returns the
+ * exit status from the counts in pr (interrupted when stopped). */
+int sweep_finish(const sweep_ctl *c, int lock, const sweep_progress *pr, int stopped);
 
 #endif

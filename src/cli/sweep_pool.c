@@ -134,16 +134,5 @@ int sweep_pool(const sweep_ctl *c)
         close(lock);
         return cli_exit_code(st.code);
     }
-    tg_code crc = tg_sweep_collect(sw, &st);
-    close(lock);
-    if (crc != TG_OK) {
-        fprintf(stderr, "twingyre: %s\n", st.msg);
-        return cli_exit_code(st.code);
-    }
-    if (!c->quiet)
-        fprintf(stderr, "twingyre: sweep: %d done, %d failed%s; table in %s/sweep.csv and "
-                        "sweep.json\n",
-                pr.done, pr.failed, stopped ? ", stopped (run the sweep again to resume)" : "",
-                sw->directory);
-    return sweep_exit_status(c, pr.failed, stopped);
+    return sweep_finish(c, lock, &pr, stopped);
 }
