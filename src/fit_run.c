@@ -208,6 +208,16 @@ static void fmt_window(const fit_ctx *k, int w, char *buf, size_t n)
                  k->acc[w][0] ? k->acc[w][0]->n : 0.0);
 }
 
+/* The layer column of the coefficient tables: "all" for a shared fit,
+ * else the layer number from 1. */
+static void layer_label(int shared, int fit, char *buf, size_t n)
+{
+    if (shared)
+        snprintf(buf, n, "all");
+    else
+        snprintf(buf, n, "%d", fit + 1);
+}
+
 static void num(tg_strbuf *b, double v, const char *fmt)
 {
     if (isfinite(v))
@@ -340,10 +350,7 @@ static char *file_text(const fit_ctx *k)
             if (!r->kept[c])
                 continue;
             char lay[16];
-            if (o->shared)
-                snprintf(lay, sizeof lay, "all");
-            else
-                snprintf(lay, sizeof lay, "%d", f + 1);
+            layer_label(o->shared, f, lay, sizeof lay);
             tg_sb_printf(&b, "%-8s %-26s %-25.17g", lay, k->names[c], r->coef[c]);
             if (r->std[c] >= 0)
                 tg_sb_printf(&b, " %.17g", r->std[c]);
@@ -601,10 +608,7 @@ tg_code tg_fit_run(const tg_fit_options *o, char **report, tg_status *st)
                 if (!r->kept[c])
                     continue;
                 char lay[16];
-                if (o->shared)
-                    snprintf(lay, sizeof lay, "all");
-                else
-                    snprintf(lay, sizeof lay, "%d", f + 1);
+                layer_label(o->shared, f, lay, sizeof lay);
                 tg_sb_printf(&b, "%-6s %-26s %13.6g  ", lay, k->names[c], r->coef[c]);
                 if (r->std[c] >= 0)
                     tg_sb_printf(&b, "%10.3g", r->std[c]);
