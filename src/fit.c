@@ -301,6 +301,39 @@ static tg_code fit_stlsq(const std_problem *sp, const tg_fit_settings *s, tg_fit
     return tg_fail(st, TG_ERR_NUMERIC, "fit: stlsq did not settle in %d iterations", s->max_iter);
 }
 
+/* The posterior of the kept terms idx[0..m) (Tipping 2001): Sigma =
+ * (beta n Gh + diag alpha)^-1 into Sg (m x m, full; Cholesky, then its
+ * inverse) and mu = beta Sigma Phi^T t = beta Sigma n bh into mu. `which`
+ * ("" or "final ") goes into the message when the precision matrix is not
+ * positive definite. */
+static tg_code rvm_posterior(const std_problem *sp, const int *idx, int m, const double *alpha,
+                             double beta, double *Sg, double *mu, const char *which,
+                             tg_status *st)
+{
+    const int p = sp->p;
+    const double n = sp->n;
+    for (int i = 0; i < m; i++)
+        for (int k = 0; k < m; k++)
+            Sg[i * m + k] = beta * n * sp->Gh[idx[i] * p + idx[k]] + (i == k ? alpha[idx[i]] : 0.0);
+    lapack_int info = LAPACKE_dpotrf(LAPACK_ROW_MAJOR, 'U', m, Sg, m);
+    if (info == 0)
+        info = LAPACKE_dpotri(LAPACK_ROW_MAJOR, 'U', m, Sg, m);
+    if (info != 0)
+        return tg_fail(st, TG_ERR_NUMERIC,
+                       "fit: rvm: the %sposterior precision matrix is not positive definite "
+                       "(LAPACKE_dpotrf/dpotri info %d)", which, (int)info);
+    for (int i = 0; i < m; i++)
+        for (int k = 0; k < i; k++)
+            Sg[i * m + k] = Sg[k * m + i];
+    for (int i = 0; i < m; i++) {
+        double d = 0.0;
+        for (int k = 0; k < m; k++)
+            d += Sg[i * m + k] * n * sp->bh[idx[k]];
+        mu[i] = beta * d;
+    }
+    return TG_OK;
+}
+
 /* Tipping (2001) re-estimation on the standardized problem: Phi^T Phi =
  * n Gh, Phi^T t = n bh, t^T t = n. */
 static tg_code fit_rvm(const std_problem *sp, const tg_fit_settings *s, tg_fit_result *r,
@@ -308,7 +341,7 @@ static tg_code fit_rvm(const std_problem *sp, const tg_fit_settings *s, tg_fit_r
 {
     const int p = sp->p;
     const double n = sp->n;
-    double alpha[TG_FIT_MAX_TERMS], mu[TG_FIT_MAX_TERMS];
+    double alpha[TG_FIT_MAX_TERMS] = {0}, mu[TG_FIT_MAX_TERMS] = {0};
     double Sg[TG_FIT_MAX_TERMS * TG_FIT_MAX_TERMS];
     int idx[TG_FIT_MAX_TERMS] = {0};
     double beta = 10.0; /* noise variance 0.1 of the target's mean square at the start */
@@ -322,28 +355,9 @@ static tg_code fit_rvm(const std_problem *sp, const tg_fit_settings *s, tg_fit_r
             return tg_fail(st, TG_ERR_NUMERIC,
                            "fit: the relevance vector machine pruned every term (the target "
                            "looks like noise on these terms)");
-        /* Sigma = (beta n Gh + diag alpha)^-1 (Cholesky, then its inverse). */
-        for (int i = 0; i < m; i++)
-            for (int k = 0; k < m; k++)
-                Sg[i * m + k] = beta * n * sp->Gh[idx[i] * p + idx[k]] +
-                                (i == k ? alpha[idx[i]] : 0.0);
-        lapack_int info = LAPACKE_dpotrf(LAPACK_ROW_MAJOR, 'U', m, Sg, m);
-        if (info == 0)
-            info = LAPACKE_dpotri(LAPACK_ROW_MAJOR, 'U', m, Sg, m);
-        if (info != 0)
-            return tg_fail(st, TG_ERR_NUMERIC,
-                           "fit: rvm: the posterior precision matrix is not positive definite "
-                           "(LAPACKE_dpotrf/dpotri info %d)", (int)info);
-        for (int i = 0; i < m; i++)
-            for (int k = 0; k < i; k++)
-                Sg[i * m + k] = Sg[k * m + i];
-        /* mu = beta Sigma Phi^T t */
-        for (int i = 0; i < m; i++) {
-            double d = 0.0;
-            for (int k = 0; k < m; k++)
-                d += Sg[i * m + k] * n * sp->bh[idx[k]];
-            mu[i] = beta * d;
-        }
+        tg_code rc = rvm_posterior(sp, idx, m, alpha, beta, Sg, mu, "", st);
+        if (rc != TG_OK)
+            return rc;
         /* ||t - Phi mu||^2 = n (1 - 2 mu.bh + mu^T Gh mu) */
         double mb = 0.0, mgm = 0.0, sgamma = 0.0;
         for (int i = 0; i < m; i++) {
@@ -381,23 +395,11 @@ static tg_code fit_rvm(const std_problem *sp, const tg_fit_settings *s, tg_fit_r
                "(the result of the last one is used)", s->max_iter);
     /* Final posterior with the settled alpha and beta. */
     m = kept_index(r->kept, p, idx);
-    for (int i = 0; i < m; i++)
-        for (int k = 0; k < m; k++)
-            Sg[i * m + k] = beta * n * sp->Gh[idx[i] * p + idx[k]] + (i == k ? alpha[idx[i]] : 0.0);
-    lapack_int info = LAPACKE_dpotrf(LAPACK_ROW_MAJOR, 'U', m, Sg, m);
-    if (info == 0)
-        info = LAPACKE_dpotri(LAPACK_ROW_MAJOR, 'U', m, Sg, m);
-    if (info != 0)
-        return tg_fail(st, TG_ERR_NUMERIC, "fit: rvm: final posterior not positive definite "
-                       "(LAPACKE_dpotrf/dpotri info %d)", (int)info);
-    for (int i = 0; i < m; i++)
-        for (int k = 0; k < i; k++)
-            Sg[i * m + k] = Sg[k * m + i];
+    tg_code rc = rvm_posterior(sp, idx, m, alpha, beta, Sg, mu, "final ", st);
+    if (rc != TG_OK)
+        return rc;
     for (int i = 0; i < m; i++) {
-        double d = 0.0;
-        for (int k = 0; k < m; k++)
-            d += Sg[i * m + k] * n * sp->bh[idx[k]];
-        r->chat[idx[i]] = beta * d;
+        r->chat[idx[i]] = mu[i];
         r->std[idx[i]] = sqrt(Sg[i * m + i]) * sp->tau / sp->sigma[idx[i]];
     }
     r->noise_std = sp->tau / sqrt(beta);
