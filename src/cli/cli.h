@@ -62,6 +62,25 @@ void cli_progress_init(cli_progress *p, int quiet);
 void cli_progress_cb(const tg_progress *p, void *user); /* user = cli_progress* */
 void cli_progress_done(cli_progress *p);
 
+/* The one-line-per-phase display of `twin` and `vet`: the phase shown now
+ * (index, 0: none), when it started and when a terminal line was last
+ * redrawn. The commands format the line; these keep the bookkeeping. */
+typedef struct {
+    int quiet, tty;
+    int index;
+    double t0, t_last;
+} cli_phase_line;
+
+void cli_phase_init(cli_phase_line *d, int quiet);
+/* At a report of phase `index` at time t: when the phase changed, ends the
+ * previous terminal line, starts the phase's clock and returns 1; else 0. */
+int cli_phase_enter(cli_phase_line *d, int index, double t);
+/* On a terminal: 1 when the line was redrawn less than 0.2 s ago and this
+ * is not the phase's last report (skip it); otherwise notes t and returns 0. */
+int cli_phase_throttled(cli_phase_line *d, double t, int last);
+/* Ends the open terminal line of the phase shown, if any. */
+void cli_phase_end(cli_phase_line *d);
+
 /* Tells the log sink whether a progress line is open on stderr (a line
  * without its newline), so that a log line clears it first. */
 void cli_set_line_open(int open);

@@ -19,45 +19,30 @@
 /* One line per phase: updated in place on a terminal, otherwise printed at
  * each quarter of the phase. */
 typedef struct {
-    int quiet, tty;
-    int index;            /* phase shown now, 0: none */
-    double t0, t_last;
+    cli_phase_line line;
     int last_quarter;
 } twin_display;
-
-static void end_line(twin_display *d)
-{
-    if (d->tty && d->index > 0) {
-        fputc('\n', stderr);
-        cli_set_line_open(0);
-    }
-}
 
 static void show(const tg_twin_progress *tp, void *user)
 {
     twin_display *d = user;
-    if (d->quiet)
+    cli_phase_line *l = &d->line;
+    if (l->quiet)
         return;
     const tg_progress *p = &tp->p;
     double t = tg_clock_s();
-    if (tp->index != d->index) {
-        end_line(d);
-        d->index = tp->index;
-        d->t0 = t;
-        d->t_last = 0.0;
+    if (cli_phase_enter(l, tp->index, t))
         d->last_quarter = -1;
-    }
     const long total = p->step_last - p->step_first, done = p->step - p->step_first;
     const double frac = total > 0 ? (double)done / total : 1.0;
-    const double rate = t > d->t0 ? done / (t - d->t0) : 0.0;
+    const double rate = t > l->t0 ? done / (t - l->t0) : 0.0;
     const double left = rate > 0 ? (p->step_last - p->step) / rate : -1;
     const int last = p->step >= p->step_last;
     char lb[32];
-    cli_format_duration(last ? t - d->t0 : left, 1e7, lb, sizeof lb);
-    if (d->tty) {
-        if (t - d->t_last < 0.2 && !last)
+    cli_format_duration(last ? t - l->t0 : left, 1e7, lb, sizeof lb);
+    if (l->tty) {
+        if (cli_phase_throttled(l, t, last))
             return;
-        d->t_last = t;
         fprintf(stderr, "\r\033[K[%d/%d] %-32.32s %5.1f%%  day %.1f of %.1f  %.0f steps/s  %s %s",
                 tp->index, tp->count, tp->phase, 100.0 * frac, p->day, p->last_day, rate, lb,
                 last ? "taken" : "left");
@@ -65,7 +50,7 @@ static void show(const tg_twin_progress *tp, void *user)
         if (last) {
             fputc('\n', stderr);
             cli_set_line_open(0);
-            d->index = -tp->index; /* finished; a repeat call starts no new line */
+            l->index = -tp->index; /* finished; a repeat call starts no new line */
         }
     } else {
         const int quarter = (int)(frac * 4.0 + 1e-9);
@@ -119,15 +104,15 @@ int cmd_twin(int argc, char **argv)
 #endif
     volatile sig_atomic_t *stop = cli_catch_stop_signals();
 
-    twin_display disp = {.quiet = o.quiet, .tty = isatty(STDERR_FILENO)};
+    twin_display disp = {.last_quarter = -1};
+    cli_phase_init(&disp.line, o.quiet);
     char *cmdline = cli_command_line(argc, argv);
     tg_twin_options to = {.command_line = cmdline, .origin = o.config_path,
                           .stop_requested = stop, .overwrite = o.overwrite,
                           .progress = show, .progress_user = &disp};
     char *table = NULL;
     rc = tg_twin_run(cfg, &to, &table, &st);
-    if (disp.index > 0)
-        end_line(&disp);
+    cli_phase_end(&disp.line);
     free(cmdline);
     if (rc != TG_OK) {
         fprintf(stderr, "twingyre: %s: %s\n", tg_code_name(rc), st.msg);

@@ -17,40 +17,20 @@
 #include "../clock.h"
 #include "cli.h"
 
-typedef struct {
-    int quiet, tty;
-    int index;          /* phase shown now */
-    double t0, t_last;
-} vet_display;
-
-static void end_line(vet_display *d)
-{
-    if (d->tty && d->index > 0) {
-        fputc('\n', stderr);
-        cli_set_line_open(0);
-    }
-}
-
 /* A terminal gets one line per phase updated in place; otherwise a line
  * when a phase ends (phases without steps: when they start). */
 static void show(const tg_vet_progress *p, void *user)
 {
-    vet_display *d = user;
+    cli_phase_line *d = user;
     if (d->quiet)
         return;
     const double t = tg_clock_s();
-    if (p->index != d->index) {
-        end_line(d);
-        d->index = p->index;
-        d->t0 = t;
-        d->t_last = 0.0;
-    }
+    cli_phase_enter(d, p->index, t);
     const int last = p->step >= p->nsteps;
     const double frac = p->nsteps > 0 ? (double)p->step / p->nsteps : 1.0;
     if (d->tty) {
-        if (t - d->t_last < 0.2 && !last)
+        if (cli_phase_throttled(d, t, last))
             return;
-        d->t_last = t;
         if (p->fault)
             fprintf(stderr, "\r\033[K[%d/%d] %-44.44s stopped: %s", p->index, p->count, p->phase,
                     p->fault);
@@ -99,13 +79,14 @@ int cmd_vet(int argc, char **argv)
     volatile sig_atomic_t *stop = cli_catch_stop_signals();
 
     char *cmdline = cli_command_line(argc, argv);
-    vet_display d = {.quiet = o.quiet, .tty = isatty(STDERR_FILENO)};
+    cli_phase_line d;
+    cli_phase_init(&d, o.quiet);
     tg_vet_options opt = {.origin = o.config_path, .command_line = cmdline,
                           .stop_requested = stop, .overwrite = o.overwrite,
                           .progress = show, .progress_user = &d};
     tg_vet_report *rep = NULL;
     rc = tg_vet_run(cfg, &opt, &rep, &st);
-    end_line(&d);
+    cli_phase_end(&d);
     free(cmdline);
     if (rc != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);

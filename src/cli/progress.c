@@ -1,4 +1,5 @@
-/* progress.c - the progress line and the stderr log sink of the commands.
+/* progress.c - the progress line, the per-phase line of twin and vet, and
+ * the stderr log sink of the commands.
  *
  * The one piece of command-layer state: whether a progress line is on the
  * terminal right now, so that a log line first clears it. */
@@ -89,4 +90,38 @@ void cli_progress_done(cli_progress *p)
         g_line_open = 0;
     }
     (void)p;
+}
+
+void cli_phase_init(cli_phase_line *d, int quiet)
+{
+    memset(d, 0, sizeof *d);
+    d->quiet = quiet;
+    d->tty = isatty(STDERR_FILENO);
+}
+
+void cli_phase_end(cli_phase_line *d)
+{
+    if (d->tty && d->index > 0) {
+        fputc('\n', stderr);
+        g_line_open = 0;
+    }
+}
+
+int cli_phase_enter(cli_phase_line *d, int index, double t)
+{
+    if (index == d->index)
+        return 0;
+    cli_phase_end(d);
+    d->index = index;
+    d->t0 = t;
+    d->t_last = 0.0;
+    return 1;
+}
+
+int cli_phase_throttled(cli_phase_line *d, double t, int last)
+{
+    if (d->tty && t - d->t_last < 0.2 && !last)
+        return 1;
+    d->t_last = t;
+    return 0;
 }
