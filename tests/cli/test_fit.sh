@@ -31,26 +31,9 @@ tg_need_program
 # A 1000 km invented basin (the Skerrow Basin's small cousin); the coarse
 # runs' physics is repeated in coarse.ini for the plain run below.
 mkdir -p "$T/cfg"
-cat >"$T/cfg/twin.ini" <<'EOF'
-[grid]
-geometry = basin
-size_km = 1000
-points = 65
-
-[layers]
-thickness_m = 1000, 3000
-reduced_gravity_m_s2 = 0.02
-
-[wind]
-profile = double_gyre
-stress_amplitude_pa = 0.1
-
-[dissipation]
-bottom_drag_per_s = 1e-7
-viscosity_m2_per_s = 300
-
-[time]
-step_s = 3600
+{
+    small_basin 65
+    cat <<'EOF'
 
 [initial]
 state = noise
@@ -71,26 +54,10 @@ filter_width_factor = 2
 dissipation.viscosity_m2_per_s = 600
 time.step_s = 7200
 EOF
-cat >"$T/coarse.ini" <<'EOF'
-[grid]
-geometry = basin
-size_km = 1000
-points = 33
-
-[layers]
-thickness_m = 1000, 3000
-reduced_gravity_m_s2 = 0.02
-
-[wind]
-profile = double_gyre
-stress_amplitude_pa = 0.1
-
-[dissipation]
-bottom_drag_per_s = 1e-7
-viscosity_m2_per_s = 600
-
-[time]
-step_s = 7200
+} >"$T/cfg/twin.ini"
+{
+    small_basin 33 600 7200
+    cat <<'EOF'
 duration_days = 5
 
 [initial]
@@ -100,6 +67,7 @@ noise_amplitude_m2_per_s = 100
 [output]
 snapshot_every_days = 5
 EOF
+} >"$T/coarse.ini"
 tg twin "$T/cfg/twin.ini" --out "$T/tw" --quiet
 check "a tiny twin (65 -> 33 points, 9 samples) writes subgrid.nc" $([ "$rc" -eq 0 ] && [ -s "$T/tw/subgrid.nc" ]; echo $?) "$(err_tail)"
 S=$T/tw/subgrid.nc

@@ -235,26 +235,9 @@ fi
 # ---------------------------------------------------------------- twins
 # A twin base (detected from its [twin] section): reference 33 points,
 # coarse 17, 10 + 10 days; the coarse viscosity is varied.
-cat >twin.ini <<'EOF'
-[grid]
-geometry = basin
-size_km = 1000
-points = 33
-
-[layers]
-thickness_m = 1000, 3000
-reduced_gravity_m_s2 = 0.02
-
-[wind]
-profile = double_gyre
-stress_amplitude_pa = 0.1
-
-[dissipation]
-bottom_drag_per_s = 1e-7
-viscosity_m2_per_s = 300
-
-[time]
-step_s = 3600
+{
+    small_basin 33
+    cat <<'EOF'
 
 [initial]
 state = noise
@@ -272,6 +255,7 @@ compare = smagorinsky
 [twin.coarse]
 time.step_s = 7200
 EOF
+} >twin.ini
 cat >twins.ini <<'EOF'
 [sweep]
 base = twin.ini

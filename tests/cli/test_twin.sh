@@ -25,26 +25,9 @@ tg_need_program
 
 # ---------------------------------------------------------------- configs
 # A small invented basin: reference 65 points (15.6 km), coarse 17 (62.5 km).
-cat >basin.ini <<'EOF'
-[grid]
-geometry = basin
-size_km = 1000
-points = 65
-
-[layers]
-thickness_m = 1000, 3000
-reduced_gravity_m_s2 = 0.02
-
-[wind]
-profile = double_gyre
-stress_amplitude_pa = 0.1
-
-[dissipation]
-bottom_drag_per_s = 1e-7
-viscosity_m2_per_s = 300
-
-[time]
-step_s = 3600
+{
+    small_basin 65
+    cat <<'EOF'
 
 [initial]
 state = noise
@@ -69,6 +52,7 @@ filter_width_factor = 2
 dissipation.viscosity_m2_per_s = 1500
 time.step_s = 7200
 EOF
+} >basin.ini
 
 # A doubly periodic square with an imposed shear: 64 -> 16 points.
 cat >periodic.ini <<'EOF'

@@ -33,6 +33,8 @@
 #   calc EXPR       floating-point arithmetic (awk, %.17g)
 #   close_to GOT WANT RELTOL           |GOT - WANT| <= RELTOL |WANT|
 #   dir_state DIR   names and checksums of every file in DIR (or "absent")
+#   small_basin POINTS [VISCOSITY [STEP_S]]   the start of the small invented
+#                   basin config the twin, fit and sweep tests share
 #
 # Part of twingyre. GPL-3.0-or-later.
 
@@ -148,4 +150,35 @@ dir_state() {
     else
         echo absent
     fi
+}
+
+# ---------------------------------------------------------------- configs
+# small_basin POINTS [VISCOSITY [STEP_S]]: prints the start of the small
+# invented basin the twin, fit and sweep tests share: 1000 km, two layers
+# (1000 + 3000 m, reduced gravity 0.02 m s-2), double-gyre wind of 0.1 Pa,
+# bottom drag 1e-7 s-1, viscosity (default 300 m2 s-1) and time step
+# (default 3600 s). It ends inside [time], so the caller may add time keys
+# before its own sections.
+small_basin() {
+    cat <<EOF
+[grid]
+geometry = basin
+size_km = 1000
+points = $1
+
+[layers]
+thickness_m = 1000, 3000
+reduced_gravity_m_s2 = 0.02
+
+[wind]
+profile = double_gyre
+stress_amplitude_pa = 0.1
+
+[dissipation]
+bottom_drag_per_s = 1e-7
+viscosity_m2_per_s = ${2:-300}
+
+[time]
+step_s = ${3:-3600}
+EOF
 }

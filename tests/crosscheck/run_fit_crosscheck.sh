@@ -15,24 +15,9 @@
 set -u
 . "$(dirname "${BASH_SOURCE[0]}")/../cli/testlib.sh"
 tg_scratch fitcheck
-cat >"$T/twin.ini" <<'EOF'
-[grid]
-geometry = basin
-size_km = 1000
-points = 65
-
-[layers]
-thickness_m = 1000, 3000
-reduced_gravity_m_s2 = 0.02
-
-[wind]
-stress_amplitude_pa = 0.1
-
-[dissipation]
-viscosity_m2_per_s = 300
-
-[time]
-step_s = 3600
+{
+    small_basin 65
+    cat <<'EOF'
 
 [initial]
 state = noise
@@ -50,6 +35,7 @@ compare = none
 dissipation.viscosity_m2_per_s = 600
 time.step_s = 7200
 EOF
+} >"$T/twin.ini"
 if ! "$TWINGYRE" twin "$T/twin.ini" --out "$T/tw" --quiet >"$T/log" 2>&1; then
     cat "$T/log"
     notok "the tiny twin for the cross-check"
