@@ -253,16 +253,5 @@ static Suite *sweep_suite(void)
 
 int main(void)
 {
-    const char *tmp = getenv("TMPDIR");
-    snprintf(g_dir, sizeof g_dir, "%s/twingyre-test-sweep-XXXXXX", tmp && *tmp ? tmp : "/tmp");
-    if (!mkdtemp(g_dir)) {
-        perror("mkdtemp");
-        return 1;
-    }
-    const int failed = tg_unit_run(sweep_suite());
-    char cmd[512];
-    snprintf(cmd, sizeof cmd, "rm -rf '%s'", g_dir);
-    if (system(cmd) != 0)
-        fprintf(stderr, "could not remove %s\n", g_dir);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run_in_scratch(sweep_suite(), g_dir, sizeof g_dir, "sweep");
 }

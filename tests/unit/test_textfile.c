@@ -135,16 +135,5 @@ static Suite *suite(void)
 
 int main(void)
 {
-    const char *tmp = getenv("TMPDIR");
-    snprintf(g_dir, sizeof g_dir, "%s/twingyre-test-textfile-XXXXXX", tmp && *tmp ? tmp : "/tmp");
-    if (!mkdtemp(g_dir)) {
-        perror("mkdtemp");
-        return 1;
-    }
-    const int failed = tg_unit_run(suite());
-    char cmd[512];
-    snprintf(cmd, sizeof cmd, "rm -rf '%s'", g_dir);
-    if (system(cmd) != 0)
-        fprintf(stderr, "could not remove %s\n", g_dir);
-    return failed;
+    return tg_unit_run_in_scratch(suite(), g_dir, sizeof g_dir, "textfile");
 }

@@ -1,6 +1,7 @@
 /* unit_util.h - what several Check suites in tests/unit share: running the
  * file's suite with every case and turning the result into the exit status
- * (0 when every case passed). Include after <check.h>.
+ * (0 when every case passed), optionally inside a scratch folder made for
+ * the run and removed after it.
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
@@ -8,6 +9,8 @@
 #define TG_UNIT_UTIL_H
 
 #include <check.h>
+#include <stdio.h>
+#include <stdlib.h>
 
 /* Runs s (and frees it with its runner); 1 when a case failed, else 0. */
 static inline int tg_unit_run(Suite *s)
@@ -17,6 +20,27 @@ static inline int tg_unit_run(Suite *s)
     const int failed = srunner_ntests_failed(sr);
     srunner_free(sr);
     return failed ? 1 : 0;
+}
+
+/* Runs s with a fresh scratch folder: dir (n bytes) receives
+ * $TMPDIR/twingyre-test-NAME-XXXXXX (/tmp when TMPDIR is unset), made
+ * before the cases run and removed after. 1 when a case failed or the folder
+ * could not be made, else 0. Needs _POSIX_C_SOURCE 200809L (mkdtemp). */
+static inline int tg_unit_run_in_scratch(Suite *s, char *dir, size_t n, const char *name)
+{
+    const char *tmp = getenv("TMPDIR");
+    snprintf(dir, n, "%s/twingyre-test-%s-XXXXXX", tmp && *tmp ? tmp : "/tmp", name);
+    if (!mkdtemp(dir)) {
+        perror("mkdtemp");
+        srunner_free(srunner_create(s)); /* frees s */
+        return 1;
+    }
+    const int failed = tg_unit_run(s);
+    char cmd[600];
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", dir);
+    if (system(cmd) != 0)
+        fprintf(stderr, "could not remove %s\n", dir);
+    return failed;
 }
 
 #endif
