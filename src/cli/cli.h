@@ -48,6 +48,17 @@ void cli_format_duration(double s, double longest, char *buf, size_t n);
 /* Log sink writing "twingyre: ..." lines to stderr, aware of the progress line. */
 void cli_log_to_stderr(tg_log_level level, const char *line, void *user);
 
+/* Quiet: the log sink drops information lines (warnings and errors stay).
+ * cli_progress_init sets it too. */
+void cli_log_set_quiet(int quiet);
+
+/* The start of a command that loads a config: the log sink on stderr,
+ * argv[2..] parsed into o with the options in `allow` (cli_parse), the log
+ * sink quiet when --quiet was given, and *cfg a malloc'ed config to load
+ * (NULL when out of memory; the caller frees it). The message is in st. */
+tg_code cli_begin(int argc, char **argv, const char *allow, cli_opts *o, tg_config **cfg,
+                  tg_status *st);
+
 /* Progress display: on a terminal one line updated in place (percent,
  * model days, steps per second, time left, kinetic energy, CFL); otherwise a
  * plain line every 5 % of the run. Quiet shows nothing. */

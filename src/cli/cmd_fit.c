@@ -252,8 +252,7 @@ int cmd_fit(int argc, char **argv)
     if (threads > 0)
         omp_set_num_threads(threads);
 #endif
-    cli_progress prog;
-    cli_progress_init(&prog, quiet); /* the log sink's quiet flag */
+    cli_log_set_quiet(quiet);
     fit_display disp = {.quiet = quiet, .tty = isatty(STDERR_FILENO), .last_quarter = -1};
     o.progress = show;
     o.progress_user = &disp;

@@ -202,8 +202,7 @@ int cmd_sweep(int argc, char **argv)
         return cli_exit_code(TG_ERR_USAGE);
     }
 #endif
-    cli_progress quiet_flag;
-    cli_progress_init(&quiet_flag, a.quiet); /* the log sink's quiet flag */
+    cli_log_set_quiet(a.quiet);
     tg_status st;
     tg_status_clear(&st);
     tg_sweep *sw = NULL;

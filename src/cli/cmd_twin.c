@@ -69,15 +69,8 @@ int cmd_twin(int argc, char **argv)
     tg_status st;
     tg_status_clear(&st);
     cli_opts o;
-    tg_set_log(cli_log_to_stderr, NULL);
-    tg_config *cfg = malloc(sizeof *cfg);
-    if (!cfg) {
-        fprintf(stderr, "twingyre: out of memory\n");
-        return cli_exit_code(TG_ERR_NOMEM);
-    }
-    tg_code rc = cli_parse(argc, argv, 2, "set out quiet overwrite threads", &o, &st);
-    cli_progress prog;
-    cli_progress_init(&prog, rc == TG_OK ? o.quiet : 0); /* the log sink's quiet flag */
+    tg_config *cfg = NULL;
+    tg_code rc = cli_begin(argc, argv, "set out quiet overwrite threads", &o, &cfg, &st);
     /* Like cli_load_config, but the checks are the twin's (tg_twin_run makes
      * them all before it writes anything): [closure] sections of the
      * compared schemes are not unused here. */

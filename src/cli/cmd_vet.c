@@ -56,15 +56,8 @@ int cmd_vet(int argc, char **argv)
     tg_status st;
     tg_status_clear(&st);
     cli_opts o;
-    tg_set_log(cli_log_to_stderr, NULL);
-    tg_config *cfg = malloc(sizeof *cfg);
-    if (!cfg) {
-        fprintf(stderr, "twingyre: out of memory\n");
-        return cli_exit_code(TG_ERR_NOMEM);
-    }
-    tg_code rc = cli_parse(argc, argv, 2, "set out quiet overwrite threads member", &o, &st);
-    cli_progress prog;
-    cli_progress_init(&prog, rc == TG_OK ? o.quiet : 0); /* the log sink's quiet flag */
+    tg_config *cfg = NULL;
+    tg_code rc = cli_begin(argc, argv, "set out quiet overwrite threads member", &o, &cfg, &st);
     if (rc == TG_OK)
         rc = cli_load_config(&o, cfg, &st);
     if (rc != TG_OK) {

@@ -103,6 +103,18 @@ tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st)
     return tg_config_check(cfg, o->config_path, st);
 }
 
+tg_code cli_begin(int argc, char **argv, const char *allow, cli_opts *o, tg_config **cfg,
+                  tg_status *st)
+{
+    tg_set_log(cli_log_to_stderr, NULL);
+    *cfg = malloc(sizeof **cfg);
+    if (!*cfg)
+        return tg_fail(st, TG_ERR_NOMEM, "out of memory");
+    tg_code rc = cli_parse(argc, argv, 2, allow, o, st);
+    cli_log_set_quiet(rc == TG_OK ? o->quiet : 0);
+    return rc;
+}
+
 char *cli_command_line(int argc, char **argv)
 {
     size_t n = 1;

@@ -38,6 +38,11 @@ void cli_set_line_open(int open)
     g_line_open = open;
 }
 
+void cli_log_set_quiet(int quiet)
+{
+    g_quiet = quiet;
+}
+
 void cli_progress_init(cli_progress *p, int quiet)
 {
     p->quiet = quiet;
