@@ -450,14 +450,46 @@ tg_code tg_sweep_member_config(const tg_sweep *sw, int k, tg_config *cfg, tg_sta
 
 /* ---------------------------------------------------------------- loading */
 
+/* The [twin] section of a resolved config (its lines up to the next
+ * section), malloc'ed; NULL when out of memory. */
+static char *twin_section_text(const tg_config *cfg)
+{
+    char *ini = tg_config_to_ini(cfg);
+    if (!ini)
+        return NULL;
+    char *b = strstr(ini, "\n[twin]\n");
+    if (!b) {
+        ini[0] = '\0';
+        return ini;
+    }
+    b += 1;
+    char *e = strstr(b + 1, "\n[");
+    size_t n = e ? (size_t)(e - b) : strlen(b);
+    memmove(ini, b, n);
+    ini[n] = '\0';
+    return ini;
+}
+
+/* kind = auto: a twin when the base config has [twin.reference] or
+ * [twin.coarse] entries, or a [twin] key whose value differs from its
+ * default. A key merely present with its default value does not count:
+ * every resolved config (a member's config.ini, the resolved_config of
+ * fields.nc) lists the whole [twin] section. 1: twin, 0: run, -1: no
+ * memory. */
 static int base_is_twin(const tg_config *cfg)
 {
     if (cfg->ntwin_raw > 0)
         return 1;
-    for (int i = 0; i < tg_config_key_count(); i++)
-        if (!strcmp(tg_config_key(i)->section, "twin") && cfg->set_by_user[i] == TG_SET_FILE)
-            return 1;
-    return 0;
+    tg_config *def = malloc(sizeof *def);
+    if (!def)
+        return -1;
+    tg_config_defaults(def);
+    char *a = twin_section_text(cfg), *b = twin_section_text(def);
+    int r = (!a || !b) ? -1 : strcmp(a, b) != 0;
+    free(a);
+    free(b);
+    free(def);
+    return r;
 }
 
 /* Every [vary] key must take at least one of its values. */
@@ -655,8 +687,16 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
             rc = tg_fail(st, bst.code, "%s:%d: [sweep] base: %s", path, c->line_base, bst.msg);
     }
     if (rc == TG_OK) {
-        if (c->kind[0] == '\0' || !strcmp(c->kind, "auto"))
-            sw->kind = base_is_twin(scratch) ? TG_SWEEP_TWIN : TG_SWEEP_RUN;
+        if (c->kind[0] == '\0' || !strcmp(c->kind, "auto")) {
+            int twin = base_is_twin(scratch);
+            if (twin < 0)
+                rc = tg_fail(st, TG_ERR_NOMEM, "out of memory reading the base config %s",
+                             sw->base);
+            sw->kind = twin > 0 ? TG_SWEEP_TWIN : TG_SWEEP_RUN;
+            if (twin > 0)
+                tg_log(TG_LOG_INFO, "%s: the members are twins: the base config sets [twin] "
+                       "keys (kind = run in [sweep] runs them as plain runs)", path);
+        }
         else if (!strcmp(c->kind, "run"))
             sw->kind = TG_SWEEP_RUN;
         else if (!strcmp(c->kind, "twin"))

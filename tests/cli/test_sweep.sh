@@ -292,6 +292,24 @@ else
         "$(err_tail)" "$(cat py.out)"
 fi
 
+# A member's resolved config.ini lists the whole [twin] section at its
+# defaults; as a base it stays a run (kind = auto, README "Sweep file
+# reference"), while the twin base above sets [twin] keys.
+cat >rebase.ini <<EOF
+[sweep]
+base = $T/local/viscosity_m2_per_s-800_seed-2/config.ini
+seeds = 5
+EOF
+tg sweep rebase.ini --out "$T/rebase"
+rm1="$T/rebase/seed-5"
+if [ "$rc" -eq 0 ] && [ -f "$rm1/budget.nc" ] && [ ! -e "$rm1/subgrid.nc" ] &&
+    "$PYTHON" -c 'import json,sys; assert json.load(open(sys.argv[1]))["kind"] == "run"' \
+        "$T/rebase/sweep.json" && ! grep -q 'members are twins' "$T/err"; then
+    ok "a resolved run config as base (every [twin] key at its default) is swept as runs"
+else
+    notok "a resolved run config as base is swept as runs" "$(err_tail)" "$(ls "$T/rebase" 2>&1)"
+fi
+
 # ---------------------------------------------------------------- Slurm script
 tg sweep grid.ini --out "$T/slurm" --slurm-script "$T/job.sh"
 if [ "$rc" -eq 0 ] && grep -q '^#SBATCH --array=0-3$' job.sh &&
