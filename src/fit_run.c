@@ -248,10 +248,23 @@ static void path_text(const fit_ctx *k, tg_strbuf *b, const char *pre)
             tg_sb_printf(b, "%spath, all layers: terms  R2_train  then dropped\n", pre);
         else
             tg_sb_printf(b, "%spath, layer %d: terms  R2_train  then dropped\n", pre, f + 1);
+        /* The path runs over every column; the one never dropped remains. */
+        unsigned char gone[TG_FIT_MAX_TERMS] = {0};
+        for (int s = 0; s < pa->nsteps; s++)
+            if (pa->dropped[s] >= 0)
+                gone[pa->dropped[s]] = 1;
         for (int s = 0; s < pa->nsteps; s++) {
             tg_sb_printf(b, "%s  %5d  ", pre, pa->nterms[s]);
             num(b, pa->r2[s], "%10.6f");
-            tg_sb_printf(b, "  %s\n", pa->dropped[s] >= 0 ? k->names[pa->dropped[s]] : "-");
+            if (pa->dropped[s] >= 0) {
+                tg_sb_printf(b, "  %s\n", k->names[pa->dropped[s]]);
+                continue;
+            }
+            tg_sb_printf(b, "  (remains:");
+            for (int j = 0; j < k->p; j++)
+                if (!gone[j])
+                    tg_sb_printf(b, " %s", k->names[j]);
+            tg_sb_printf(b, ")\n");
         }
     }
 }

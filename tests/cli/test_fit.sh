@@ -137,9 +137,14 @@ cat >"$T/r2.py" <<'EOF'
 import csv, sys
 rows = [r for r in csv.DictReader(open(sys.argv[1])) if r["closure"] == "coefficients-fitted"]
 fit = {}
+in_skill = False
 for line in open(sys.argv[2]):
     f = line.split()
-    if line.startswith("#") and len(f) == 6 and f[1] in ("1", "2"):
+    if line.startswith("# skill"):
+        in_skill = True
+    elif line.startswith("# path"):
+        in_skill = False
+    elif in_skill and len(f) == 6 and f[1] in ("1", "2"):
         fit[f[1]] = float(f[2])
 assert len(rows) == 2 and len(fit) == 2, (rows, fit)
 for r in rows:
