@@ -43,6 +43,7 @@ typedef struct {
     char extra_name[TG_MAX_CLOSURES][96];
     const char *extra_names[TG_MAX_CLOSURES];
     double *extra_buf[TG_MAX_CLOSURES];
+    double *extra_start[TG_MAX_CLOSURES]; /* the state at the start of the step being taken */
     const double *extra_data[TG_MAX_CLOSURES];
     size_t extra_len[TG_MAX_CLOSURES];
     int extra_comp[TG_MAX_CLOSURES];
@@ -60,9 +61,13 @@ static tg_code setup_extras(run_ctx *c, tg_status *st)
         snprintf(c->extra_name[e], sizeof c->extra_name[e], "closure_state_%s",
                  tg_closure_host_label(h, k));
         c->extra_buf[e] = malloc(sizeof(double) * n);
-        if (!c->extra_buf[e])
+        c->extra_start[e] = malloc(sizeof(double) * n);
+        if (!c->extra_buf[e] || !c->extra_start[e]) {
+            free(c->extra_buf[e]);
+            free(c->extra_start[e]);
             return tg_fail(st, TG_ERR_NOMEM, "run: no memory for the state of closure %s",
                            tg_closure_host_label(h, k));
+        }
         c->extra_names[e] = c->extra_name[e];
         c->extra_data[e] = c->extra_buf[e];
         c->extra_len[e] = n;
@@ -313,6 +318,10 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
                          m->step, m->time_s / TG_SECONDS_PER_DAY, c.path_ckpt);
             goto done;
         }
+        /* The closures' own state at the start of the step: tg_step advances
+         * it, and a step that ends in NaN/Inf is undone below. */
+        for (int e = 0; e < c.nextra; e++)
+            tg_closure_host_state_save(m->closures, c.extra_comp[e], c.extra_start[e]);
         if ((rc = tg_step(m, &rates, st)) != TG_OK)
             goto done;
         tg_diag_compute(m, &after);
@@ -332,7 +341,12 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
             tg_model_derive(m);
             tg_status ck;
             tg_status_clear(&ck);
-            tg_code crc = write_checkpoint(&c, &ck);
+            tg_code crc = TG_OK;
+            for (int e = 0; e < c.nextra && crc == TG_OK; e++)
+                crc = tg_closure_host_state_load(m->closures, c.extra_comp[e], c.extra_start[e],
+                                                 c.extra_len[e], &ck);
+            if (crc == TG_OK)
+                crc = write_checkpoint(&c, &ck);
             double x = bad >= 0 ? m->geom->coord[bad % m->geom->ns] : NAN;
             double y = bad >= 0 ? m->geom->coord[bad / m->geom->ns] : NAN;
             rc = tg_fail(st, TG_ERR_BLOWUP,
@@ -408,8 +422,10 @@ done:
     free(rec);
     free(c.psi_out);
     free(c.q_out);
-    for (int e = 0; e < c.nextra; e++)
+    for (int e = 0; e < c.nextra; e++) {
         free(c.extra_buf[e]);
+        free(c.extra_start[e]);
+    }
     free(c.spec_out);
     tg_spectrum_destroy(c.spec);
     tg_model_destroy(c.m);

@@ -855,6 +855,26 @@ else
         "$(err_tail)" "checkpoint: $(cat "$T/py") (step in the message: '$nstep')"
 fi
 
+# A closure with its own state (AR(1) noise): the checkpoint of a
+# non-finite blow-up holds that state as it was at the start of the failed
+# step, so a run resumed from it takes the same step again and fails the
+# same way, writing the same checkpoint (restart consistency: common
+# practice).
+tg run "$BLOWUP" --out "$T/blowst" --quiet --set time.max_cfl=1e300 --set time.duration_days=4000 \
+    --set closure.use=stochastic_additive
+msg1=$(grep -oE 'non-finite PV at step [0-9]+.*km' "$T/err" | head -n 1)
+tg run "$BLOWUP" --out "$T/blowst2" --quiet --set time.max_cfl=1e300 --set time.duration_days=4000 \
+    --set closure.use=stochastic_additive --set initial.state="$T/blowst/checkpoint.nc"
+msg2=$(grep -oE 'non-finite PV at step [0-9]+.*km' "$T/err" | head -n 1)
+if [ "$rc" -eq 5 ] && [ -n "$msg1" ] && [ "$msg1" = "$msg2" ] &&
+    nc same "$T/blowst/checkpoint.nc" "$T/blowst2/checkpoint.nc" step q \
+        closure_state_stochastic_additive; then
+    ok "non-finite blow-up with a stateful closure: resumed from the checkpoint it fails at the same step and writes the same checkpoint (closure state included)"
+else
+    notok "non-finite blow-up with a stateful closure: resumed from the checkpoint it fails the same way" \
+        "first: '$msg1'" "resumed: '$msg2'" "$(err_tail)" "$(cat "$T/py")"
+fi
+
 # An initial state already above max_cfl: the same fault at step 0.
 tg run "$SMALL" --out "$T/blow0" --quiet --set initial.noise_amplitude_m2_per_s=1e9
 if [ "$rc" -eq 5 ] && grep -qE 'step [0-9]+' "$T/err" && has "model day" "$T/err" &&
