@@ -13,9 +13,31 @@
 #ifdef _OPENMP
 #include <omp.h>
 #endif
+#ifdef __linux__
+#include <sys/prctl.h>
+#endif
 
 #include "cli.h"
 #include "sweep_cli.h"
+
+/* A member started by a pool (or an MPI rank) stops when that process dies
+ * (kill -9, a crash): on Linux it asks for SIGTERM at its parent's death,
+ * and if the parent is already gone it stops at once. SIGTERM sets the
+ * stop flag, so the member checkpoints and records itself as stopped, and
+ * re-running the sweep resumes it instead of racing an orphan. */
+static void follow_parent(void)
+{
+    const char *p = getenv(SWEEP_PARENT_ENV);
+    if (!p)
+        return;
+    pid_t parent = (pid_t)strtol(p, NULL, 10);
+#ifdef __linux__
+    if (prctl(PR_SET_PDEATHSIG, SIGTERM) != 0)
+        tg_log(TG_LOG_WARN, "sweep member: cannot ask to stop with the pool (prctl failed)");
+#endif
+    if (getppid() != parent)
+        raise(SIGTERM);
+}
 
 /* Log sink that passes each distinct line once: checking every member's
  * config would otherwise repeat the base config's warnings per member. */
@@ -224,6 +246,7 @@ int cmd_sweep(int argc, char **argv)
                     sw->directory, sw->directory, sw->nmembers);
         }
     } else if (a.member >= 0) {
+        follow_parent();
 #ifdef _OPENMP
         omp_set_num_threads(a.threads);
 #endif

@@ -92,9 +92,29 @@ pid_t sweep_launch(const sweep_ctl *c, int k, tg_status *st)
                                              O_WRONLY | O_CREAT | O_APPEND, 0644);
     if (!e)
         e = posix_spawn_file_actions_adddup2(&fa, STDERR_FILENO, STDOUT_FILENO);
+    /* The environment plus SWEEP_PARENT_ENV=this pid, which makes the member
+     * stop if this process dies. */
+    size_t nenv = 0;
+    while (environ[nenv])
+        nenv++;
+    char parent[64];
+    snprintf(parent, sizeof parent, "%s=%ld", SWEEP_PARENT_ENV, (long)getpid());
+    char **envp = malloc((nenv + 2) * sizeof *envp);
+    if (!envp && !e)
+        e = ENOMEM;
+    if (envp) {
+        size_t m = 0;
+        const size_t plen = strlen(SWEEP_PARENT_ENV);
+        for (size_t i = 0; i < nenv; i++)
+            if (strncmp(environ[i], SWEEP_PARENT_ENV, plen) != 0 || environ[i][plen] != '=')
+                envp[m++] = environ[i];
+        envp[m++] = parent;
+        envp[m] = NULL;
+    }
     pid_t pid = -1;
     if (!e)
-        e = posix_spawn(&pid, c->program, &fa, NULL, argv, environ);
+        e = posix_spawn(&pid, c->program, &fa, NULL, argv, envp);
+    free(envp);
     posix_spawn_file_actions_destroy(&fa);
     if (e) {
         tg_fail(st, TG_ERR_IO, "cannot start member %d (%s %s, log %s): %s", k, c->program,

@@ -16,6 +16,10 @@
 #include "../sweep.h"
 #include "cli.h"
 
+/* Environment variable that tells a member process the pid of the pool
+ * (or MPI rank) that started it (cmd_sweep.c: it stops when that dies). */
+#define SWEEP_PARENT_ENV "TWINGYRE_SWEEP_PARENT"
+
 /* Exit status of a sweep in which some members failed (README): the
  * commands' shared "judged failed" status. */
 #define SWEEP_EXIT_MEMBERS_FAILED CLI_EXIT_CHECK_FAILED

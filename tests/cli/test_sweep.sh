@@ -232,6 +232,37 @@ else
         "$(err_tail)" "before: $starts1" "after:  $starts2"
 fi
 
+# kill -9 of the pool itself (a crash of the process that started the
+# members): its running member stops too (it follows its parent), records
+# itself as stopped, and a re-run completes every member.
+"$TWINGYRE" sweep long.ini --jobs 1 --out "$T/long9" >long9.out 2>long9.err &
+pid=$!
+for _ in $(seq 1 600); do
+    if grep -qs '^status = running$' "$T"/long9/*/member.ini; then
+        break
+    fi
+    sleep 0.1
+done
+kill -KILL "$pid"
+wait "$pid" 2>/dev/null
+for _ in $(seq 1 300); do
+    grep -qs '^status = running$' "$T"/long9/*/member.ini || break
+    sleep 0.1
+done
+nrunning=$(grep -ls '^status = running$' "$T"/long9/*/member.ini | wc -l)
+nstopped=$(grep -ls '^status = stopped$' "$T"/long9/*/member.ini | wc -l)
+orphans=$(pgrep -f "sweep long.ini --out $T/long9 --member" | wc -l)
+tg sweep long.ini --jobs 2 --out "$T/long9"
+ndone9=$(grep -ls '^status = done$' "$T"/long9/*/member.ini | wc -l)
+if [ "$nrunning" -eq 0 ] && [ "$nstopped" -ge 1 ] && [ "$orphans" -eq 0 ] && [ "$rc" -eq 0 ] &&
+    [ "$ndone9" -eq 4 ]; then
+    ok "kill -9 of the pool: its running member stops and records it ($nstopped stopped, no orphan); a re-run completes all four"
+else
+    notok "kill -9 of the pool: its running member stops and records it; a re-run completes all four" \
+        "running after the kill: $nrunning, stopped: $nstopped, orphans: $orphans" \
+        "$(err_tail)" "$(cat "$T"/long9/*/member.log 2>/dev/null | tail -n 5)"
+fi
+
 # ---------------------------------------------------------------- twins
 # A twin base (detected from its [twin] section): reference 33 points,
 # coarse 17, 10 + 10 days; the coarse viscosity is varied.
