@@ -12,7 +12,9 @@ static inline void mulhilo(uint32_t a, uint32_t b, uint32_t *hi, uint32_t *lo)
     *lo = (uint32_t)p;
 }
 
-/* Salmon et al. 2011, section 3.3: multipliers and Weyl key increments. */
+/* Ten rounds of the Philox4x32 round function: two 32 x 32 -> 64-bit
+ * multiplications per round, keys advanced by Weyl increments (the
+ * constants below; rng.h names the source). */
 void tg_philox4x32(const uint32_t ctr[4], const uint32_t key[2], uint32_t out[4])
 {
     uint32_t c0 = ctr[0], c1 = ctr[1], c2 = ctr[2], c3 = ctr[3];

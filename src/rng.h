@@ -1,8 +1,10 @@
 /* rng.h - counter-based random numbers (Philox4x32-10).
  *
- * Philox (Salmon, Moraes, Dror & Shaw 2011, "Parallel random numbers: as
- * easy as 1, 2, 3", doi:10.1145/2063384.2063405) maps a 128-bit counter and a 64-bit key to
- * 128 random bits with no state. Keying by (seed) and counting by (stream,
+ * Philox4x32-10, a counter-based generator (described and assessed in
+ * L'Ecuyer, Munger, Oreshkin & Simard 2017, "Random numbers for parallel
+ * computers: requirements and methods, with emphasis on GPUs", Math.
+ * Comput. Simul. 135, 3-17; section from memory), maps a 128-bit counter
+ * and a 64-bit key to 128 random bits with no state. Keying by (seed) and counting by (stream,
  * step, node) makes every draw a pure function of where and when it is
  * used, so results do not depend on thread count, on the order of loops or
  * on restarts.

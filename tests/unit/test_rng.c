@@ -17,10 +17,11 @@
 
 /* ---------------------------------------------------------------------- */
 /* Known-answer vectors of Philox4x32-10.
- * Source: Salmon, Moraes, Dror & Shaw 2011, "Parallel random numbers: as
- * easy as 1, 2, 3", doi:10.1145/2063384.2063405 (algorithm, section 3.3);
- * the expected outputs below are that paper's generator evaluated at these
- * counters and keys (values from memory). */
+ * Source: the generator's reference known-answer vectors for these
+ * counters and keys (values from memory); the algorithm as described in
+ * L'Ecuyer, Munger, Oreshkin & Simard 2017, Math. Comput. Simul. 135, 3-17
+ * (section from memory). The independent transcription below checks the
+ * same generator on many more inputs. */
 typedef struct {
     uint32_t ctr[4], key[2], out[4];
 } kat_vector;
@@ -49,9 +50,8 @@ START_TEST(philox_known_answers)
 END_TEST
 
 /* An independent straight transcription of the round function as the
- * paper describes it (Salmon et al. 2011, section 3.3: multipliers
- * 0xD2511F53 and 0xCD9E8D57, key schedule by the Weyl constants 0x9E3779B9
- * and 0xBB67AE85, ten rounds), compared with the library on many inputs.
+ * algorithm is specified (multipliers 0xD2511F53 and 0xCD9E8D57, key
+ * schedule by the Weyl constants 0x9E3779B9 and 0xBB67AE85, ten rounds), compared with the library on many inputs.
  * The known-answer vectors above are the authoritative check; this one
  * covers many more inputs and can only pass if both agree. */
 static void ref_philox(const uint32_t ctr[4], const uint32_t key[2], uint32_t out[4])
@@ -71,7 +71,9 @@ static void ref_philox(const uint32_t ctr[4], const uint32_t key[2], uint32_t ou
     memcpy(out, c, sizeof c);
 }
 
-/* Deterministic test inputs (64-bit LCG, Knuth's MMIX constants; common practice). */
+/* Deterministic test inputs from a 64-bit linear congruential generator
+ * (any full-period multiplier and odd increment serve: the inputs only
+ * need to vary; common practice). */
 static uint64_t lcg(uint64_t *s)
 {
     *s = *s * 6364136223846793005ULL + 1442695040888963407ULL;
@@ -96,8 +98,9 @@ END_TEST
 
 /* ---------------------------------------------------------------------- */
 /* A keyed bijection: distinct counters under one key give distinct blocks.
- * Source: Salmon et al. 2011, section 3 (each round is invertible, so the
- * map counter -> output is a bijection for a fixed key). */
+ * Source: the round structure of rng.h's source (each round is
+ * invertible, so the map counter -> output is a bijection for a fixed
+ * key). */
 static int cmp_block(const void *a, const void *b)
 {
     return memcmp(a, b, 4 * sizeof(uint32_t));
