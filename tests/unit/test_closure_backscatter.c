@@ -37,7 +37,8 @@
 
 static const double PI = 3.14159265358979323846;
 
-/* Deterministic uniform numbers in [-1, 1) (a 64-bit linear congruential generator; common practice). */
+/* Deterministic uniform numbers in [-1, 1) from a 64-bit linear
+ * congruential generator (common practice). */
 static double next_uniform(uint64_t *s)
 {
     *s = *s * 6364136223846793005ULL + 1442695040888963407ULL;

@@ -65,7 +65,8 @@ static double *alloc0(size_t n)
     return a;
 }
 
-/* Deterministic uniform numbers in [-1, 1) (a 64-bit linear congruential generator; common practice). */
+/* Deterministic uniform numbers in [-1, 1) from a 64-bit linear
+ * congruential generator (common practice). */
 static double next_uniform(uint64_t *s)
 {
     *s = *s * 6364136223846793005ULL + 1442695040888963407ULL;
