@@ -26,6 +26,7 @@
 #include "basis.h"
 #include "closure_host.h"
 #include "strbuf.h"
+#include "textfile.h"
 
 #include <ini.h>
 
@@ -1318,55 +1319,6 @@ static int on_pair(void *user, const char *section, const char *name, const char
     return 1;
 }
 
-/* Reads the whole file into a new NUL-terminated buffer. */
-static tg_code read_file(const char *path, char **out, size_t *out_len, tg_status *st)
-{
-    FILE *f = fopen(path, "rb");
-    if (!f)
-        return tg_fail(st, TG_ERR_IO, "cannot open config file '%s': %s", path, strerror(errno));
-    size_t cap = 4096, len = 0;
-    char *buf = malloc(cap);
-    if (!buf) {
-        fclose(f);
-        return tg_fail(st, TG_ERR_NOMEM, "out of memory reading config file '%s'", path);
-    }
-    for (;;) {
-        if (len + 1 >= cap) {
-            if (cap > (size_t)CONFIG_FILE_MAX) {
-                free(buf);
-                fclose(f);
-                return tg_fail(st, TG_ERR_CONFIG,
-                               "%s: larger than %ld bytes; is this really a config file?",
-                               path, CONFIG_FILE_MAX);
-            }
-            char *bigger = realloc(buf, cap * 2);
-            if (!bigger) {
-                free(buf);
-                fclose(f);
-                return tg_fail(st, TG_ERR_NOMEM, "out of memory reading config file '%s'", path);
-            }
-            buf = bigger;
-            cap *= 2;
-        }
-        size_t got = fread(buf + len, 1, cap - 1 - len, f);
-        len += got;
-        if (got == 0) {
-            if (ferror(f)) {
-                int e = errno;
-                free(buf);
-                fclose(f);
-                return tg_fail(st, TG_ERR_IO, "cannot read config file '%s': %s", path, strerror(e));
-            }
-            break;
-        }
-    }
-    fclose(f);
-    buf[len] = '\0';
-    *out = buf;
-    *out_len = len;
-    return TG_OK;
-}
-
 /* Parses the INI text buf (len bytes, NUL-terminated, owned by the
  * caller) over cfg; `path` names it in messages. */
 static tg_code load_buffer(tg_config *cfg, const char *path, char *buf, size_t len,
@@ -1432,7 +1384,7 @@ tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st)
         return tg_fail(st, TG_ERR_INTERNAL, "tg_config_load_file: NULL argument");
     char *buf = NULL;
     size_t len = 0;
-    tg_code rc = read_file(path, &buf, &len, st);
+    tg_code rc = tg_read_text(path, "config file", CONFIG_FILE_MAX, &buf, &len, st);
     if (rc != TG_OK)
         return rc;
     rc = load_buffer(cfg, path, buf, len, st);

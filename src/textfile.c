@@ -1,5 +1,5 @@
-/* textfile.c - folders, PATH.tmp-then-rename text files and JSON values
- * (textfile.h). */
+/* textfile.c - whole text files read, folders, PATH.tmp-then-rename text
+ * files and JSON values (textfile.h). */
 #define _POSIX_C_SOURCE 200809L
 #include "textfile.h"
 
@@ -8,6 +8,56 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
+
+tg_code tg_read_text(const char *path, const char *what, long max, char **out, size_t *out_len,
+                     tg_status *st)
+{
+    FILE *f = fopen(path, "rb");
+    if (!f)
+        return tg_fail(st, TG_ERR_IO, "cannot open %s '%s': %s", what, path, strerror(errno));
+    size_t cap = 4096, len = 0;
+    char *buf = malloc(cap);
+    if (!buf) {
+        fclose(f);
+        return tg_fail(st, TG_ERR_NOMEM, "out of memory reading %s '%s'", what, path);
+    }
+    for (;;) {
+        if (len + 1 >= cap) {
+            if (cap > (size_t)max) {
+                free(buf);
+                fclose(f);
+                return tg_fail(st, TG_ERR_CONFIG,
+                               "%s: larger than %ld bytes; is this really a %s?", path,
+                               max, what);
+            }
+            char *bigger = realloc(buf, cap * 2);
+            if (!bigger) {
+                free(buf);
+                fclose(f);
+                return tg_fail(st, TG_ERR_NOMEM, "out of memory reading %s '%s'", what, path);
+            }
+            buf = bigger;
+            cap *= 2;
+        }
+        size_t got = fread(buf + len, 1, cap - 1 - len, f);
+        len += got;
+        if (got == 0) {
+            if (ferror(f)) {
+                int e = errno;
+                free(buf);
+                fclose(f);
+                return tg_fail(st, TG_ERR_IO, "cannot read %s '%s': %s", what, path,
+                               strerror(e));
+            }
+            break;
+        }
+    }
+    fclose(f);
+    buf[len] = '\0';
+    *out = buf;
+    *out_len = len;
+    return TG_OK;
+}
 
 tg_code tg_make_dirs(const char *path, tg_status *st)
 {

@@ -1,5 +1,6 @@
-/* textfile.h - the library's small file-system and text-output helpers:
- * folders made as needed (mkdir -p), text files written under PATH.tmp and
+/* textfile.h - the library's small file-system and text helpers: a whole
+ * text file read into memory, folders made as needed (mkdir -p), text files
+ * written under PATH.tmp and
  * renamed into place only when complete (so an existing file is never left
  * half-written), and JSON numbers and strings (RFC 8259) for the files
  * written straight to a FILE (skill.json, sweep.json).
@@ -13,6 +14,13 @@
 #include <stdio.h>
 
 #include "status.h"
+
+/* Reads the whole file into a new NUL-terminated buffer (*out, *len bytes
+ * before the NUL; the caller frees it). `what` names the file in messages
+ * ("config file"); a file larger than max bytes is refused with
+ * TG_ERR_CONFIG. */
+tg_code tg_read_text(const char *path, const char *what, long max, char **out, size_t *len,
+                     tg_status *st);
 
 /* Creates path and its missing parents; TG_ERR_IO naming the folder that
  * could not be made, or a file that stands in the way. */
