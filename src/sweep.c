@@ -1,6 +1,7 @@
 /* sweep.c - the sweep file (libinih), its members, their names and their
  * resolved configs (sweep.h). */
 #include "sweep.h"
+#include "textfile.h"
 #include "twin.h"
 
 #include <ini.h>
@@ -13,6 +14,10 @@
 #include <string.h>
 
 /* ---------------------------------------------------------------- reading */
+
+/* A sweep file larger than this is refused (one with every list full
+ * holds some 140 kB of values). */
+#define TG_SWEEP_FILE_MAX (1024L * 1024L)
 
 typedef struct {
     const char *path;
@@ -287,39 +292,6 @@ static int on_pair(void *user, const char *section, const char *key, const char 
     return ctx_fail(c, "unknown section [%s] (sections: sweep, vary, cluster)", section);
 }
 
-static tg_code read_text(const char *path, char **out, size_t *len, tg_status *st)
-{
-    FILE *f = fopen(path, "rb");
-    if (!f)
-        return tg_fail(st, TG_ERR_IO, "cannot open sweep file '%s': %s", path, strerror(errno));
-    size_t cap = 4096, n = 0;
-    char *buf = malloc(cap);
-    for (;;) {
-        if (!buf) {
-            fclose(f);
-            return tg_fail(st, TG_ERR_NOMEM, "out of memory reading sweep file '%s'", path);
-        }
-        n += fread(buf + n, 1, cap - 1 - n, f);
-        if (n < cap - 1)
-            break;
-        cap *= 2;
-        char *nb = realloc(buf, cap);
-        if (!nb)
-            free(buf);
-        buf = nb;
-    }
-    int bad = ferror(f);
-    fclose(f);
-    if (bad) {
-        free(buf);
-        return tg_fail(st, TG_ERR_IO, "cannot read sweep file '%s'", path);
-    }
-    buf[n] = '\0';
-    *out = buf;
-    *len = n;
-    return TG_OK;
-}
-
 /* dst = rel resolved against the folder of `file` (rel itself when absolute). */
 static int resolve(const char *file, const char *rel, char *dst, size_t n)
 {
@@ -536,7 +508,7 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
     *out = NULL;
     char *buf = NULL;
     size_t len = 0;
-    tg_code rc = read_text(path, &buf, &len, st);
+    tg_code rc = tg_read_text(path, "sweep file", TG_SWEEP_FILE_MAX, &buf, &len, st);
     if (rc != TG_OK)
         return rc;
     tg_sweep *sw = calloc(1, sizeof *sw);
