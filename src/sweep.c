@@ -464,18 +464,14 @@ static int base_is_twin(const tg_config *cfg)
     return r;
 }
 
-/* Every [vary] key must take at least one of its values. */
-static tg_code check_keys(tg_sweep *sw, tg_config *scratch, tg_status *st)
+/* Every [vary] key must take at least one of its values; base is the base
+ * config as loaded (defaults -> base file). */
+static tg_code check_keys(const tg_sweep *sw, const tg_config *base, tg_status *st)
 {
-    tg_config *base = malloc(sizeof *base);
-    if (!base)
+    tg_config *scratch = malloc(sizeof *scratch);
+    if (!scratch)
         return tg_fail(st, TG_ERR_NOMEM, "out of memory checking the sweep %s", sw->path);
-    tg_config_defaults(base);
-    tg_code rc = tg_config_load_file(base, sw->base, st);
-    if (rc != TG_OK) {
-        free(base);
-        return rc;
-    }
+    tg_code rc = TG_OK;
     for (int a = 0; a < sw->naxes && rc == TG_OK; a++) {
         if (sw->axis[a].kind == TG_AXIS_MEMBER)
             continue;
@@ -499,7 +495,7 @@ static tg_code check_keys(tg_sweep *sw, tg_config *scratch, tg_status *st)
                          sw->axis[a].kind == TG_AXIS_SEED ? "sweep" : "vary",
                          sw->axis[a].kind == TG_AXIS_SEED ? "seeds" : sw->axis[a].key, first.msg);
     }
-    free(base);
+    free(scratch);
     return rc;
 }
 
@@ -647,20 +643,20 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
     if (rc == TG_OK && sw->combine == TG_SWEEP_ZIP && sw->nkeys == 0)
         sw->combine = TG_SWEEP_PRODUCT;
 
-    /* Kind, from the file or from the base config. */
-    tg_config *scratch = rc == TG_OK ? malloc(sizeof *scratch) : NULL;
-    if (rc == TG_OK && !scratch)
+    /* The base config, loaded once: it decides the kind and checks the keys. */
+    tg_config *base = rc == TG_OK ? malloc(sizeof *base) : NULL;
+    if (rc == TG_OK && !base)
         rc = tg_fail(st, TG_ERR_NOMEM, "out of memory reading the base config %s", sw->base);
     if (rc == TG_OK) {
-        tg_config_defaults(scratch);
+        tg_config_defaults(base);
         tg_status bst;
         tg_status_clear(&bst);
-        if (tg_config_load_file(scratch, sw->base, &bst) != TG_OK)
+        if (tg_config_load_file(base, sw->base, &bst) != TG_OK)
             rc = tg_fail(st, bst.code, "%s:%d: [sweep] base: %s", path, c->line_base, bst.msg);
     }
     if (rc == TG_OK) {
         if (c->kind[0] == '\0' || !strcmp(c->kind, "auto")) {
-            int twin = base_is_twin(scratch);
+            int twin = base_is_twin(base);
             if (twin < 0)
                 rc = tg_fail(st, TG_ERR_NOMEM, "out of memory reading the base config %s",
                              sw->base);
@@ -683,10 +679,10 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
                          "stochastic closures in runs; a twin sets its ensemble with [twin] "
                          "members (vary twin.members instead)", path, sw->axis[a].line);
     if (rc == TG_OK)
-        rc = check_keys(sw, scratch, st);
+        rc = check_keys(sw, base, st);
     if (rc == TG_OK)
         rc = name_members(sw, st);
-    free(scratch);
+    free(base);
     free(c);
     if (rc != TG_OK) {
         tg_sweep_free(sw);
