@@ -136,6 +136,8 @@ static tg_code write_status(const tg_sweep *sw, int k, const tg_member_status *m
 {
     char path[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 16], tmp[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 32];
     snprintf(path, sizeof path, "%s/%s/member.ini", sw->directory, sw->name[k]);
+    /* The pid in the temporary name: the pool may record a member whose
+     * process it saw die while a late write of that process is under way. */
     snprintf(tmp, sizeof tmp, "%s.%ld.tmp", path, (long)getpid());
     FILE *f = fopen(tmp, "w");
     if (!f)
@@ -147,17 +149,7 @@ static tg_code write_status(const tg_sweep *sw, int k, const tg_member_status *m
     put_message(f, ms->message);
     fprintf(f, "host = %s\nthreads = %d\nstart = %s\nend = %s\nseconds = %.3f\n", ms->host,
             ms->threads, ms->start, ms->end, ms->seconds);
-    int bad = ferror(f);
-    if (fclose(f) != 0 || bad) {
-        remove(tmp);
-        return tg_fail(st, TG_ERR_IO, "cannot write %s", tmp);
-    }
-    if (rename(tmp, path) != 0) {
-        int e = errno;
-        remove(tmp);
-        return tg_fail(st, TG_ERR_IO, "cannot rename %s to %s: %s", tmp, path, strerror(e));
-    }
-    return TG_OK;
+    return tg_tmp_commit(f, tmp, path, st);
 }
 
 static void fill_host(tg_member_status *ms)
@@ -205,22 +197,16 @@ tg_code tg_sweep_prepare_member(const tg_sweep *sw, int k, tg_status *st)
 
 static tg_code write_config(const char *dir, const tg_config *cfg, tg_status *st)
 {
-    char path[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 16];
+    char path[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 16], tmp[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 32];
     snprintf(path, sizeof path, "%s/config.ini", dir);
     char *text = tg_config_to_ini(cfg);
     if (!text)
         return tg_fail(st, TG_ERR_NOMEM, "out of memory writing %s", path);
-    FILE *f = fopen(path, "w");
-    if (!f) {
-        free(text);
-        return tg_fail(st, TG_ERR_IO, "cannot write %s: %s", path, strerror(errno));
-    }
-    fputs(text, f);
+    FILE *f = tg_tmp_open(path, tmp, sizeof tmp, st);
+    if (f)
+        fputs(text, f);
     free(text);
-    int bad = ferror(f);
-    if (fclose(f) != 0 || bad)
-        return tg_fail(st, TG_ERR_IO, "cannot write %s", path);
-    return TG_OK;
+    return f ? tg_tmp_commit(f, tmp, path, st) : st->code;
 }
 
 tg_code tg_sweep_run_member(const tg_sweep *sw, int k, const tg_sweep_member_options *o,
