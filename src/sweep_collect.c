@@ -80,7 +80,7 @@ static void extra_free(extra_table *t)
 
 static tg_code budget_figures(const char *path, double fig[NFIG], tg_status *st)
 {
-    int ncid, v, d, nvars;
+    int ncid, v, d, nvars = 0;
     size_t nt = 0, nl = 1;
     tg_code rc;
     for (int i = 0; i < NFIG; i++)
@@ -264,9 +264,9 @@ static void json_cell(FILE *f, const char *v)
         return;
     }
     char *end;
-    strtod(v, &end);
-    if (*end == '\0')
-        fputs(v, f);
+    const double x = strtod(v, &end);
+    if (*end == '\0' && isfinite(x))
+        tg_json_number(f, x); /* strtod also takes nan, inf, hex: not JSON */
     else
         tg_json_string(f, v);
 }
