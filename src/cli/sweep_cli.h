@@ -62,6 +62,10 @@ typedef struct {
 } sweep_progress;
 
 void sweep_progress_init(sweep_progress *p, int quiet, int total);
+/* Counts a member that ended here with code (TG_OK: done; stopped members
+ * are left again; others failed) after `seconds` of run time (< 0:
+ * unknown, not used for the estimate). Returns 1 when it was stopped. */
+int sweep_progress_count(sweep_progress *p, tg_code code, double seconds);
 void sweep_progress_show(sweep_progress *p, int force);
 void sweep_progress_end(sweep_progress *p);
 

@@ -21,6 +21,7 @@
 #include <time.h>
 #include <unistd.h>
 
+#include "../clock.h"
 #include "cli.h"
 #include "sweep_cli.h"
 
@@ -87,18 +88,6 @@ static int worker(const sweep_ctl *c)
     }
 }
 
-static void count(sweep_progress *pr, int code, int *stopped)
-{
-    pr->running--;
-    if (code == TG_OK)
-        pr->done++;
-    else if (code == TG_ERR_INTERRUPTED) {
-        *stopped = 1;
-        pr->left++;
-    } else
-        pr->failed++;
-}
-
 static int leader(const sweep_ctl *c, int size)
 {
     const tg_sweep *sw = c->sw;
@@ -129,7 +118,7 @@ static int leader(const sweep_ctl *c, int size)
     sweep_progress_show(&pr, 1);
     int next = 0, workers = size - 1, stopped = 0, own = -1;
     pid_t own_pid = 0;
-    time_t t_own = 0;
+    double t_own = 0.0;
     while (workers > 0 || own_pid > 0 || (next < npending && !*c->stop)) {
         int flag = 0;
         MPI_Status ms;
@@ -142,13 +131,11 @@ static int leader(const sweep_ctl *c, int size)
                                  MPI_STATUS_IGNORE), "receiving a request"))
                 break;
             if (msg[0] >= 0 && msg[0] < sw->nmembers) {
-                count(&pr, msg[1], &stopped);
                 tg_member_status mst; /* its run time, for the estimate */
-                if (tg_sweep_read_status(sw, msg[0], &mst, &st) == TG_OK && mst.present &&
-                    msg[1] != TG_ERR_INTERRUPTED) {
-                    pr.busy_s += mst.seconds;
-                    pr.finished_here++;
-                }
+                const int known = tg_sweep_read_status(sw, msg[0], &mst, &st) == TG_OK &&
+                                  mst.present;
+                if (sweep_progress_count(&pr, (tg_code)msg[1], known ? mst.seconds : -1.0))
+                    stopped = 1;
             }
             if (next < npending && !*c->stop) {
                 give = pending[next++];
@@ -175,7 +162,7 @@ static int leader(const sweep_ctl *c, int size)
             } else {
                 pr.running++;
                 pr.left--;
-                t_own = time(NULL);
+                t_own = tg_clock_s();
             }
             sweep_progress_show(&pr, 1);
         }
@@ -184,12 +171,8 @@ static int leader(const sweep_ctl *c, int size)
             if (*c->stop)
                 kill(own_pid, SIGINT);
             if (waitpid(own_pid, &ws, WNOHANG) == own_pid) {
-                tg_code oc = sweep_reap(c, own, ws);
-                count(&pr, (int)oc, &stopped);
-                if (oc != TG_ERR_INTERRUPTED) {
-                    pr.busy_s += difftime(time(NULL), t_own);
-                    pr.finished_here++;
-                }
+                if (sweep_progress_count(&pr, sweep_reap(c, own, ws), tg_clock_s() - t_own))
+                    stopped = 1;
                 own_pid = 0;
                 sweep_progress_show(&pr, 1);
                 continue;

@@ -98,27 +98,16 @@ int sweep_pool(const sweep_ctl *c)
             if (run[j].pid != p)
                 continue;
             tg_code code = sweep_reap(c, run[j].member, ws);
-            pr.running--;
             nrun--;
-            if (code == TG_OK) {
-                pr.done++;
-                pr.busy_s += tg_clock_s() - run[j].t0;
-                pr.finished_here++;
-            } else if (code == TG_ERR_INTERRUPTED) {
+            if (sweep_progress_count(&pr, code, tg_clock_s() - run[j].t0)) {
                 stopped = 1;
-                pr.left++;
-            } else {
-                pr.failed++;
-                pr.busy_s += tg_clock_s() - run[j].t0;
-                pr.finished_here++;
-                if (!c->quiet) {
-                    tg_member_status ms;
-                    tg_status rst;
-                    if (tg_sweep_read_status(sw, run[j].member, &ms, &rst) == TG_OK) {
-                        sweep_progress_end(&pr);
-                        fprintf(stderr, "twingyre: member %d (%s) failed with status %d: %s\n",
-                                run[j].member, sw->name[run[j].member], (int)code, ms.message);
-                    }
+            } else if (code != TG_OK && !c->quiet) {
+                tg_member_status ms;
+                tg_status rst;
+                if (tg_sweep_read_status(sw, run[j].member, &ms, &rst) == TG_OK) {
+                    sweep_progress_end(&pr);
+                    fprintf(stderr, "twingyre: member %d (%s) failed with status %d: %s\n",
+                            run[j].member, sw->name[run[j].member], (int)code, ms.message);
                 }
             }
             run[j].pid = 0;

@@ -21,6 +21,24 @@ void sweep_progress_init(sweep_progress *p, int quiet, int total)
     p->t0 = tg_clock_s();
 }
 
+int sweep_progress_count(sweep_progress *p, tg_code code, double seconds)
+{
+    p->running--;
+    if (code == TG_ERR_INTERRUPTED) {
+        p->left++;
+        return 1;
+    }
+    if (code == TG_OK)
+        p->done++;
+    else
+        p->failed++;
+    if (seconds >= 0) {
+        p->busy_s += seconds;
+        p->finished_here++;
+    }
+    return 0;
+}
+
 void sweep_progress_show(sweep_progress *p, int force)
 {
     if (p->quiet)
