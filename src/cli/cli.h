@@ -22,13 +22,22 @@ typedef struct {
     int overwrite;
     int threads;           /* 0: leave OpenMP's default */
     int member;            /* --member K: ensemble member of stochastic closures */
+    int member_given;      /* --member was given */
+    int jobs;              /* --jobs N (sweep); 0 when not given */
+    int collect, mpi;      /* --collect, --mpi (sweep) */
+    const char *slurm_script; /* --slurm-script FILE (sweep), NULL when not given */
 } cli_opts;
 
 /* Parses argv[first..] into o. Unknown options are a usage error (message in
  * st). `allow` is a string of the option names this command takes, e.g.
- * "set out quiet overwrite threads". */
+ * "set out quiet overwrite threads". The one file argument is the config. */
 tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts *o,
                   tg_status *st);
+
+/* cli_parse for a command whose file argument is `what` (e.g. "sweep
+ * file"), named so in messages; it is o->config_path. */
+tg_code cli_parse_for(int argc, char **argv, int first, const char *allow, const char *what,
+                      cli_opts *o, tg_status *st);
 
 /* defaults -> file -> each --set -> --out -> cross-key checks. */
 tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st);

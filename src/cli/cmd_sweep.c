@@ -60,95 +60,27 @@ static void log_once(tg_log_level level, const char *line, void *user)
     cli_log_to_stderr(level, line, NULL);
 }
 
-typedef struct {
-    const char *sweep, *out, *slurm;
-    int jobs, threads, member, collect, mpi, quiet;
-} sweep_args;
-
-static int whole(const char *opt, const char *v, int lo, int hi, int *out)
+/* The options of sweep (cli_parse_for) and their defaults and exclusions;
+ * 0 when the command line is usable, else the exit status. */
+static int parse(int argc, char **argv, cli_opts *o)
 {
-    char *end;
-    long x = strtol(v, &end, 10);
-    if (*v == '\0' || *end != '\0' || x < lo || x > hi) {
-        fprintf(stderr, "twingyre: %s needs a whole number from %d to %d, got '%s'\n", opt, lo, hi,
-                v);
-        return 0;
+    tg_status st;
+    tg_status_clear(&st);
+    if (cli_parse_for(argc, argv, 2, "jobs threads out quiet member collect slurm-script mpi",
+                      "sweep file", o, &st) != TG_OK) {
+        fprintf(stderr, "twingyre: %s\n", st.msg);
+        return cli_exit_code(st.code);
     }
-    *out = (int)x;
-    return 1;
-}
-
-static int parse(int argc, char **argv, sweep_args *a)
-{
-    memset(a, 0, sizeof *a);
-    a->jobs = 1;
-    a->threads = 1;
-    a->member = -1;
-    for (int i = 2; i < argc; i++) {
-        const char *s = argv[i];
-        if (s[0] != '-' || s[1] == '\0') {
-            if (a->sweep) {
-                fprintf(stderr, "twingyre: unexpected argument '%s' (the sweep file is '%s')\n", s,
-                        a->sweep);
-                return 0;
-            }
-            a->sweep = s;
-            continue;
-        }
-        char name[64];
-        const char *eq = strchr(s, '=');
-        size_t nl = eq ? (size_t)(eq - s) : strlen(s);
-        snprintf(name, sizeof name, "%.*s", (int)(nl < 63 ? nl : 63), s);
-        const int takes = !strcmp(name, "--jobs") || !strcmp(name, "--threads") ||
-                          !strcmp(name, "--member") || !strcmp(name, "--out") ||
-                          !strcmp(name, "--slurm-script");
-        const int flag = !strcmp(name, "--collect") || !strcmp(name, "--mpi") ||
-                         !strcmp(name, "--quiet");
-        if (!takes && !flag) {
-            fprintf(stderr, "twingyre: unknown option '%s' of sweep (see --help)\n", s);
-            return 0;
-        }
-        const char *v = NULL;
-        if (takes) {
-            if (eq)
-                v = eq + 1;
-            else if (i + 1 < argc)
-                v = argv[++i];
-            else {
-                fprintf(stderr, "twingyre: option %s needs a value\n", name);
-                return 0;
-            }
-        } else if (eq) {
-            fprintf(stderr, "twingyre: option %s takes no value\n", name);
-            return 0;
-        }
-        if (!strcmp(name, "--jobs") && !whole("--jobs", v, 1, 1024, &a->jobs))
-            return 0;
-        if (!strcmp(name, "--threads") && !whole("--threads", v, 1, 1024, &a->threads))
-            return 0;
-        if (!strcmp(name, "--member") && !whole("--member", v, 0, TG_SWEEP_MAX_MEMBERS, &a->member))
-            return 0;
-        if (!strcmp(name, "--out"))
-            a->out = v;
-        if (!strcmp(name, "--slurm-script"))
-            a->slurm = v;
-        if (!strcmp(name, "--collect"))
-            a->collect = 1;
-        if (!strcmp(name, "--mpi"))
-            a->mpi = 1;
-        if (!strcmp(name, "--quiet"))
-            a->quiet = 1;
-    }
-    if (!a->sweep) {
-        fprintf(stderr, "twingyre: no sweep file given (see --help)\n");
-        return 0;
-    }
-    if ((a->member >= 0) + a->collect + (a->slurm != NULL) + a->mpi > 1) {
+    if (o->member_given + o->collect + (o->slurm_script != NULL) + o->mpi > 1) {
         fprintf(stderr, "twingyre: --member, --collect, --slurm-script and --mpi exclude each "
                         "other\n");
-        return 0;
+        return cli_exit_code(TG_ERR_USAGE);
     }
-    return 1;
+    if (o->jobs == 0)
+        o->jobs = 1;
+    if (o->threads == 0)
+        o->threads = 1; /* each member gets an explicit --threads */
+    return 0;
 }
 
 /* The executable children and batch scripts should call: this one, or the
@@ -180,14 +112,14 @@ static int under_mpirun(void)
            getenv("PMIX_RANK") != NULL;
 }
 
-static int slurm_script(tg_sweep *sw, const sweep_args *a)
+static int slurm_script(tg_sweep *sw, const cli_opts *a)
 {
     tg_status st;
     tg_status_clear(&st);
     char program[PATH_MAX], sweep_abs[PATH_MAX], cwd[PATH_MAX];
     own_program(program, sizeof program);
-    if (!realpath(a->sweep, sweep_abs) || !getcwd(cwd, sizeof cwd)) {
-        fprintf(stderr, "twingyre: cannot resolve the path of %s\n", a->sweep);
+    if (!realpath(a->config_path, sweep_abs) || !getcwd(cwd, sizeof cwd)) {
+        fprintf(stderr, "twingyre: cannot resolve the path of %s\n", a->config_path);
         return cli_exit_code(TG_ERR_IO);
     }
     if (sw->directory[0] != '/') {
@@ -198,14 +130,14 @@ static int slurm_script(tg_sweep *sw, const sweep_args *a)
         }
         strcpy(sw->directory, abs);
     }
-    if (tg_sweep_write_slurm(sw, a->slurm, program, sweep_abs, &st) != TG_OK) {
+    if (tg_sweep_write_slurm(sw, a->slurm_script, program, sweep_abs, &st) != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         return cli_exit_code(st.code);
     }
     if (!a->quiet)
         fprintf(stderr, "twingyre: wrote %s (job array of %d members), %s.collect and %s.submit; "
                         "submit with: bash %s.submit\n",
-                a->slurm, sw->nmembers, a->slurm, a->slurm, a->slurm);
+                a->slurm_script, sw->nmembers, a->slurm_script, a->slurm_script, a->slurm_script);
     return 0;
 }
 
@@ -213,9 +145,10 @@ int cmd_sweep(int argc, char **argv)
 {
     seen_lines seen = {0};
     tg_set_log(log_once, &seen);
-    sweep_args a;
-    if (!parse(argc, argv, &a))
-        return cli_exit_code(TG_ERR_USAGE);
+    cli_opts a;
+    int prc = parse(argc, argv, &a);
+    if (prc != 0)
+        return prc;
 #ifndef TG_WITH_MPI
     if (a.mpi) {
         fprintf(stderr, "twingyre: --mpi: this twingyre was built without MPI; rebuild with "
@@ -228,14 +161,14 @@ int cmd_sweep(int argc, char **argv)
     tg_status st;
     tg_status_clear(&st);
     tg_sweep *sw = NULL;
-    if (tg_sweep_load(a.sweep, a.out, &sw, &st) != TG_OK) {
+    if (tg_sweep_load(a.config_path, a.out_dir, &sw, &st) != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         return cli_exit_code(st.code);
     }
     volatile sig_atomic_t *stop = cli_catch_stop_signals();
 
     int rc = 0;
-    if (a.slurm) {
+    if (a.slurm_script) {
         rc = slurm_script(sw, &a);
     } else if (a.collect) {
         if (tg_sweep_collect(sw, &st) != TG_OK) {
@@ -245,7 +178,7 @@ int cmd_sweep(int argc, char **argv)
             fprintf(stderr, "twingyre: wrote %s/sweep.csv and %s/sweep.json (%d members)\n",
                     sw->directory, sw->directory, sw->nmembers);
         }
-    } else if (a.member >= 0) {
+    } else if (a.member_given) {
         follow_parent();
 #ifdef _OPENMP
         omp_set_num_threads(a.threads);
@@ -266,7 +199,7 @@ int cmd_sweep(int argc, char **argv)
     } else {
         char program[PATH_MAX];
         own_program(program, sizeof program);
-        sweep_ctl c = {.sw = sw, .program = program, .sweep_path = a.sweep, .jobs = a.jobs,
+        sweep_ctl c = {.sw = sw, .program = program, .sweep_path = a.config_path, .jobs = a.jobs,
                        .threads = a.threads, .quiet = a.quiet, .stop = stop};
 #ifdef TG_WITH_MPI
         if (a.mpi || under_mpirun())

@@ -21,15 +21,28 @@ static int allowed(const char *allow, const char *name)
     return 0;
 }
 
-tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts *o, tg_status *st)
+/* A whole number from lo to hi for option --opt; a usage error otherwise. */
+static tg_code whole(const char *opt, const char *val, long lo, long hi, int *out, tg_status *st)
+{
+    char *end;
+    long x = strtol(val, &end, 10);
+    if (*val == '\0' || *end != '\0' || x < lo || x > hi)
+        return tg_fail(st, TG_ERR_USAGE, "--%s needs a whole number from %ld to %ld, got '%s'", opt,
+                       lo, hi, val);
+    *out = (int)x;
+    return TG_OK;
+}
+
+tg_code cli_parse_for(int argc, char **argv, int first, const char *allow, const char *what,
+                      cli_opts *o, tg_status *st)
 {
     memset(o, 0, sizeof *o);
     for (int i = first; i < argc; i++) {
         const char *a = argv[i];
         if (a[0] != '-' || a[1] == '\0') {
             if (o->config_path)
-                return tg_fail(st, TG_ERR_USAGE, "unexpected argument '%s' (the config is '%s')",
-                               a, o->config_path);
+                return tg_fail(st, TG_ERR_USAGE, "unexpected argument '%s' (the %s is '%s')", a,
+                               what, o->config_path);
             o->config_path = a;
             continue;
         }
@@ -45,7 +58,8 @@ tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts 
         if (!allowed(allow, key))
             return tg_fail(st, TG_ERR_USAGE, "unknown option '%s' (see --help)", a);
         int takes_value = !strcmp(key, "set") || !strcmp(key, "out") || !strcmp(key, "threads") ||
-                          !strcmp(key, "member");
+                          !strcmp(key, "member") || !strcmp(key, "jobs") ||
+                          !strcmp(key, "slurm-script");
         if (takes_value) {
             if (eq)
                 val = eq + 1;
@@ -56,6 +70,7 @@ tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts 
         } else if (eq) {
             return tg_fail(st, TG_ERR_USAGE, "option --%s takes no value", key);
         }
+        tg_code rc = TG_OK;
         if (!strcmp(key, "set")) {
             if (o->nsets >= (int)(sizeof o->sets / sizeof o->sets[0]))
                 return tg_fail(st, TG_ERR_USAGE, "too many --set options");
@@ -63,26 +78,34 @@ tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts 
         } else if (!strcmp(key, "out")) {
             o->out_dir = val;
         } else if (!strcmp(key, "threads")) {
-            char *end;
-            long t = strtol(val, &end, 10);
-            if (*val == '\0' || *end != '\0' || t < 1 || t > 1024)
-                return tg_fail(st, TG_ERR_USAGE, "--threads needs a whole number from 1 to 1024, got '%s'", val);
-            o->threads = (int)t;
+            rc = whole(key, val, 1, 1024, &o->threads, st);
         } else if (!strcmp(key, "member")) {
-            char *end;
-            long k = strtol(val, &end, 10);
-            if (*val == '\0' || *end != '\0' || k < 0 || k > 1000000)
-                return tg_fail(st, TG_ERR_USAGE, "--member needs a whole number from 0 to 1000000, got '%s'", val);
-            o->member = (int)k;
+            rc = whole(key, val, 0, 1000000, &o->member, st);
+            o->member_given = 1;
+        } else if (!strcmp(key, "jobs")) {
+            rc = whole(key, val, 1, 1024, &o->jobs, st);
+        } else if (!strcmp(key, "slurm-script")) {
+            o->slurm_script = val;
         } else if (!strcmp(key, "quiet")) {
             o->quiet = 1;
         } else if (!strcmp(key, "overwrite")) {
             o->overwrite = 1;
+        } else if (!strcmp(key, "collect")) {
+            o->collect = 1;
+        } else if (!strcmp(key, "mpi")) {
+            o->mpi = 1;
         }
+        if (rc != TG_OK)
+            return rc;
     }
     if (!o->config_path)
-        return tg_fail(st, TG_ERR_USAGE, "no config file given (see --help)");
+        return tg_fail(st, TG_ERR_USAGE, "no %s given (see --help)", what);
     return TG_OK;
+}
+
+tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts *o, tg_status *st)
+{
+    return cli_parse_for(argc, argv, first, allow, "config file", o, st);
 }
 
 tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st)
