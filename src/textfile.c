@@ -22,14 +22,13 @@ tg_code tg_read_text(const char *path, const char *what, long max, char **out, s
         return tg_fail(st, TG_ERR_NOMEM, "out of memory reading %s '%s'", what, path);
     }
     for (;;) {
+        if (len > (size_t)max) {
+            free(buf);
+            fclose(f);
+            return tg_fail(st, TG_ERR_CONFIG, "%s: larger than %ld bytes; is this really a %s?",
+                           path, max, what);
+        }
         if (len + 1 >= cap) {
-            if (cap > (size_t)max) {
-                free(buf);
-                fclose(f);
-                return tg_fail(st, TG_ERR_CONFIG,
-                               "%s: larger than %ld bytes; is this really a %s?", path,
-                               max, what);
-            }
             char *bigger = realloc(buf, cap * 2);
             if (!bigger) {
                 free(buf);

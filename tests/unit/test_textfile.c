@@ -1,4 +1,6 @@
-/* test_textfile.c - unit tests of src/textfile.c: tg_make_dirs makes nested
+/* test_textfile.c - unit tests of src/textfile.c: tg_read_text returns the
+ * whole file, NUL-terminated, and refuses a missing or too large file with a
+ * message naming it; tg_make_dirs makes nested
  * folders, accepts existing ones and refuses a file in the way;
  * tg_tmp_open/tg_tmp_commit put the whole text at PATH (replacing an older
  * file) and leave no PATH.tmp behind; tg_json_string and tg_json_number
@@ -48,6 +50,45 @@ static char *slurp(const char *path)
     fclose(f);
     return s;
 }
+
+START_TEST(test_read_text)
+{
+    char path[512];
+    tg_status st;
+    tg_status_clear(&st);
+    /* 10000 bytes: more than the first 4096-byte buffer, so it must grow. */
+    snprintf(path, sizeof path, "%s/long.ini", g_dir);
+    FILE *f = fopen(path, "w");
+    ck_assert_ptr_nonnull(f);
+    for (int i = 0; i < 1000; i++)
+        fprintf(f, "k%04d = 1\n", i);
+    fclose(f);
+    char *buf = NULL;
+    size_t len = 0;
+    ck_assert_int_eq(tg_read_text(path, "test file", 1L << 20, &buf, &len, &st), TG_OK);
+    ck_assert_uint_eq(len, 10000);
+    ck_assert_uint_eq(strlen(buf), 10000);
+    ck_assert(strncmp(buf, "k0000 = 1\nk0001 = 1\n", 20) == 0);
+    ck_assert_str_eq(buf + 9990, "k0999 = 1\n");
+    free(buf);
+    /* Exactly at the limit: read; one byte over it: refused, naming the
+     * file and what it is. */
+    ck_assert_int_eq(tg_read_text(path, "test file", 10000, &buf, &len, &st), TG_OK);
+    ck_assert_uint_eq(len, 10000);
+    free(buf);
+    buf = NULL;
+    ck_assert_int_eq(tg_read_text(path, "test file", 9999, &buf, &len, &st), TG_ERR_CONFIG);
+    ck_assert_ptr_null(buf);
+    ck_assert_msg(strstr(st.msg, "long.ini") && strstr(st.msg, "test file"), "message: %s",
+                  st.msg);
+    /* Missing. */
+    snprintf(path, sizeof path, "%s/absent.ini", g_dir);
+    ck_assert_int_eq(tg_read_text(path, "sweep file", 1L << 20, &buf, &len, &st), TG_ERR_IO);
+    ck_assert_ptr_null(buf);
+    ck_assert_msg(strstr(st.msg, "cannot open sweep file") && strstr(st.msg, "absent.ini"),
+                  "message: %s", st.msg);
+}
+END_TEST
 
 START_TEST(test_make_dirs)
 {
@@ -126,6 +167,7 @@ static Suite *suite(void)
 {
     Suite *s = suite_create("textfile");
     TCase *tc = tcase_create("core");
+    tcase_add_test(tc, test_read_text);
     tcase_add_test(tc, test_make_dirs);
     tcase_add_test(tc, test_tmp_commit);
     tcase_add_test(tc, test_json);
