@@ -8,6 +8,7 @@
  * Task output goes to DIRECTORY/slurm-logs/. Resources from [cluster].
  */
 #include "sweep.h"
+#include "textfile.h"
 
 #include <errno.h>
 #include <stdio.h>
@@ -37,14 +38,17 @@ static void resources(FILE *f, const tg_sweep_cluster *cl, int collect)
         fprintf(f, "#SBATCH %s\n", cl->extra[i]);
 }
 
-static tg_code finish(FILE *f, const char *path, tg_status *st)
+/* Makes the script executable and renames it into place (textfile.h): an
+ * earlier script of that name stays whole until the new one is. */
+static tg_code finish(FILE *f, const char *tmp, const char *path, tg_status *st)
 {
-    int bad = ferror(f);
-    if (fclose(f) != 0 || bad)
-        return tg_fail(st, TG_ERR_IO, "cannot write %s", path);
-    if (chmod(path, 0755) != 0)
-        return tg_fail(st, TG_ERR_IO, "cannot make %s executable: %s", path, strerror(errno));
-    return TG_OK;
+    if (chmod(tmp, 0755) != 0) {
+        tg_code rc = tg_fail(st, TG_ERR_IO, "cannot make %s executable: %s", tmp, strerror(errno));
+        fclose(f);
+        remove(tmp);
+        return rc;
+    }
+    return tg_tmp_commit(f, tmp, path, st);
 }
 
 tg_code tg_sweep_write_slurm(const tg_sweep *sw, const char *script, const char *program,
@@ -60,13 +64,13 @@ tg_code tg_sweep_write_slurm(const tg_sweep *sw, const char *script, const char 
         return tg_fail(st, TG_ERR_INTERNAL, "tg_sweep_write_slurm: the output folder %s is not "
                                             "absolute", sw->directory);
     const tg_sweep_cluster *cl = &sw->cluster;
-    char path[TG_PATH_LEN + 16];
+    char path[TG_PATH_LEN + 16], tmp[TG_PATH_LEN + 32];
     const char *names[3] = {"", ".collect", ".submit"};
     for (int s = 0; s < 3; s++) {
         snprintf(path, sizeof path, "%s%s", script, names[s]);
-        FILE *f = fopen(path, "w");
+        FILE *f = tg_tmp_open(path, tmp, sizeof tmp, st);
         if (!f)
-            return tg_fail(st, TG_ERR_IO, "cannot write %s: %s", path, strerror(errno));
+            return st->code;
         fprintf(f, "#!/bin/bash\n");
         if (s == 0) {
             fprintf(f, "# Job array of the sweep %s: task K runs member K (%d members).\n"
@@ -104,7 +108,7 @@ tg_code tg_sweep_write_slurm(const tg_sweep *sw, const char *script, const char 
                        "collect=${collect%%%%;*}\n", script);
             fputs("echo \"array job $array, collect job $collect\"\n", f);
         }
-        if ((rc = finish(f, path, st)) != TG_OK)
+        if ((rc = finish(f, tmp, path, st)) != TG_OK)
             return rc;
     }
     return TG_OK;
