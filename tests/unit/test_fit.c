@@ -26,7 +26,8 @@
  *     differences, second order: common practice);
  *   - errors: a fill value on an interior node names the variable and
  *     record; bad windows name --train/--test; an existing output is kept
- *     without overwrite.
+ *     without overwrite; a layer's failure is prefixed with its layer and
+ *     the message comes out whole (tg_fail formatting its own message).
  * A Check suite with its own main().
  *
  * Part of twingyre. GPL-3.0-or-later.
@@ -581,6 +582,19 @@ START_TEST(test_errors)
 }
 END_TEST
 
+/* tg_fit_run prefixes a layer's failure with tg_fail(st, rc, "layer %d: %s",
+ * f + 1, st->msg): the message must come out whole, not overwritten while
+ * it is read. */
+START_TEST(test_fail_prefixes_own_message)
+{
+    tg_status st;
+    tg_status_clear(&st);
+    tg_fail(&st, TG_ERR_NUMERIC, "fit: stlsq did not settle in %d iterations", 7);
+    ck_assert_int_eq(tg_fail(&st, st.code, "layer %d: %s", 2, st.msg), TG_ERR_NUMERIC);
+    ck_assert_str_eq(st.msg, "layer 2: fit: stlsq did not settle in 7 iterations");
+}
+END_TEST
+
 static Suite *suite(void)
 {
     Suite *s = suite_create("fit");
@@ -591,6 +605,7 @@ static Suite *suite(void)
     tcase_add_loop_test(tc, test_rows_equal_closure, 0, 2);
     tcase_add_loop_test(tc, test_flux_target, 0, 2);
     tcase_add_test(tc, test_errors);
+    tcase_add_test(tc, test_fail_prefixes_own_message);
     suite_add_tcase(s, tc);
     return s;
 }
