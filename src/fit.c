@@ -231,6 +231,8 @@ static tg_code solve_block(const std_problem *sp, const int *idx, int m, double 
     return TG_OK;
 }
 
+/* Physical coefficients of the kept columns, zeros elsewhere; a kept
+ * column's std (set by rvm, else -1) is left as it is. */
 static void finish(const std_problem *sp, tg_fit_result *r)
 {
     r->p = sp->p;
@@ -432,17 +434,8 @@ tg_code tg_fit_solve(const tg_fit_acc *a, const unsigned char *use, const char *
         case TG_FIT_RVM: rc = fit_rvm(sp, s, r, st); break;
         }
     }
-    if (rc == TG_OK) {
-        int keep_std[TG_FIT_MAX_TERMS];
-        for (int j = 0; j < a->p; j++)
-            keep_std[j] = r->std[j] >= 0;
-        double stds[TG_FIT_MAX_TERMS];
-        memcpy(stds, r->std, sizeof stds);
+    if (rc == TG_OK)
         finish(sp, r);
-        for (int j = 0; j < a->p; j++)
-            if (r->kept[j] && keep_std[j])
-                r->std[j] = stds[j];
-    }
     free(sp);
     return rc;
 }
