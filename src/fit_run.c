@@ -17,6 +17,7 @@
 #include "basis.h"
 #include "ncio_util.h"
 #include "strbuf.h"
+#include "textfile.h"
 
 enum { W_TRAIN = 0, W_TEST = 1 };
 
@@ -457,13 +458,7 @@ static tg_code check_window(int first, int last, int nrec, const char *opt, tg_s
 static tg_code dir_writable(const char *path, const char *opt, tg_status *st)
 {
     char dir[TG_PATH_LEN];
-    const char *slash = strrchr(path, '/');
-    if (!slash)
-        snprintf(dir, sizeof dir, ".");
-    else if (slash == path)
-        snprintf(dir, sizeof dir, "/");
-    else
-        snprintf(dir, sizeof dir, "%.*s", (int)(slash - path), path);
+    tg_dir_of(path, dir, sizeof dir);
     if (access(dir, W_OK | X_OK) != 0)
         return tg_fail(st, TG_ERR_IO, "%s %s: cannot write in directory %s: %s", opt, path, dir,
                        strerror(errno));
