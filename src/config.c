@@ -1389,15 +1389,8 @@ tg_code tg_config_load_file(tg_config *cfg, const char *path, tg_status *st)
         return rc;
     rc = load_buffer(cfg, path, buf, len, st);
     free(buf);
-    if (rc == TG_OK) {
-        const char *slash = strrchr(path, '/');
-        if (!slash)
-            snprintf(cfg->config_dir, sizeof cfg->config_dir, ".");
-        else if (slash == path)
-            snprintf(cfg->config_dir, sizeof cfg->config_dir, "/");
-        else
-            snprintf(cfg->config_dir, sizeof cfg->config_dir, "%.*s", (int)(slash - path), path);
-    }
+    if (rc == TG_OK)
+        tg_dir_of(path, cfg->config_dir, sizeof cfg->config_dir);
     return rc;
 }
 

@@ -231,6 +231,8 @@ static tg_code solve_block(const std_problem *sp, const int *idx, int m, double 
     return TG_OK;
 }
 
+/* Physical coefficients of the kept columns, zeros elsewhere; a kept
+ * column's std (set by rvm, else -1) is left as it is. */
 static void finish(const std_problem *sp, tg_fit_result *r)
 {
     r->p = sp->p;
@@ -432,17 +434,8 @@ tg_code tg_fit_solve(const tg_fit_acc *a, const unsigned char *use, const char *
         case TG_FIT_RVM: rc = fit_rvm(sp, s, r, st); break;
         }
     }
-    if (rc == TG_OK) {
-        int keep_std[TG_FIT_MAX_TERMS];
-        for (int j = 0; j < a->p; j++)
-            keep_std[j] = r->std[j] >= 0;
-        double stds[TG_FIT_MAX_TERMS];
-        memcpy(stds, r->std, sizeof stds);
+    if (rc == TG_OK)
         finish(sp, r);
-        for (int j = 0; j < a->p; j++)
-            if (r->kept[j] && keep_std[j])
-                r->std[j] = stds[j];
-    }
     free(sp);
     return rc;
 }
@@ -476,6 +469,23 @@ tg_fit_skill tg_fit_skill_of(const tg_fit_acc *a, const double *c)
     return k;
 }
 
+/* Training R^2 of the least-squares fit (ridge lambda) on the columns
+ * idx[0..m-1]. */
+static tg_code set_r2(const tg_fit_acc *a, const std_problem *sp, const int *idx, int m,
+                      double lambda, double *r2, tg_status *st)
+{
+    double x[TG_FIT_MAX_TERMS], coef[TG_FIT_MAX_TERMS] = {0};
+    int rank;
+    double cond;
+    tg_code rc = solve_block(sp, idx, m, lambda, x, &rank, &cond, NULL, st);
+    if (rc != TG_OK)
+        return rc;
+    for (int i = 0; i < m; i++)
+        coef[idx[i]] = x[i] * sp->tau / sp->sigma[idx[i]];
+    *r2 = tg_fit_skill_of(a, coef).r2;
+    return TG_OK;
+}
+
 tg_code tg_fit_path_backward(const tg_fit_acc *a, const unsigned char *use, double lambda,
                              tg_fit_path *path, tg_status *st)
 {
@@ -487,23 +497,15 @@ tg_code tg_fit_path_backward(const tg_fit_acc *a, const unsigned char *use, doub
     const int p = a->p;
     unsigned char kept[TG_FIT_MAX_TERMS];
     int idx[TG_FIT_MAX_TERMS] = {0};
-    double x[TG_FIT_MAX_TERMS], coef[TG_FIT_MAX_TERMS];
     for (int j = 0; j < p; j++)
         kept[j] = use ? use[j] : 1;
-    /* R^2 of the least-squares fit on a set. */
     for (int step = 0; rc == TG_OK; step++) {
         int m = kept_index(kept, p, idx);
         if (m == 0)
             break;
-        int rank;
-        double cond;
-        if ((rc = solve_block(sp, idx, m, lambda, x, &rank, &cond, NULL, st)) != TG_OK)
+        if ((rc = set_r2(a, sp, idx, m, lambda, &path->r2[step], st)) != TG_OK)
             break;
-        memset(coef, 0, sizeof coef);
-        for (int i = 0; i < m; i++)
-            coef[idx[i]] = x[i] * sp->tau / sp->sigma[idx[i]];
         path->nterms[step] = m;
-        path->r2[step] = tg_fit_skill_of(a, coef).r2;
         path->dropped[step] = -1;
         path->nsteps = step + 1;
         if (m == 1)
@@ -516,12 +518,9 @@ tg_code tg_fit_path_backward(const tg_fit_acc *a, const unsigned char *use, doub
             for (int i = 0; i < m; i++)
                 if (i != d)
                     sub[ms++] = idx[i];
-            if ((rc = solve_block(sp, sub, ms, lambda, x, &rank, &cond, NULL, st)) != TG_OK)
+            double r2;
+            if ((rc = set_r2(a, sp, sub, ms, lambda, &r2, st)) != TG_OK)
                 break;
-            memset(coef, 0, sizeof coef);
-            for (int i = 0; i < ms; i++)
-                coef[sub[i]] = x[i] * sp->tau / sp->sigma[sub[i]];
-            double r2 = tg_fit_skill_of(a, coef).r2;
             if (r2 > best_r2) {
                 best_r2 = r2;
                 best = idx[d];

@@ -13,6 +13,7 @@
 
 #include "basis.h"
 #include "closure_tools.h"
+#include "fit.h"
 #include "ncio_util.h"
 #include "twin.h"
 #include "twin_io.h"
@@ -23,7 +24,7 @@ static const char *const attr_names[NATTR] = {"filter", "command_line"};
 struct tg_fit_data {
     char path[TG_PATH_LEN];
     tg_fit_target target;
-    int p, terms[64];
+    int p, terms[TG_FIT_MAX_TERMS];
     int nl, nrec, no;
     long na;
     tg_model *m;
@@ -124,8 +125,8 @@ tg_fit_data *tg_fit_data_open(const char *path, tg_fit_target target, const int 
         tg_fail(st, TG_ERR_NOMEM, "fit: no memory to open %s", path);
         goto fail;
     }
-    if (p < 1 || p > 64) {
-        tg_fail(st, TG_ERR_INTERNAL, "fit: %d terms", p);
+    if (p < 1 || p > TG_FIT_MAX_TERMS) {
+        tg_fail(st, TG_ERR_INTERNAL, "fit: %d terms (1 to %d allowed)", p, TG_FIT_MAX_TERMS);
         goto fail;
     }
     if (snprintf(d->path, sizeof d->path, "%s", path) >= (int)sizeof d->path) {
@@ -289,8 +290,8 @@ tg_code tg_fit_data_rows(tg_fit_data *d, int rec, double *X, double *t, long lay
                                        "layer %d, node (x %d, y %d): fill value or not finite",
                                        d->path, rec, k + 1, i - g->o0, j - g->o0);
                 }
-            /* div F by the tools' centred differences: work = d_x F_x, then
-             * fx (its ring no longer needed) = d_y F_y on the active nodes. */
+            /* div F by the tools' centred differences: work = d_x F_x,
+             * work2 = d_y F_y, summed into work on the active nodes. */
             tl->ddx(tl->ctx, d->fx, d->work);
             tl->ddy(tl->ctx, d->fy, d->work2);
             for (int j = a0; j < a1; j++)

@@ -17,6 +17,7 @@
 #include "basis.h"
 #include "ncio_util.h"
 #include "strbuf.h"
+#include "textfile.h"
 
 enum { W_TRAIN = 0, W_TEST = 1 };
 
@@ -43,6 +44,7 @@ typedef struct {
     /* Design dump. */
     int dump_nc, d_row, v_design, v_target, v_layer, v_sample;
     size_t dump_rows;
+    int *dump_layer, *dump_sample; /* one sample's layer and sample columns (na) */
     char dump_tmp[TG_PATH_LEN + 64];
     int done, total;             /* samples read, for progress */
     /* Results: one per layer (separate) or one (shared). */
@@ -67,6 +69,10 @@ static tg_code dump_open(fit_ctx *k, tg_status *st)
     tg_code rc;
     const tg_fit_options *o = k->o;
     int d_term, old;
+    k->dump_layer = malloc(sizeof(int) * (size_t)k->na);
+    k->dump_sample = malloc(sizeof(int) * (size_t)k->na);
+    if (!k->dump_layer || !k->dump_sample)
+        return tg_fail(st, TG_ERR_NOMEM, "fit: no memory for the design dump");
     snprintf(k->dump_tmp, sizeof k->dump_tmp, "%s.tmp-%ld", o->dump_path, (long)getpid());
     NCTRY(nc_create(k->dump_tmp, NC_CLOBBER | NC_64BIT_OFFSET, &k->dump_nc), "creating the file",
           NULL);
@@ -121,12 +127,7 @@ static tg_code dump_chunk(fit_ctx *k, int s0, int ns, tg_status *st)
 {
     tg_code rc;
     const long stride = (long)k->o->chunk_samples * k->na;
-    int *lay = malloc(sizeof(int) * (size_t)k->na), *smp = malloc(sizeof(int) * (size_t)k->na);
-    if (!lay || !smp) {
-        free(lay);
-        free(smp);
-        return tg_fail(st, TG_ERR_NOMEM, "fit: no memory");
-    }
+    int *lay = k->dump_layer, *smp = k->dump_sample;
     for (int l = 0; l < k->nl; l++)
         for (int s = 0; s < ns; s++) {
             const double *X = k->X + (l * stride + s * k->na) * k->p;
@@ -143,15 +144,10 @@ static tg_code dump_chunk(fit_ctx *k, int s0, int ns, tg_status *st)
                 (rc = tg_nc_check(nc_put_vara_int(k->dump_nc, k->v_layer, st2, ct, lay),
                                   k->dump_tmp, "writing", "layer", st)) ||
                 (rc = tg_nc_check(nc_put_vara_int(k->dump_nc, k->v_sample, st2, ct, smp),
-                                  k->dump_tmp, "writing", "sample", st))) {
-                free(lay);
-                free(smp);
+                                  k->dump_tmp, "writing", "sample", st)))
                 return rc;
-            }
             k->dump_rows += (size_t)k->na;
         }
-    free(lay);
-    free(smp);
     return TG_OK;
 }
 
@@ -462,13 +458,7 @@ static tg_code check_window(int first, int last, int nrec, const char *opt, tg_s
 static tg_code dir_writable(const char *path, const char *opt, tg_status *st)
 {
     char dir[TG_PATH_LEN];
-    const char *slash = strrchr(path, '/');
-    if (!slash)
-        snprintf(dir, sizeof dir, ".");
-    else if (slash == path)
-        snprintf(dir, sizeof dir, "/");
-    else
-        snprintf(dir, sizeof dir, "%.*s", (int)(slash - path), path);
+    tg_dir_of(path, dir, sizeof dir);
     if (access(dir, W_OK | X_OK) != 0)
         return tg_fail(st, TG_ERR_IO, "%s %s: cannot write in directory %s: %s", opt, path, dir,
                        strerror(errno));
@@ -482,6 +472,8 @@ static void ctx_free(fit_ctx *k)
             tg_fit_acc_destroy(k->acc[w][l]);
     free(k->X);
     free(k->t);
+    free(k->dump_layer);
+    free(k->dump_sample);
     tg_fit_data_close(k->d);
     if (k->dump_nc >= 0) { /* a failed fit leaves no partial dump */
         (void)nc_close(k->dump_nc);

@@ -3,6 +3,7 @@
 
 #include <stdarg.h>
 #include <stdio.h>
+#include <string.h>
 
 /* The one piece of global mutable state: the log sink. Set before work starts. */
 static tg_log_fn g_log_fn = NULL;
@@ -11,10 +12,15 @@ static void *g_log_user = NULL;
 tg_code tg_fail(tg_status *st, tg_code code, const char *fmt, ...)
 {
     if (st) {
+        /* Formatted apart first: callers prefix the message they got,
+         * tg_fail(st, rc, "context: %s", st->msg), and vsnprintf must not
+         * read the buffer it writes. */
+        char buf[sizeof st->msg];
         va_list ap;
         va_start(ap, fmt);
-        vsnprintf(st->msg, sizeof st->msg, fmt, ap);
+        vsnprintf(buf, sizeof buf, fmt, ap);
         va_end(ap);
+        memcpy(st->msg, buf, sizeof buf);
         st->code = code;
     }
     return code;

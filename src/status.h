@@ -33,7 +33,8 @@ typedef struct {
     char msg[TG_MSG_LEN];
 } tg_status;
 
-/* Sets st->code and st->msg (printf-style) and returns code; st may be NULL. */
+/* Sets st->code and st->msg (printf-style) and returns code; st may be NULL.
+ * The arguments may include st->msg itself (a context prefixed to it). */
 tg_code tg_fail(tg_status *st, tg_code code, const char *fmt, ...)
     __attribute__((format(printf, 3, 4)));
 

@@ -113,6 +113,17 @@ tg_code tg_tmp_commit(FILE *f, const char *tmp, const char *path, tg_status *st)
     return TG_OK;
 }
 
+void tg_dir_of(const char *path, char *dir, size_t n)
+{
+    const char *slash = strrchr(path, '/');
+    if (!slash)
+        snprintf(dir, n, ".");
+    else if (slash == path)
+        snprintf(dir, n, "/");
+    else
+        snprintf(dir, n, "%.*s", (int)(slash - path), path);
+}
+
 void tg_json_number(FILE *f, double v)
 {
     if (isfinite(v))

@@ -1,8 +1,8 @@
 /* textfile.h - the library's small file-system and text helpers: a whole
- * text file read into memory, folders made as needed (mkdir -p), text files
- * written under PATH.tmp and
- * renamed into place only when complete (so an existing file is never left
- * half-written), and JSON numbers and strings (RFC 8259) for the files
+ * text file read into memory, folders made as needed (mkdir -p), the folder
+ * of a path, text files written under PATH.tmp and renamed into place only
+ * when complete (so an existing file is never left half-written), and JSON
+ * numbers and strings (RFC 8259) for the files
  * written straight to a FILE (skill.json, sweep.json).
  *
  * Part of twingyre. GPL-3.0-or-later.
@@ -25,6 +25,10 @@ tg_code tg_read_text(const char *path, const char *what, long max, char **out, s
 /* Creates path and its missing parents; TG_ERR_IO naming the folder that
  * could not be made, or a file that stands in the way. */
 tg_code tg_make_dirs(const char *path, tg_status *st);
+
+/* The folder of path: "." when it has no slash, "/" for a file in the root,
+ * else everything before the last slash (cut to n - 1 bytes). */
+void tg_dir_of(const char *path, char *dir, size_t n);
 
 /* Opens tmp = "path.tmp" (n bytes at tmp) for writing; NULL and a message
  * in st when it cannot. */

@@ -54,6 +54,24 @@ typedef struct {
 /* Configs                                                             */
 /* ------------------------------------------------------------------ */
 
+/* The next item of the comma-separated list at *p, without its blanks, as
+ * [*a, *e); *p moves past the item's comma. 0 at the end of the list. */
+static int next_item(const char **p, const char **a, const char **e)
+{
+    if (**p == '\0')
+        return 0;
+    const size_t len = strcspn(*p, ",");
+    const char *s = *p, *t = *p + len;
+    while (s < t && (*s == ' ' || *s == '\t'))
+        s++;
+    while (t > s && (t[-1] == ' ' || t[-1] == '\t'))
+        t--;
+    *a = s;
+    *e = t;
+    *p += len + ((*p)[len] == ',');
+    return 1;
+}
+
 /* Keeps only the raw closure entries that the closure list of cfg uses
  * ([closure] and the sections of its schemes); *used_out (may be NULL) gets
  * the sections kept, to report unused ones once. */
@@ -76,18 +94,12 @@ static tg_code keep_used_sections(tg_config *cfg, const char *origin, char used[
     for (int r = 0; r < cfg->nraw; r++) {
         const char *sec = cfg->raw[r].section;
         int keep = !strcmp(sec, "closure");
-        for (const char *p = use ? use->value : ""; *p && !keep;) {
-            size_t len = strcspn(p, ",");
-            const char *a = p, *e = p + len;
-            while (a < e && (*a == ' ' || *a == '\t'))
-                a++;
-            while (e > a && (e[-1] == ' ' || e[-1] == '\t'))
-                e--;
+        const char *p = use ? use->value : "", *a, *e;
+        while (!keep && next_item(&p, &a, &e)) {
             if (!strncmp(a, "plugin:", 7))
                 keep = !strncmp(sec, "plugin.", 7);
             else
                 keep = strlen(sec) == (size_t)(e - a) && !strncmp(sec, a, (size_t)(e - a));
-            p += len + (p[len] == ',');
         }
         if (keep)
             tmp->raw[tmp->nraw++] = cfg->raw[r];
@@ -217,20 +229,10 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
     char entries[TG_MAX_CLOSURES + 1][TG_RAW_TEXT];
     int nent = 0;
     snprintf(entries[nent++], TG_RAW_TEXT, "none");
-    for (const char *p = cfg->twin_compare;;) {
-        size_t len = strcspn(p, ",");
-        const char *s = p, *e = p + len;
-        while (s < e && (*s == ' ' || *s == '\t'))
-            s++;
-        while (e > s && (e[-1] == ' ' || e[-1] == '\t'))
-            e--;
+    for (const char *p = cfg->twin_compare, *s, *e; next_item(&p, &s, &e);)
         if (e > s && !((size_t)(e - s) == 4 && !strncmp(s, "none", 4)) &&
             nent < TG_MAX_CLOSURES + 1)
             snprintf(entries[nent++], TG_RAW_TEXT, "%.*s", (int)(e - s), s);
-        if (p[len] == '\0')
-            break;
-        p += len + 1;
-    }
     if (nent > TG_MAX_CLOSURES)
         return tg_fail(st, TG_ERR_CONFIG, "%s: [twin] compare: at most %d closures besides none",
                        origin ? origin : "config", TG_MAX_CLOSURES - 1);

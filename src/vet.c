@@ -321,12 +321,9 @@ static tg_code reference_state(vet_ctx *c, tg_model *m, tg_status *st)
     tg_vet_report *r = c->r;
     tg_code rc;
     if (strcmp(cfg->vet_reference_state, "spinup") != 0) {
-        if ((rc = state_from_file(m, cfg->vet_reference_state, st)) != TG_OK) {
-            char why[TG_MSG_LEN];
-            snprintf(why, sizeof why, "%s", st->msg);
+        if ((rc = state_from_file(m, cfg->vet_reference_state, st)) != TG_OK)
             return tg_fail(st, rc, "%s: [vet] reference_state: %.900s",
-                           c->opt && c->opt->origin ? c->opt->origin : "config", why);
-        }
+                           c->opt && c->opt->origin ? c->opt->origin : "config", st->msg);
         snprintf(r->reference, sizeof r->reference, "file %s", cfg->vet_reference_state);
     } else {
         const long nsteps = steps_in(cfg->vet_spinup_days, cfg->step_s);

@@ -5,6 +5,7 @@
 #define _POSIX_C_SOURCE 200809L
 #include <errno.h>
 #include <math.h>
+#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -47,11 +48,15 @@ static void show(int done, int total, void *user)
     fflush(stderr);
 }
 
-static int usage_error(const char *fmt, const char *a, const char *b)
+static int usage_error(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
+static int usage_error(const char *fmt, ...)
 {
+    va_list ap;
+    va_start(ap, fmt);
     fprintf(stderr, "twingyre: fit: ");
-    fprintf(stderr, fmt, a, b);
+    vfprintf(stderr, fmt, ap);
     fprintf(stderr, " (see twingyre --help)\n");
+    va_end(ap);
     return cli_exit_code(TG_ERR_USAGE);
 }
 
@@ -161,7 +166,7 @@ int cmd_fit(int argc, char **argv)
         }
         if (a[0] != '-' || a[1] != '-') {
             if (o.input)
-                return usage_error("unexpected argument '%s' (one SUBGRID.nc only)%s", a, "");
+                return usage_error("unexpected argument '%s' (one SUBGRID.nc only)", a);
             o.input = a;
             continue;
         }
@@ -172,9 +177,9 @@ int cmd_fit(int argc, char **argv)
         for (size_t w = 0; w < sizeof with_value / sizeof with_value[0]; w++)
             known |= !strcmp(a, with_value[w]);
         if (!known)
-            return usage_error("unknown option '%s'%s", a, "");
+            return usage_error("unknown option '%s'", a);
         if (!v)
-            return usage_error("%s needs a value%s", a, "");
+            return usage_error("%s needs a value", a);
         if (!strcmp(a, "--out")) {
             o.output = v;
         } else if (!strcmp(a, "--terms")) {
@@ -186,7 +191,7 @@ int cmd_fit(int argc, char **argv)
             else if (!strcmp(v, "shared"))
                 o.shared = 1;
             else
-                return usage_error("--layers: expected separate or shared, got '%s'%s", v, "");
+                return usage_error("--layers: expected separate or shared, got '%s'", v);
         } else if (!strcmp(a, "--method")) {
             if (!strcmp(v, "ols"))
                 o.set.method = TG_FIT_OLS;
@@ -197,55 +202,53 @@ int cmd_fit(int argc, char **argv)
             else if (!strcmp(v, "rvm"))
                 o.set.method = TG_FIT_RVM;
             else
-                return usage_error("--method: expected ols, ridge, stlsq or rvm, got '%s'%s", v,
-                                   "");
+                return usage_error("--method: expected ols, ridge, stlsq or rvm, got '%s'", v);
         } else if (!strcmp(a, "--ridge")) {
             if (parse_real(v, 0.0, &o.set.ridge))
-                return usage_error("--ridge: expected a real number >= 0, got '%s'%s", v, "");
+                return usage_error("--ridge: expected a real number >= 0, got '%s'", v);
             have_ridge = 1;
         } else if (!strcmp(a, "--threshold")) {
             if (parse_real(v, 0.0, &o.set.threshold))
-                return usage_error("--threshold: expected a real number >= 0, got '%s'%s", v, "");
+                return usage_error("--threshold: expected a real number >= 0, got '%s'", v);
         } else if (!strcmp(a, "--prune-alpha")) {
             if (parse_real(v, 1.0, &o.set.alpha_max))
-                return usage_error("--prune-alpha: expected a real number >= 1, got '%s'%s", v,
-                                   "");
+                return usage_error("--prune-alpha: expected a real number >= 1, got '%s'", v);
         } else if (!strcmp(a, "--train")) {
             if (parse_range(v, &o.train_first, &o.train_last))
                 return usage_error("--train: expected FIRST:LAST sample indices with FIRST <= "
-                                   "LAST, got '%s'%s", v, "");
+                                   "LAST, got '%s'", v);
         } else if (!strcmp(a, "--test")) {
             if (parse_range(v, &o.test_first, &o.test_last))
                 return usage_error("--test: expected FIRST:LAST sample indices with FIRST <= "
-                                   "LAST, got '%s'%s", v, "");
+                                   "LAST, got '%s'", v);
         } else if (!strcmp(a, "--target")) {
             if (!strcmp(v, "forcing"))
                 o.target = TG_FIT_TARGET_FORCING;
             else if (!strcmp(v, "flux"))
                 o.target = TG_FIT_TARGET_FLUX;
             else
-                return usage_error("--target: expected forcing or flux, got '%s'%s", v, "");
+                return usage_error("--target: expected forcing or flux, got '%s'", v);
         } else if (!strcmp(a, "--chunk-samples")) {
             if (parse_int(v, 1, 100000, &o.chunk_samples))
                 return usage_error("--chunk-samples: expected a whole number from 1 to 100000, "
-                                   "got '%s'%s", v, "");
+                                   "got '%s'", v);
         } else if (!strcmp(a, "--dump-design")) {
             o.dump_path = v;
         } else if (!strcmp(a, "--threads")) {
             if (parse_int(v, 1, 4096, &threads))
-                return usage_error("--threads: expected a whole number >= 1, got '%s'%s", v, "");
+                return usage_error("--threads: expected a whole number >= 1, got '%s'", v);
         } else {
-            return usage_error("unknown option '%s'%s", a, "");
+            return usage_error("unknown option '%s'", a);
         }
         i++;
     }
     if (!o.input)
-        return usage_error("missing SUBGRID.nc (a twin's subgrid.nc)%s%s", "", "");
+        return usage_error("missing SUBGRID.nc (a twin's subgrid.nc)");
     if (!o.output)
-        return usage_error("missing --out COEFFS (the coefficients file to write)%s%s", "", "");
+        return usage_error("missing --out COEFFS (the coefficients file to write)");
     if (have_ridge && o.set.method != TG_FIT_RIDGE && o.set.method != TG_FIT_STLSQ)
-        return usage_error("--ridge applies to --method ridge or stlsq, not %s%s",
-                           tg_fit_method_name(o.set.method), "");
+        return usage_error("--ridge applies to --method ridge or stlsq, not %s",
+                           tg_fit_method_name(o.set.method));
     if (o.set.method == TG_FIT_STLSQ && !have_ridge)
         o.set.ridge = 0.0;
 #ifdef _OPENMP

@@ -4,8 +4,9 @@
 # skill.csv and skill.json hold the documented variables and keys (read with
 # Debian's python3-xarray and the json module); two skill values are
 # recomputed from the files; the report builds with all its figures; bad
-# [twin] settings are refused with file:line and exit status 2 before
-# anything is written; `run` ignores [twin].
+# [twin] settings (among them a coefficients: entry without a file or with
+# one that does not load) are refused with file:line and exit status 2
+# before anything is written; `run` ignores [twin].
 #
 # Environment: TWINGYRE (the program; default /tmp/twingyre), TG_SRCDIR (top
 # of the source tree; default this script's ../..), PYTHON (default
@@ -321,6 +322,12 @@ expect_bad unknown "[twin.coarse] override with an unknown key" \
     "unknown.ini:" "[twin.coarse] dissipation.viscosity" "did you mean"
 expect_bad name "[twin] compare with a misspelt closure" \
     's/^compare = smagorinsky,/compare = smagorinksy,/' "[twin] compare" "did you mean smagorinsky"
+expect_bad fitnone "[twin] compare entry coefficients: without a file" \
+    's/^compare = smagorinsky,/compare = coefficients:, smagorinsky,/' "[twin] compare" \
+    "coefficients: needs a file"
+expect_bad fitmissing "[twin] compare with a coefficients file that does not load" \
+    's/^compare = smagorinsky,/compare = coefficients:nowhere.txt, smagorinsky,/' \
+    "[twin] compare" "nowhere.txt" "does not load"
 expect_bad sample "sample interval not a whole number of coarse steps" \
     's/^sample_every_days = 5/sample_every_days = 0.125/' "[twin] sample_every_days" "coarse steps"
 expect_bad window "window not a whole number of samples" \

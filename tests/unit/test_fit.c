@@ -19,6 +19,10 @@
  *     solution equals a QR least-squares solve of the whole matrix
  *     (LAPACKE_dgels; Golub & Van Loan 2013, Matrix Computations, section
  *     5.3); the command's --chunk-samples 1 and 5 give the same file;
+ *   - the backward-elimination path drops the irrelevant column first and
+ *     its R^2 values are those of the least-squares fits on each set
+ *     (Hastie, Tibshirani & Friedman 2009, section 3.3.2; the R^2
+ *     definition, common practice);
  *   - the rows read from a file equal what a running `coefficients`
  *     closure computes on the same coarse state (sum c_t T_t), in a basin
  *     and in the periodic domain; the forcing target is -S_q exactly, the
@@ -26,7 +30,8 @@
  *     differences, second order: common practice);
  *   - errors: a fill value on an interior node names the variable and
  *     record; bad windows name --train/--test; an existing output is kept
- *     without overwrite.
+ *     without overwrite; a layer's failure is prefixed with its layer and
+ *     the message comes out whole (tg_fail formatting its own message).
  * A Check suite with its own main().
  *
  * Part of twingyre. GPL-3.0-or-later.
@@ -409,6 +414,61 @@ START_TEST(test_chunked_equals_direct)
 END_TEST
 
 /* ---------------------------------------------------------------------- */
+/* Backward-elimination path                                                */
+/* ---------------------------------------------------------------------- */
+
+/* Three independent normal columns, t = 3 x0 + x1 + 0.05 noise (x2 not in
+ * it): the path drops x2, then x1 (backward elimination, Hastie, Tibshirani
+ * & Friedman 2009, The Elements of Statistical Learning, section 3.3.2);
+ * its first R^2 is that of the full least-squares fit, and its last the
+ * R^2 of the one-column least-squares fit on x0, 1 - SSE/SST with
+ * SSE = t.t - (x0.t)^2 / (x0.x0) (the definitions; common practice). */
+START_TEST(test_backward_path)
+{
+    enum { P = 3, N = 400 };
+    double X[N * P], t[N];
+    double x0t = 0.0, x0x0 = 0.0, tt = 0.0, ts = 0.0;
+    for (int r = 0; r < N; r++) {
+        double z[2], w[2];
+        tg_normal2(5, 0x9a7u, 0, (uint32_t)r, z);
+        tg_normal2(5, 0x9a8u, 0, (uint32_t)r, w);
+        X[r * P + 0] = z[0];
+        X[r * P + 1] = z[1];
+        X[r * P + 2] = w[0];
+        t[r] = 3.0 * z[0] + z[1] + 0.05 * w[1];
+        x0t += z[0] * t[r];
+        x0x0 += z[0] * z[0];
+        tt += t[r] * t[r];
+        ts += t[r];
+    }
+    tg_status st;
+    tg_fit_acc *a = tg_fit_acc_create(P, &st);
+    ck_assert_ptr_nonnull(a);
+    tg_fit_acc_add_rows(a, X, t, N);
+    tg_fit_path path;
+    ck_assert_msg(tg_fit_path_backward(a, NULL, 0.0, &path, &st) == TG_OK, "%s", st.msg);
+    ck_assert_int_eq(path.nsteps, 3);
+    for (int s = 0; s < 3; s++)
+        ck_assert_int_eq(path.nterms[s], 3 - s);
+    ck_assert_int_eq(path.dropped[0], 2);
+    ck_assert_int_eq(path.dropped[1], 1);
+    ck_assert_int_eq(path.dropped[2], -1);
+    tg_fit_settings set;
+    tg_fit_settings_default(&set);
+    tg_fit_result res;
+    ck_assert_msg(tg_fit_solve(a, NULL, NULL, &set, &res, &st) == TG_OK, "%s", st.msg);
+    const double full = tg_fit_skill_of(a, res.coef).r2;
+    ck_assert_msg(fabs(path.r2[0] - full) <= 1e-12, "full set: path %.17g, fit %.17g",
+                  path.r2[0], full);
+    const double one = 1.0 - (tt - x0t * x0t / x0x0) / (tt - ts * ts / N);
+    ck_assert_msg(fabs(path.r2[2] - one) <= 1e-10, "x0 alone: path %.17g, direct %.17g",
+                  path.r2[2], one);
+    ck_assert(path.r2[0] >= path.r2[1] && path.r2[1] >= path.r2[2]);
+    tg_fit_acc_destroy(a);
+}
+END_TEST
+
+/* ---------------------------------------------------------------------- */
 /* Rows from a file against a running closure                               */
 /* ---------------------------------------------------------------------- */
 
@@ -581,6 +641,19 @@ START_TEST(test_errors)
 }
 END_TEST
 
+/* tg_fit_run prefixes a layer's failure with tg_fail(st, rc, "layer %d: %s",
+ * f + 1, st->msg): the message must come out whole, not overwritten while
+ * it is read. */
+START_TEST(test_fail_prefixes_own_message)
+{
+    tg_status st;
+    tg_status_clear(&st);
+    tg_fail(&st, TG_ERR_NUMERIC, "fit: stlsq did not settle in %d iterations", 7);
+    ck_assert_int_eq(tg_fail(&st, st.code, "layer %d: %s", 2, st.msg), TG_ERR_NUMERIC);
+    ck_assert_str_eq(st.msg, "layer 2: fit: stlsq did not settle in 7 iterations");
+}
+END_TEST
+
 static Suite *suite(void)
 {
     Suite *s = suite_create("fit");
@@ -588,9 +661,11 @@ static Suite *suite(void)
     tcase_set_timeout(tc, 120);
     tcase_add_loop_test(tc, test_recovery, TG_FIT_OLS, TG_FIT_RVM + 1);
     tcase_add_test(tc, test_chunked_equals_direct);
+    tcase_add_test(tc, test_backward_path);
     tcase_add_loop_test(tc, test_rows_equal_closure, 0, 2);
     tcase_add_loop_test(tc, test_flux_target, 0, 2);
     tcase_add_test(tc, test_errors);
+    tcase_add_test(tc, test_fail_prefixes_own_message);
     suite_add_tcase(s, tc);
     return s;
 }

@@ -3,7 +3,9 @@
  * message naming it; tg_make_dirs makes nested
  * folders, accepts existing ones and refuses a file in the way;
  * tg_tmp_open/tg_tmp_commit put the whole text at PATH (replacing an older
- * file) and leave no PATH.tmp behind; tg_json_string and tg_json_number
+ * file) and leave no PATH.tmp behind; tg_dir_of gives a path's folder
+ * (".", "/" or the part before the last slash, as POSIX dirname does for
+ * these cases: common practice); tg_json_string and tg_json_number
  * write what RFC 8259 allows.
  *
  * Sources: the escapes of '"', '\\' and control characters as \uXXXX, and
@@ -163,6 +165,22 @@ START_TEST(test_json)
 }
 END_TEST
 
+START_TEST(test_dir_of)
+{
+    char d[16];
+    tg_dir_of("twin.ini", d, sizeof d);
+    ck_assert_str_eq(d, ".");
+    tg_dir_of("/twin.ini", d, sizeof d);
+    ck_assert_str_eq(d, "/");
+    tg_dir_of("cfg/sub/twin.ini", d, sizeof d);
+    ck_assert_str_eq(d, "cfg/sub");
+    tg_dir_of("/a/b", d, sizeof d);
+    ck_assert_str_eq(d, "/a");
+    tg_dir_of("a-rather-long-folder/x", d, sizeof d); /* cut to the buffer */
+    ck_assert_str_eq(d, "a-rather-long-f");
+}
+END_TEST
+
 static Suite *suite(void)
 {
     Suite *s = suite_create("textfile");
@@ -171,6 +189,7 @@ static Suite *suite(void)
     tcase_add_test(tc, test_make_dirs);
     tcase_add_test(tc, test_tmp_commit);
     tcase_add_test(tc, test_json);
+    tcase_add_test(tc, test_dir_of);
     suite_add_tcase(s, tc);
     return s;
 }
