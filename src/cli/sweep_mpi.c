@@ -62,16 +62,29 @@ static int wait_child(const sweep_ctl *c, pid_t pid)
     }
 }
 
+/* A message that could not be sent or received leaves the other side
+ * waiting for it for ever (rank 0 for a request, a worker for its answer),
+ * so a failed exchange ends the whole job: what the members wrote stays,
+ * and the sweep resumes from it. */
+static int give_up(const char *what)
+{
+    fprintf(stderr, "twingyre: sweep: stopping every rank after the MPI failure (%s); members "
+                    "finished so far are kept, run the sweep again to resume\n", what);
+    MPI_Abort(MPI_COMM_WORLD, cli_exit_code(TG_ERR_INTERNAL));
+    return cli_exit_code(TG_ERR_INTERNAL); /* MPI_Abort does not return in practice */
+}
+
 static int worker(const sweep_ctl *c)
 {
     int msg[2] = {-1, 0};
     tg_status st;
     for (;;) {
         int k;
-        if (!mpi_ok(MPI_Send(msg, 2, MPI_INT, 0, TAG_ASK, MPI_COMM_WORLD), "asking for work") ||
-            !mpi_ok(MPI_Recv(&k, 1, MPI_INT, 0, TAG_GIVE, MPI_COMM_WORLD, MPI_STATUS_IGNORE),
+        if (!mpi_ok(MPI_Send(msg, 2, MPI_INT, 0, TAG_ASK, MPI_COMM_WORLD), "asking for work"))
+            return give_up("asking for work");
+        if (!mpi_ok(MPI_Recv(&k, 1, MPI_INT, 0, TAG_GIVE, MPI_COMM_WORLD, MPI_STATUS_IGNORE),
                     "receiving work"))
-            return cli_exit_code(TG_ERR_INTERNAL);
+            return give_up("receiving work");
         if (k < 0)
             return 0;
         tg_status_clear(&st);
@@ -123,13 +136,17 @@ static int leader(const sweep_ctl *c, int size)
         int flag = 0;
         MPI_Status ms;
         if (workers > 0 &&
-            !mpi_ok(MPI_Iprobe(MPI_ANY_SOURCE, TAG_ASK, MPI_COMM_WORLD, &flag, &ms), "probing"))
+            !mpi_ok(MPI_Iprobe(MPI_ANY_SOURCE, TAG_ASK, MPI_COMM_WORLD, &flag, &ms), "probing")) {
+            give_up("probing");
             break;
+        }
         if (flag) {
             int msg[2], give = -1;
             if (!mpi_ok(MPI_Recv(msg, 2, MPI_INT, ms.MPI_SOURCE, TAG_ASK, MPI_COMM_WORLD,
-                                 MPI_STATUS_IGNORE), "receiving a request"))
+                                 MPI_STATUS_IGNORE), "receiving a request")) {
+                give_up("receiving a request");
                 break;
+            }
             if (msg[0] >= 0 && msg[0] < sw->nmembers) {
                 tg_member_status mst; /* its run time, for the estimate */
                 const int known = tg_sweep_read_status(sw, msg[0], &mst, &st) == TG_OK &&
@@ -145,8 +162,10 @@ static int leader(const sweep_ctl *c, int size)
                 workers--;
             }
             if (!mpi_ok(MPI_Send(&give, 1, MPI_INT, ms.MPI_SOURCE, TAG_GIVE, MPI_COMM_WORLD),
-                        "handing out work"))
+                        "handing out work")) {
+                give_up("handing out work");
                 break;
+            }
             sweep_progress_show(&pr, 1);
             continue;
         }
