@@ -16,6 +16,7 @@
 #include "budget.h"
 #include "constants.h"
 #include "fdops.h"
+#include "initial.h"
 #include "model.h"
 #include "ncio.h"
 #include "spectrum.h"
@@ -134,38 +135,20 @@ static tg_code initial_state(run_ctx *c, long nsteps, tg_status *st)
 {
     const tg_config *cfg = c->cfg;
     tg_model *m = c->m;
-    switch (cfg->initial_kind) {
-    case TG_INIT_REST:
-        break; /* tg_model_create leaves the state at rest */
-    case TG_INIT_NOISE:
-        tg_model_set_noise(m, cfg->noise_amplitude_m2_per_s, cfg->seed);
-        break;
-    case TG_INIT_FILE: {
-        tg_initial_info info;
-        tg_code rc = tg_initial_read(cfg->initial_path, m->nout, m->nout, m->nl, c->psi_out,
-                                     c->q_out, &info, st);
-        if (rc != TG_OK)
-            return rc;
-        if (info.has_q && info.has_time) {
-            /* A checkpoint: resume at its step from its PV, bitwise. */
-            if (info.step < 0 || info.step > nsteps)
-                return tg_fail(st, TG_ERR_CONFIG,
-                               "%s: the checkpoint is at step %ld (day %.6g), outside this "
-                               "experiment's %ld steps ([time] duration_days counts from day 0)",
-                               cfg->initial_path, info.step, info.time_s / TG_SECONDS_PER_DAY,
-                               nsteps);
-            m->step = info.step;
-            tg_model_set_q(m, c->q_out);
-            tg_code rc2 = load_extras(c, cfg->initial_path, st);
-            if (rc2 != TG_OK)
-                return rc2;
-        } else {
-            tg_model_set_psi(m, c->psi_out);
-        }
-        break;
-    }
-    }
-    return TG_OK;
+    tg_initial_info info;
+    tg_code rc = tg_state_initial(m, cfg, &info, st);
+    if (rc != TG_OK || !(info.has_q && info.has_time))
+        return rc;
+    /* A checkpoint (initial.h took its PV): resume at its step, with the
+     * closures' own variables, bitwise. */
+    if (info.step < 0 || info.step > nsteps)
+        return tg_fail(st, TG_ERR_CONFIG,
+                       "%s: the checkpoint is at step %ld (day %.6g), outside this "
+                       "experiment's %ld steps ([time] duration_days counts from day 0)",
+                       cfg->initial_path, info.step, info.time_s / TG_SECONDS_PER_DAY, nsteps);
+    m->step = info.step;
+    m->time_s = m->step * m->dt; /* as tg_model_invert sets it */
+    return load_extras(c, cfg->initial_path, st);
 }
 
 static void log_summary(const tg_model *m, const tg_diag *d, const tg_term_rates *r, double eres,

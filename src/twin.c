@@ -26,6 +26,7 @@
 #include "coarsen.h"
 #include "constants.h"
 #include "fdops.h"
+#include "initial.h"
 #include "geometry.h"
 #include "model.h"
 #include "ncio.h"
@@ -592,28 +593,15 @@ static tg_code ref_checkpoint(ref_ctx *r, const char *name, double time_s, long 
     return tg_checkpoint_write(path, &r->fine_grid, &ck, st);
 }
 
-/* Initial state of the reference: rest, noise or a file (a checkpoint's PV
- * is taken exactly; the twin's clock starts at 0 either way). */
+/* Initial state of the reference: rest, noise or a file (initial.h); the
+ * twin's clock starts at 0 even from a checkpoint. */
 static tg_code ref_initial(ref_ctx *r, tg_status *st)
 {
-    const tg_config *cfg = &r->c->ref;
     tg_model *m = r->m;
-    if (cfg->initial_kind == TG_INIT_NOISE) {
-        tg_model_set_noise(m, cfg->noise_amplitude_m2_per_s, cfg->seed);
-    } else if (cfg->initial_kind == TG_INIT_FILE) {
-        tg_initial_info info;
-        tg_code rc = tg_initial_read(cfg->initial_path, m->nout, m->nout, m->nl, r->fine_psi,
-                                     r->fine_q, &info, st);
-        if (rc != TG_OK)
-            return rc;
-        if (info.has_q)
-            tg_model_set_q(m, r->fine_q);
-        else
-            tg_model_set_psi(m, r->fine_psi);
-        m->step = 0;
-        m->time_s = 0.0;
-    }
-    return TG_OK;
+    tg_code rc = tg_state_initial(m, &r->c->ref, NULL, st);
+    m->step = 0;
+    m->time_s = 0.0;
+    return rc;
 }
 
 static void report(const tg_twin_options *opt, const char *phase, int index, int count,

@@ -23,6 +23,7 @@
 #include "closure_host.h"
 #include "constants.h"
 #include "fdops.h"
+#include "initial.h"
 #include "ncio.h"
 #include "spectrum.h"
 #include "stepper.h"
@@ -252,43 +253,6 @@ static tg_code noise_fraction(tg_model *m, double *frac, tg_status *st)
 /* Reference state                                                     */
 /* ------------------------------------------------------------------ */
 
-/* Sets m's state from a file: q when the file has it (a checkpoint), else psi. */
-static tg_code state_from_file(tg_model *m, const char *path, tg_status *st)
-{
-    const size_t n = (size_t)m->nl * m->nout * m->nout;
-    double *psi = malloc(sizeof(double) * n), *q = malloc(sizeof(double) * n);
-    if (!psi || !q) {
-        free(psi);
-        free(q);
-        return tg_fail(st, TG_ERR_NOMEM, "vet: no memory to read %s", path);
-    }
-    tg_initial_info info;
-    tg_code rc = tg_initial_read(path, m->nout, m->nout, m->nl, psi, q, &info, st);
-    if (rc == TG_OK) {
-        if (info.has_q)
-            tg_model_set_q(m, q);
-        else
-            tg_model_set_psi(m, psi);
-    }
-    free(psi);
-    free(q);
-    return rc;
-}
-
-static tg_code initial_state(tg_model *m, const tg_config *cfg, tg_status *st)
-{
-    switch (cfg->initial_kind) {
-    case TG_INIT_REST:
-        return TG_OK;
-    case TG_INIT_NOISE:
-        tg_model_set_noise(m, cfg->noise_amplitude_m2_per_s, cfg->seed);
-        return TG_OK;
-    case TG_INIT_FILE:
-        return state_from_file(m, cfg->initial_path, st);
-    }
-    return TG_OK;
-}
-
 static void add_check(tg_vet_report *r, const char *name, const char *title, double figure,
                       const char *unit, const char *relation, double limit,
                       tg_vet_verdict verdict, const char *fmt, ...)
@@ -321,14 +285,14 @@ static tg_code reference_state(vet_ctx *c, tg_model *m, tg_status *st)
     tg_vet_report *r = c->r;
     tg_code rc;
     if (strcmp(cfg->vet_reference_state, "spinup") != 0) {
-        if ((rc = state_from_file(m, cfg->vet_reference_state, st)) != TG_OK)
+        if ((rc = tg_state_from_file(m, cfg->vet_reference_state, NULL, st)) != TG_OK)
             return tg_fail(st, rc, "%s: [vet] reference_state: %.900s",
                            c->opt && c->opt->origin ? c->opt->origin : "config", st->msg);
         snprintf(r->reference, sizeof r->reference, "file %s", cfg->vet_reference_state);
     } else {
         const long nsteps = steps_in(cfg->vet_spinup_days, cfg->step_s);
         start_phase(c, "spin-up with the closure");
-        if ((rc = initial_state(m, cfg, st)) != TG_OK)
+        if ((rc = tg_state_initial(m, cfg, NULL, st)) != TG_OK)
             return rc;
         march_result o;
         if ((rc = march(c, m, nsteps, NULL, &o, st)) != TG_OK)
@@ -347,7 +311,7 @@ static tg_code reference_state(vet_ctx *c, tg_model *m, tg_status *st)
             if (!mn)
                 return st->code;
             start_phase(c, "spin-up without the closure");
-            rc = initial_state(mn, cfg, st);
+            rc = tg_state_initial(mn, cfg, NULL, st);
             if (rc == TG_OK)
                 rc = march(c, mn, nsteps, NULL, &o, st);
             if (rc == TG_OK && !o.stable)
