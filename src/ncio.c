@@ -251,10 +251,9 @@ struct tg_fields_file {
     size_t nrec; /* records written */
 };
 
-/* The wavenumber dimension and coordinate, and ke_spectrum(time, layer,
- * wavenumber), in define mode. */
-static tg_code def_spectrum(int ncid, const char *path, const tg_nc_wavenumbers *wn, int d_time,
-                            int d_layer, int *v_k, int *v_spec, tg_status *st)
+tg_code tg_nc_def_spectrum(int ncid, const char *path, const tg_nc_wavenumbers *wn, int d_time,
+                           int d_layer, const char *long_name, int *v_k, int *v_spec,
+                           tg_status *st)
 {
     tg_code code;
     int d_k;
@@ -277,10 +276,8 @@ static tg_code def_spectrum(int ncid, const char *path, const tg_nc_wavenumbers 
     if ((code = tg_nc_check(nc_def_var(ncid, "ke_spectrum", NC_DOUBLE, 3, dims, v_spec), path,
                          "defining the variable", "ke_spectrum", st)) ||
         (code = tg_nc_put_text(ncid, *v_spec, "units", "m3 s-2", path, "ke_spectrum", st)) ||
-        (code = tg_nc_put_text(ncid, *v_spec, "long_name",
-                         "kinetic energy spectral density per unit mass; its sum times the bin "
-                         "width equals kinetic_energy in budget.nc",
-                         path, "ke_spectrum", st)))
+        (code = tg_nc_put_text(ncid, *v_spec, "long_name", long_name, path, "ke_spectrum",
+                               st)))
         return code;
     return TG_OK;
 }
@@ -333,7 +330,10 @@ tg_fields_file *tg_fields_create(const char *path, const tg_nc_grid *g,
     int dims[4] = {d_time, ids.d_layer, ids.d_y, ids.d_x};
     if ((code = def_psi_q(ncid, path, 4, dims, &f->v_psi, &f->v_q, st)))
         goto fail;
-    if (wn && (code = def_spectrum(ncid, path, wn, d_time, ids.d_layer, &v_k, &f->v_spec, st)))
+    if (wn && (code = tg_nc_def_spectrum(ncid, path, wn, d_time, ids.d_layer,
+                                         "kinetic energy spectral density per unit mass; its sum "
+                                         "times the bin width equals kinetic_energy in budget.nc",
+                                         &v_k, &f->v_spec, st)))
         goto fail;
     if ((code = tg_nc_globals(ncid, path, g, "twingyre snapshots of streamfunction and potential "
                                            "vorticity", st)))

@@ -36,4 +36,12 @@ tg_code tg_nc_def_grid(int ncid, const char *path, const tg_nc_grid *g, tg_nc_gr
 tg_code tg_nc_put_grid(int ncid, const char *path, const tg_nc_grid *g, const tg_nc_grid_ids *ids,
                        tg_status *st);
 
+/* The wavenumber dimension and coordinate variable (units, bin centres'
+ * long_name, bin_width, comment) and ke_spectrum(time, layer, wavenumber)
+ * in m3 s-2 with the given long_name, in define mode; the coordinate's
+ * values go in with nc_put_var_double(ncid, *v_k, wn->k) in data mode. */
+tg_code tg_nc_def_spectrum(int ncid, const char *path, const tg_nc_wavenumbers *wn, int d_time,
+                           int d_layer, const char *long_name, int *v_k, int *v_spec,
+                           tg_status *st);
+
 #endif

@@ -99,7 +99,7 @@ tg_record_file *tg_record_file_create(const char *path, const tg_nc_grid *g,
     f->nl = g->nlayers;
     f->nvars = nvars;
     f->nbins = wn ? wn->nbins : 0;
-    int ncid = -1, d_time, d_k = -1, v_k = -1, old;
+    int ncid = -1, d_time, v_k = -1, old;
     tg_nc_grid_ids id;
     TRY(nc_create(path, NC_CLOBBER | NC_64BIT_OFFSET, &ncid), "creating the file", NULL);
     TRY(nc_set_fill(ncid, NC_NOFILL, &old), "setting no-fill mode", NULL);
@@ -116,20 +116,10 @@ tg_record_file *tg_record_file_create(const char *path, const tg_nc_grid *g,
         snprintf(f->name[v], sizeof f->name[v], "%s", vars[v].name);
     }
     if (wn) {
-        TRY(nc_def_dim(ncid, "wavenumber", (size_t)wn->nbins, &d_k), "defining dimension",
-            "wavenumber");
-        TRY(nc_def_var(ncid, "wavenumber", NC_DOUBLE, 1, &d_k, &v_k), "defining", "wavenumber");
-        if ((code = tg_nc_put_text(ncid, v_k, "units", "rad m-1", path, "wavenumber", st)) ||
-            (code = tg_nc_put_text(ncid, v_k, "long_name", "isotropic wavenumber, bin centre", path,
-                             "wavenumber", st)))
-            goto fail;
-        TRY(nc_put_att_double(ncid, v_k, "bin_width", NC_DOUBLE, 1, &wn->bin_width),
-            "writing attribute \"bin_width\"", "wavenumber");
-        const int sd[3] = {d_time, id.d_layer, d_k};
-        const tg_twin_var sv = {"ke_spectrum", "m3 s-2",
-                                "kinetic energy spectral density per unit mass; its sum times "
-                                "the bin width is the layer's kinetic energy", 0};
-        if ((code = def_var(ncid, path, &sv, 3, sd, &f->v_spec, st)))
+        if ((code = tg_nc_def_spectrum(ncid, path, wn, d_time, id.d_layer,
+                                       "kinetic energy spectral density per unit mass; its "
+                                       "sum times the bin width is the layer's kinetic energy",
+                                       &v_k, &f->v_spec, st)))
             goto fail;
     }
     if ((code = globals(ncid, path, g, atts, natts, st)))
