@@ -23,6 +23,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "unit_util.h"
+
 /* Deterministic uniform numbers in [-1, 1) from a 64-bit linear
  * congruential generator (common practice). */
 static double next_uniform(uint64_t *s)
@@ -48,14 +50,6 @@ static tg_config layered_config(int nl, int points)
         cfg.reduced_gravity_m_s2[1] = 0.0125;
     }
     return cfg;
-}
-
-static tg_model *make_model(const tg_config *cfg)
-{
-    tg_status st;
-    tg_model *m = tg_model_create(cfg, &st);
-    ck_assert_msg(m != NULL, "model: %s", st.msg);
-    return m;
 }
 
 /* ---------------------------------------------------------------------- */
@@ -172,7 +166,7 @@ static void sums(const tg_geometry *g, const double *a, double ashift, const dou
 START_TEST(budget_closes)
 {
     tg_config cfg = layered_config(2, 65);
-    tg_model *m = make_model(&cfg);
+    tg_model *m = tg_unit_model(&cfg);
     const int nl = m->nl;
     tg_model_set_noise(m, 2e3, 11u);
     tg_status st;
@@ -237,7 +231,7 @@ END_TEST
 START_TEST(advection_energy_rate_zero)
 {
     tg_config cfg = layered_config(2, 33);
-    tg_model *m = make_model(&cfg);
+    tg_model *m = tg_unit_model(&cfg);
     tg_model_set_noise(m, 2e3, 12u);
     tg_status st;
     for (int s = 0; s < 20; s++) {
@@ -286,7 +280,7 @@ START_TEST(advection_enstrophy_rate_zero_with_zero_wall_pv)
     tg_config cfg = layered_config(1, 33);
     cfg.beta_per_m_per_s = 0.0;
     cfg.wall_condition = TG_WALL_FREE_SLIP;
-    tg_model *m = make_model(&cfg);
+    tg_model *m = tg_unit_model(&cfg);
     tg_model_set_noise(m, 2e3, 13u);
     tg_status st;
     for (int s = 0; s < 20; s++) {
@@ -304,7 +298,7 @@ END_TEST
 START_TEST(advection_enstrophy_rate_is_the_wall_flux)
 {
     tg_config cfg = layered_config(2, 33);
-    tg_model *m = make_model(&cfg);
+    tg_model *m = tg_unit_model(&cfg);
     tg_model_set_noise(m, 2e3, 14u);
     tg_status st;
     for (int s = 0; s < 10; s++)
@@ -397,7 +391,7 @@ START_TEST(energy_equals_direct_sum_noise)
 {
     const int nl = _i + 1;
     tg_config cfg = layered_config(nl, 65);
-    tg_model *m = make_model(&cfg);
+    tg_model *m = tg_unit_model(&cfg);
     tg_model_set_noise(m, 5e3, 15u + (uint64_t)nl);
     check_energy(m);
     tg_model_destroy(m);
@@ -410,7 +404,7 @@ START_TEST(energy_equals_direct_sum_random)
 {
     const int nl = _i + 2;
     tg_config cfg = layered_config(nl, 33);
-    tg_model *m = make_model(&cfg);
+    tg_model *m = tg_unit_model(&cfg);
     const long n = (long)nl * m->nout * m->nout;
     double *in = malloc(sizeof(double) * (size_t)n);
     ck_assert_ptr_nonnull(in);
@@ -451,9 +445,5 @@ static Suite *budget_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(budget_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(budget_suite());
 }

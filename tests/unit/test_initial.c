@@ -34,14 +34,6 @@ static tg_config small_config(void)
     return cfg;
 }
 
-static tg_model *make_model(const tg_config *cfg)
-{
-    tg_status st;
-    tg_model *m = tg_model_create(cfg, &st);
-    ck_assert_msg(m != NULL, "model: %s", st.msg);
-    return m;
-}
-
 /* The test's two states in output layout: psi_a (of state A) and q_b (the
  * PV of another state B), plus A's own q for comparison. */
 typedef struct {
@@ -54,7 +46,7 @@ typedef struct {
 static void make_states(states *s)
 {
     s->cfg = small_config();
-    tg_model *m = make_model(&s->cfg);
+    tg_model *m = tg_unit_model(&s->cfg);
     s->n = (size_t)m->nl * m->nout * m->nout;
     s->psi_a = malloc(sizeof(double) * s->n);
     s->q_a = malloc(sizeof(double) * s->n);
@@ -103,7 +95,7 @@ static void load(const states *s, const char *path, double *psi, double *q,
                  tg_initial_info *info)
 {
     tg_status st;
-    tg_model *m = make_model(&s->cfg);
+    tg_model *m = tg_unit_model(&s->cfg);
     ck_assert_msg(tg_state_from_file(m, path, info, &st) == TG_OK, "%s", st.msg);
     ck_assert_int_eq(m->step, 0); /* left to the caller */
     tg_model_pack(m, m->psi, psi);
@@ -183,7 +175,7 @@ START_TEST(initial_kinds)
     /* rest: the model as created (psi = 0) */
     tg_config cfg = s.cfg;
     cfg.initial_kind = TG_INIT_REST;
-    tg_model *m = make_model(&cfg);
+    tg_model *m = tg_unit_model(&cfg);
     ck_assert(tg_state_initial(m, &cfg, &info, &st) == TG_OK);
     ck_assert(!info.has_q && !info.has_time);
     tg_model_pack(m, m->psi, psi);
@@ -194,7 +186,7 @@ START_TEST(initial_kinds)
     cfg.initial_kind = TG_INIT_NOISE;
     cfg.noise_amplitude_m2_per_s = 1000.0;
     cfg.seed = 1;
-    m = make_model(&cfg);
+    m = tg_unit_model(&cfg);
     ck_assert(tg_state_initial(m, &cfg, &info, &st) == TG_OK);
     tg_model_pack(m, m->psi, psi);
     ck_assert(max_abs_diff(psi, s.psi_a, s.n) == 0.0);
@@ -203,7 +195,7 @@ START_TEST(initial_kinds)
     /* a file that is not there: the reader's error, naming the path */
     cfg.initial_kind = TG_INIT_FILE;
     snprintf(cfg.initial_path, sizeof cfg.initial_path, "%s/nowhere.nc", g_dir);
-    m = make_model(&cfg);
+    m = tg_unit_model(&cfg);
     ck_assert_int_eq(tg_state_initial(m, &cfg, &info, &st), TG_ERR_IO);
     ck_assert_msg(strstr(st.msg, "nowhere.nc") != NULL, "%s", st.msg);
     tg_model_destroy(m);

@@ -18,6 +18,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "unit_util.h"
+
 static const double PI = 3.14159265358979323846;
 
 /* One layer, nothing but beta (and what a test switches on). */
@@ -36,14 +38,6 @@ static tg_config one_layer_config(int points, double dt)
     cfg.hyperviscosity_m4_per_s = 0.0;
     cfg.step_s = dt;
     return cfg;
-}
-
-static tg_model *make_model(const tg_config *cfg)
-{
-    tg_status st;
-    tg_model *m = tg_model_create(cfg, &st);
-    ck_assert_msg(m != NULL, "model: %s", st.msg);
-    return m;
 }
 
 static void step_n(tg_model *m, int n, tg_term_rates *rates)
@@ -73,7 +67,7 @@ START_TEST(linear_problem_exact_update)
     cfg.bottom_drag_per_s = 0.5 / cfg.step_s;
     cfg.wind_profile = TG_WIND_DOUBLE_GYRE;
     cfg.stress_amplitude_pa = 0.1;
-    tg_model *m = make_model(&cfg);
+    tg_model *m = tg_unit_model(&cfg);
     const tg_geometry *g = m->geom;
     const int ns = g->ns, N = ns - 1, no = m->nout;
     const long npl = m->npl;
@@ -134,7 +128,7 @@ END_TEST
 static void rossby_run(double T, int nsteps, double *qout, long n)
 {
     tg_config cfg = one_layer_config(33, T / nsteps);
-    tg_model *m = make_model(&cfg);
+    tg_model *m = tg_unit_model(&cfg);
     const int no = m->nout;
     ck_assert_int_eq((long)no * no, n);
     double *psi = malloc(sizeof(double) * (size_t)n);
@@ -205,7 +199,7 @@ static void threaded_run(int threads, double *q, double *psi, tg_term_rates *rat
     tg_config_defaults(&cfg);
     cfg.points = 65;
     cfg.hyperviscosity_m4_per_s = 1e9;
-    tg_model *m = make_model(&cfg);
+    tg_model *m = tg_unit_model(&cfg);
     tg_model_set_noise(m, 5e3, 2024u);
     const size_t bytes = sizeof(double) * (size_t)m->nl * m->npl;
     if (q_initial)
@@ -254,9 +248,5 @@ static Suite *stepper_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(stepper_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(stepper_suite());
 }

@@ -1,7 +1,8 @@
 /* unit_util.h - what several Check suites in tests/unit share: running the
  * file's suite with every case and turning the result into the exit status
  * (0 when every case passed), optionally inside a scratch folder made for
- * the run and removed after it.
+ * the run and removed after it; a model made from a config or the case
+ * fails with the set-up's message.
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
@@ -11,6 +12,17 @@
 #include <check.h>
 #include <stdio.h>
 #include <stdlib.h>
+
+#include "model.h"
+
+/* tg_model_create(cfg), failing the running case with its message. */
+static inline tg_model *tg_unit_model(const tg_config *cfg)
+{
+    tg_status st;
+    tg_model *m = tg_model_create(cfg, &st);
+    ck_assert_msg(m != NULL, "model: %s", st.msg);
+    return m;
+}
 
 /* Runs s (and frees it with its runner); 1 when a case failed, else 0. */
 static inline int tg_unit_run(Suite *s)
