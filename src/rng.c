@@ -13,8 +13,8 @@ static inline void mulhilo(uint32_t a, uint32_t b, uint32_t *hi, uint32_t *lo)
 }
 
 /* Ten rounds of the Philox4x32 round function: two 32 x 32 -> 64-bit
- * multiplications per round, keys advanced by Weyl increments (the
- * constants below; rng.h names the source). */
+ * multiplications per round, the key words advanced by fixed increments
+ * after each round (the constants below; rng.h names the source). */
 void tg_philox4x32(const uint32_t ctr[4], const uint32_t key[2], uint32_t out[4])
 {
     uint32_t c0 = ctr[0], c1 = ctr[1], c2 = ctr[2], c3 = ctr[3];

@@ -17,10 +17,10 @@
 
 /* ---------------------------------------------------------------------- */
 /* Known-answer vectors of Philox4x32-10.
- * Source: the generator's reference known-answer vectors for these
- * counters and keys (values from memory); the algorithm as described in
- * L'Ecuyer, Munger, Oreshkin & Simard 2017, Math. Comput. Simul. 135, 3-17
- * (section from memory). The independent transcription below checks the
+ * Source: the algorithm as described in L'Ecuyer, Munger, Oreshkin &
+ * Simard 2017, Math. Comput. Simul. 135, 3-17 (section from memory); the
+ * expected outputs are that generator evaluated at these counters and keys
+ * (values from memory). The independent transcription below checks the
  * same generator on many more inputs. */
 typedef struct {
     uint32_t ctr[4], key[2], out[4];
@@ -50,8 +50,10 @@ START_TEST(philox_known_answers)
 END_TEST
 
 /* An independent straight transcription of the round function as the
- * algorithm is specified (multipliers 0xD2511F53 and 0xCD9E8D57, key
- * schedule by the Weyl constants 0x9E3779B9 and 0xBB67AE85, ten rounds), compared with the library on many inputs.
+ * algorithm is specified (multipliers 0xD2511F53 and 0xCD9E8D57; after
+ * each round the key words grow by 0x9E3779B9 and 0xBB67AE85, the
+ * fractional parts of the golden ratio and of sqrt(3) times 2^32; ten
+ * rounds), compared with the library on many inputs.
  * The known-answer vectors above are the authoritative check; this one
  * covers many more inputs and can only pass if both agree. */
 static void ref_philox(const uint32_t ctr[4], const uint32_t key[2], uint32_t out[4])
