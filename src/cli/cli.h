@@ -39,7 +39,11 @@ tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts 
 tg_code cli_parse_for(int argc, char **argv, int first, const char *allow, const char *what,
                       cli_opts *o, tg_status *st);
 
-/* defaults -> file -> each --set -> --out -> cross-key checks. */
+/* defaults -> file -> each --set -> --out (and --member), without the
+ * cross-key checks: for a command that makes checks of its own (twin). */
+tg_code cli_read_config(const cli_opts *o, tg_config *cfg, tg_status *st);
+
+/* cli_read_config, then the cross-key checks (tg_config_check). */
 tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st);
 
 /* Joins argv into one string (for the files' attributes); malloc'ed. */

@@ -71,21 +71,11 @@ int cmd_twin(int argc, char **argv)
     cli_opts o;
     tg_config *cfg = NULL;
     tg_code rc = cli_begin(argc, argv, "set out quiet overwrite threads", &o, &cfg, &st);
-    /* Like cli_load_config, but the checks are the twin's (tg_twin_run makes
-     * them all before it writes anything): [closure] sections of the
+    /* Not cli_load_config: the checks are the twin's (tg_twin_run makes
+     * them all before it writes anything), and [closure] sections of the
      * compared schemes are not unused here. */
-    if (rc == TG_OK) {
-        tg_config_defaults(cfg);
-        rc = tg_config_load_file(cfg, o.config_path, &st);
-        for (int i = 0; i < o.nsets && rc == TG_OK; i++)
-            rc = tg_config_set(cfg, o.sets[i], &st);
-        if (rc == TG_OK && o.out_dir) {
-            if (strlen(o.out_dir) >= sizeof cfg->out_directory)
-                rc = tg_fail(&st, TG_ERR_USAGE, "--out path is too long");
-            else
-                strcpy(cfg->out_directory, o.out_dir);
-        }
-    }
+    if (rc == TG_OK)
+        rc = cli_read_config(&o, cfg, &st);
     if (rc != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         free(cfg);

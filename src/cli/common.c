@@ -108,7 +108,7 @@ tg_code cli_parse(int argc, char **argv, int first, const char *allow, cli_opts 
     return cli_parse_for(argc, argv, first, allow, "config file", o, st);
 }
 
-tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st)
+tg_code cli_read_config(const cli_opts *o, tg_config *cfg, tg_status *st)
 {
     tg_code rc;
     tg_config_defaults(cfg);
@@ -123,7 +123,13 @@ tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st)
         strcpy(cfg->out_directory, o->out_dir);
     }
     cfg->member = o->member;
-    return tg_config_check(cfg, o->config_path, st);
+    return TG_OK;
+}
+
+tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st)
+{
+    tg_code rc = cli_read_config(o, cfg, st);
+    return rc != TG_OK ? rc : tg_config_check(cfg, o->config_path, st);
 }
 
 tg_code cli_begin(int argc, char **argv, const char *allow, cli_opts *o, tg_config **cfg,
