@@ -132,17 +132,22 @@ void tg_json_number(FILE *f, double v)
         fputs("null", f);
 }
 
+const char *tg_json_char(unsigned char ch, char buf[8])
+{
+    if (ch == '"' || ch == '\\')
+        snprintf(buf, 8, "\\%c", ch);
+    else if (ch < 0x20)
+        snprintf(buf, 8, "\\u%04x", ch);
+    else
+        snprintf(buf, 8, "%c", ch);
+    return buf;
+}
+
 void tg_json_string(FILE *f, const char *s)
 {
+    char buf[8];
     fputc('"', f);
-    for (; *s; s++) {
-        const unsigned char ch = (unsigned char)*s;
-        if (ch == '"' || ch == '\\')
-            fprintf(f, "\\%c", ch);
-        else if (ch < 0x20)
-            fprintf(f, "\\u%04x", ch);
-        else
-            fputc(ch, f);
-    }
+    for (; *s; s++)
+        fputs(tg_json_char((unsigned char)*s, buf), f);
     fputc('"', f);
 }

@@ -44,4 +44,10 @@ void tg_json_number(FILE *f, double v);
 /* s quoted, with '"', '\\' and control characters escaped. */
 void tg_json_string(FILE *f, const char *s);
 
+/* The JSON text of one character inside a string: itself, or its escape
+ * ('"' and '\\' by a backslash, control characters as \u00XX); written
+ * into buf, which the result points to. The one escaping rule of
+ * tg_json_string and of JSON built in memory (vet.json). */
+const char *tg_json_char(unsigned char ch, char buf[8]);
+
 #endif

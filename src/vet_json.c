@@ -11,23 +11,18 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "textfile.h"
+
 #ifndef PACKAGE_VERSION
 #define PACKAGE_VERSION "unknown"
 #endif
 
 static void jstr(tg_strbuf *b, const char *s)
 {
+    char buf[8];
     tg_sb_printf(b, "\"");
-    for (const unsigned char *p = (const unsigned char *)(s ? s : ""); *p; p++) {
-        if (*p == '"' || *p == '\\')
-            tg_sb_printf(b, "\\%c", *p);
-        else if (*p == '\n')
-            tg_sb_printf(b, "\\n");
-        else if (*p < 0x20)
-            tg_sb_printf(b, "\\u%04x", *p);
-        else
-            tg_sb_printf(b, "%c", *p);
-    }
+    for (const unsigned char *p = (const unsigned char *)(s ? s : ""); *p; p++)
+        tg_sb_printf(b, "%s", tg_json_char(*p, buf));
     tg_sb_printf(b, "\"");
 }
 
