@@ -13,7 +13,7 @@
 #include <math.h>
 #include <stdlib.h>
 
-#include "../src/rng.h"
+#include "rng.h"
 
 /* XORed into the key for draws that restart a field at a given step. */
 #define AR1_RESYNC_KEY 0x726573796e63ULL /* "resync" */

@@ -27,7 +27,7 @@
  * the walls.
  *
  * The white noise at the active node (a0 + 2h + e, a0 + r) of field f at
- * step n (e = 0, 1) is drawn by Philox (src/rng.h) as
+ * step n (e = 0, 1) is drawn by Philox (src/numerics/rng.h) as
  * tg_normal2(key, member, n, (f * nrows + r) * rowpairs + h)[e], rowpairs =
  * ceil(nrows / 2) (with an odd row length the last draw of a row uses one
  * of its two numbers): a pure function of
@@ -43,7 +43,7 @@
 #include <stddef.h>
 #include <stdint.h>
 
-#include "../src/closure.h"
+#include "closure.h"
 
 typedef struct tg_ar1 tg_ar1;
 

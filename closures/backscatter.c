@@ -29,7 +29,7 @@
  */
 #include <stdlib.h>
 
-#include "../src/closure.h"
+#include "closure.h"
 
 enum { P_NUB, P_A4, P_N };
 

@@ -62,7 +62,7 @@
 #include <math.h>
 #include <stdlib.h>
 
-#include "../src/closure.h"
+#include "closure.h"
 
 enum { P_CBACK, P_A4, P_TAU, P_KAPPA, P_E0, P_N };
 

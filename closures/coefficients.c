@@ -2,7 +2,7 @@
  *
  * The PV tendency of layer k is
  *     dq_k/dt = s * sum_t c_{k,t} T_t(psi_k, q_k, zeta_k)
- * with T_t the named terms of the basis library (src/basis.h: Laplacians
+ * with T_t the named terms of the basis library (src/model/basis.h: Laplacians
  * and bi-Laplacians of zeta and q, Jacobians, divergences of products of
  * velocity gradients), c_{k,t} read from a coefficients file and s the
  * parameter coefficient_scale. The form is that of equation-discovery
@@ -10,12 +10,12 @@
  * candidate terms selects the terms and fits the coefficients (Zanna &
  * Bolton 2020, Geophys. Res. Lett. 47, e2020GL088376, eqs. 5-6; Brunton,
  * Proctor & Kutz 2016, Proc. Natl. Acad. Sci. 113, 3932-3937, for the
- * sparse regression). The file format is described in src/basis.h.
+ * sparse regression). The file format is described in src/model/basis.h.
  *
  * Uncertain coefficients: with `sample = true`, each file line that gives
  * a standard deviation draws its coefficient once per ensemble member,
  *     c = mean + std * z,  z ~ N(0, 1)
- * (Box-Muller from Philox, src/rng.h), with z a pure function of
+ * (Box-Muller from Philox, src/numerics/rng.h), with z a pure function of
  * ([initial] seed, member, term, line's layer), so a member always gets the
  * same coefficients and members differ (parameter perturbation of an
  * ensemble; Palmer et al. 2009, ECMWF Tech. Memo. 598, section 4). A line
@@ -33,9 +33,9 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "../src/basis.h"
-#include "../src/closure.h"
-#include "../src/rng.h"
+#include "basis.h"
+#include "closure.h"
+#include "rng.h"
 
 enum { P_FILE, P_SAMPLE, P_SCALE, P_N };
 

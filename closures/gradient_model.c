@@ -42,7 +42,7 @@
  */
 #include <stdlib.h>
 
-#include "../src/closure.h"
+#include "closure.h"
 
 enum { P_WIDTH, P_COEF, P_N };
 

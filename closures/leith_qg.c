@@ -38,7 +38,7 @@
  */
 #include <stdlib.h>
 
-#include "../src/closure.h"
+#include "closure.h"
 #include "viscous.h"
 
 enum { P_C, P_BETA, P_N };

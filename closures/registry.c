@@ -7,7 +7,7 @@
  */
 #include <string.h>
 
-#include "../src/closure.h"
+#include "closure.h"
 
 #define TG_SCHEME(name) extern const tg_closure_ops tg_scheme_##name;
 #include "schemes.h"

@@ -32,7 +32,7 @@
 #include <math.h>
 #include <stdlib.h>
 
-#include "../src/closure.h"
+#include "closure.h"
 #include "viscous.h"
 
 enum { P_C, P_N };

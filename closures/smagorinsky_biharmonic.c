@@ -31,7 +31,7 @@
  */
 #include <stdlib.h>
 
-#include "../src/closure.h"
+#include "closure.h"
 #include "viscous.h"
 
 enum { P_C4, P_N };

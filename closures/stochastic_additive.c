@@ -36,7 +36,7 @@
  */
 #include <stdlib.h>
 
-#include "../src/closure.h"
+#include "closure.h"
 #include "ar1_noise.h"
 
 /* XORed into [initial] seed: this scheme's own random stream. */

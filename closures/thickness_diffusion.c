@@ -10,7 +10,7 @@
  *
  *   eta_i = (f0/g'_i) (psi_{i+1} - psi_i).
  *
- * With this sign, the stretching term of src/modes.h,
+ * With this sign, the stretching term of src/numerics/modes.h,
  *   (S psi)_k = f0^2/(g'_{k-1} H_k)(psi_{k-1} - psi_k) - f0^2/(g'_k H_k)(psi_k - psi_{k+1}),
  * is exactly
  *   (S psi)_k = (f0/H_k) (eta_k - eta_{k-1}),   eta_0 = eta_N = 0,
@@ -47,7 +47,7 @@
  */
 #include <stdlib.h>
 
-#include "../src/closure.h"
+#include "closure.h"
 
 enum { P_KAPPA, P_N };
 

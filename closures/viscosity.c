@@ -14,7 +14,7 @@
  */
 #include <stdlib.h>
 
-#include "../src/closure.h"
+#include "closure.h"
 
 enum { P_A2, P_A4, P_N };
 

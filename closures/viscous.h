@@ -12,7 +12,7 @@
 #ifndef TG_CLOSURES_VISCOUS_H
 #define TG_CLOSURES_VISCOUS_H
 
-#include "../src/closure.h"
+#include "closure.h"
 
 /* The grid a viscosity field lives on and the tools that differentiate on it. */
 typedef struct {

@@ -8,9 +8,9 @@
 #include <signal.h>
 #include <stdio.h>
 
-#include "../config.h"
-#include "../run.h"
-#include "../status.h"
+#include "config.h"
+#include "run.h"
+#include "status.h"
 
 /* Options every command that takes a config accepts. */
 typedef struct {

@@ -3,7 +3,7 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "../closure.h"
+#include "closure.h"
 #include "cli.h"
 
 static void print_scheme(const tg_closure_ops *o)

@@ -3,7 +3,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 
-#include "../scales.h"
+#include "scales.h"
 #include "cli.h"
 
 static void width_line(const char *what, double w, double dx)

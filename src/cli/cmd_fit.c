@@ -14,8 +14,8 @@
 #include <omp.h>
 #endif
 
-#include "../basis.h"
-#include "../fit_run.h"
+#include "basis.h"
+#include "fit_run.h"
 #include "cli.h"
 
 typedef struct {

@@ -8,7 +8,7 @@
 #include <omp.h>
 #endif
 
-#include "../run.h"
+#include "run.h"
 #include "cli.h"
 
 int cmd_run(int argc, char **argv)

@@ -12,8 +12,8 @@
 #include <omp.h>
 #endif
 
-#include "../twin.h"
-#include "../clock.h"
+#include "twin.h"
+#include "clock.h"
 #include "cli.h"
 
 /* One line per phase: updated in place on a terminal, otherwise printed at

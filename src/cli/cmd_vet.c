@@ -13,8 +13,8 @@
 #include <omp.h>
 #endif
 
-#include "../vet.h"
-#include "../clock.h"
+#include "vet.h"
+#include "clock.h"
 #include "cli.h"
 
 /* A terminal gets one line per phase updated in place; otherwise a line

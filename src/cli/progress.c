@@ -9,7 +9,7 @@
 #include <string.h>
 #include <unistd.h>
 
-#include "../clock.h"
+#include "clock.h"
 #include "cli.h"
 
 static int g_line_open = 0; /* a progress line is on stderr without a newline */

@@ -13,7 +13,7 @@
 #include <signal.h>
 #include <sys/types.h>
 
-#include "../sweep.h"
+#include "sweep.h"
 #include "cli.h"
 
 /* Environment variable that tells a member process the pid of the pool

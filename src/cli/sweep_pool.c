@@ -15,7 +15,7 @@
 #include <time.h>
 #include <unistd.h>
 
-#include "../clock.h"
+#include "clock.h"
 #include "cli.h"
 #include "sweep_cli.h"
 

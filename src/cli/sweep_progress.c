@@ -8,7 +8,7 @@
 #include <string.h>
 #include <unistd.h>
 
-#include "../clock.h"
+#include "clock.h"
 #include "cli.h"
 #include "sweep_cli.h"
 

@@ -191,7 +191,7 @@ fi
 # skill.json / skill.csv keys, and two metrics recomputed by hand from the files:
 # the kinetic-energy ratio (sum of ke_spectrum times the bin width, time mean)
 # and the pattern correlation of the time-mean psi with trapezoidal weights
-# (definitions in src/skill.h; Wilks 2011, section 8.6.4, from memory).
+# (definitions in src/numerics/skill.h; Wilks 2011, section 8.6.4, from memory).
 cat >"$T/skill.py" <<'EOF'
 import csv, json, math, sys
 import numpy as np

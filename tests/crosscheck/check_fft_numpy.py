@@ -1,6 +1,6 @@
 #!/usr/bin/python3
-"""check_fft_numpy.py - checks twingyre's 2-D real FFT (src/fourier.c) and
-kinetic-energy spectra (src/spectrum.c, ke_spectrum op of both geometries)
+"""check_fft_numpy.py - checks twingyre's 2-D real FFT (src/numerics/fourier.c) and
+kinetic-energy spectra (src/model/spectrum.c, ke_spectrum op of both geometries)
 with numpy, independently of the C code.
 
 Usage: /usr/bin/python3 check_fft_numpy.py [DATA]

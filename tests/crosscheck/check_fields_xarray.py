@@ -20,7 +20,7 @@ relative. The spectrum is normalized so that this is Parseval's relation for
 the discrete Fourier (periodic) or type-I sine (basin) transform, with the
 eigenvalue of the five-point Laplacian as the |K|^2 weight (Parseval's
 theorem for the DFT: Press et al. 2007, Numerical Recipes 3rd ed., section
-12.1, section number from memory; src/spectrum.h). The budget record at the
+12.1, section number from memory; src/model/spectrum.h). The budget record at the
 same time is the state the snapshot holds (a record describes the step that
 ends at its time); day 0 of a fresh run has a snapshot but no budget record
 and is skipped.

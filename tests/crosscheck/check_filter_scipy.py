@@ -1,7 +1,7 @@
 #!/usr/bin/python3
 """check_filter_scipy.py - checks twingyre's coarse-graining filters
-(src/coarsen.c with ops->filter_field of src/geom_basin.c and
-src/geom_periodic.c) against an independent implementation on scipy.fft.
+(src/model/coarsen.c with ops->filter_field of src/model/geom_basin.c and
+src/model/geom_periodic.c) against an independent implementation on scipy.fft.
 
 Usage: /usr/bin/python3 check_filter_scipy.py [DATA]
 

@@ -1,4 +1,4 @@
-/* test_arakawa.c - unit tests of the Jacobian and Laplacian (src/fdops.c)
+/* test_arakawa.c - unit tests of the Jacobian and Laplacian (src/model/fdops.c)
  * on the closed basin.
  *
  * Checks second-order convergence of tg_jacobian and tg_laplacian on smooth

@@ -1,4 +1,4 @@
-/* test_basis.c - unit tests of the basis-term library (src/basis.h, src/basis.c).
+/* test_basis.c - unit tests of the basis-term library (src/model/basis.h, src/model/basis.c).
  *
  * Checks:
  *   - the table: unique names, lookup, and that every coefficient unit times

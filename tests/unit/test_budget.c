@@ -1,6 +1,6 @@
 /* test_budget.c - unit tests of the energy and enstrophy budget
- * (src/budget.c, the rates of src/terms.c and the diagnostics of
- * src/model.c).
+ * (src/model/budget.c, the rates of src/model/terms.c and the diagnostics of
+ * src/model/model.c).
  *
  * Checks the budget.nc variable layout for 1, 2 and 3 layers, that the
  * per-step budget closes (tendency minus the sum of the terms is tiny

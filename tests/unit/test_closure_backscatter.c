@@ -88,7 +88,7 @@ static void closure_advance(tg_model *m)
                   st.msg);
 }
 
-/* Energy rate of a tendency T as the budget forms it (src/terms.c):
+/* Energy rate of a tendency T as the budget forms it (src/model/terms.c):
  * -(1/(H A)) sum_k H_k sum_active (p_k - shift_k) T_k dx^2, with p the
  * streamfunction (shift = wall values) or a mode (shift 0). */
 static double energy_rate(tg_model *m, const double *T, const double *p, const double *shift)

@@ -1,5 +1,5 @@
 /* test_closure_coefficients.c - unit tests of the closure "coefficients"
- * (closures/coefficients.c) and of the coefficients-file reader (src/basis.c).
+ * (closures/coefficients.c) and of the coefficients-file reader (src/model/basis.c).
  *
  * Checks:
  *   - reading a good file (header, comments, `all`, std) and each class of

@@ -323,7 +323,7 @@ END_TEST
 
 /* ---------------------------------------------------------------------- */
 /* Bitwise the same model state after 20 steps on 1 and 2 threads (the
- * closure rules of src/closure.h; common practice for reproducibility). */
+ * closure rules of src/model/closure.h; common practice for reproducibility). */
 START_TEST(threads_bitwise)
 {
     const char *sets[] = {"grid.points=65", "closure.use=gradient_model", "time.step_s=3600",

@@ -104,7 +104,7 @@ static const char *const ALL_PERIODIC[] = {
 /* ---------------------------------------------------------------------- */
 /* (a) 1 and 2 threads: bitwise the same PV and noise fields after 30 steps
  * with both schemes on, in the basin and in the periodic domain (the
- * closure rules of src/closure.h: counter-based random numbers, no
+ * closure rules of src/model/closure.h: counter-based random numbers, no
  * thread-dependent sums; common practice for reproducibility). */
 static void threads_case(const char *const *sets)
 {

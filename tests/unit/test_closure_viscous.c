@@ -13,7 +13,7 @@
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
-#include "../../closures/viscous.h"
+#include "viscous.h"
 #include "closure_host.h"
 #include "fdops.h"
 #include "model.h"

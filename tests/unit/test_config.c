@@ -1,4 +1,4 @@
-/* test_config.c - unit tests of the config module (src/config.c): defaults,
+/* test_config.c - unit tests of the config module (src/files/config.c): defaults,
  * loading a file, every class of error message (file:line, key, "did you
  * mean"), --set overrides, the cross-key rules and the round trip through
  * tg_config_to_ini.
@@ -9,7 +9,7 @@
  * temporary directory that is removed at the end.
  *
  * Build by hand (from the repository root):
- *   gcc -std=c11 -Wall -Wextra -O2 -Isrc src/status.c src/config.c \
+ *   gcc -std=c11 -Wall -Wextra -O2 -Isrc src/base/status.c src/files/config.c \
  *       tests/unit/test_config.c -linih $(pkg-config --cflags --libs check) \
  *       -o /tmp/test_config && /tmp/test_config
  *

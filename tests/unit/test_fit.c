@@ -1,5 +1,5 @@
-/* test_fit.c - unit tests of the closure fit (src/fit.c, src/fit_data.c,
- * src/fit_run.c).
+/* test_fit.c - unit tests of the closure fit (src/experiments/fit.c, src/experiments/fit_data.c,
+ * src/experiments/fit_run.c).
  *
  * Checks, each with its source:
  *   - recovery of known coefficients: a target built from basis terms of

@@ -1,5 +1,5 @@
-/* test_geometry.c - unit tests of the closed-basin geometry (src/geom_basin.c)
- * and of the layered PV inversion built on it (src/model.c).
+/* test_geometry.c - unit tests of the closed-basin geometry (src/model/geom_basin.c)
+ * and of the layered PV inversion built on it (src/model/model.c).
  *
  * Checks the grid tables, the mode-by-mode Helmholtz solves against
  * manufactured discrete solutions, the mass constraint of the baroclinic

@@ -1,4 +1,4 @@
-/* test_initial.c - unit tests of the starting state (src/initial.c).
+/* test_initial.c - unit tests of the starting state (src/experiments/initial.c).
  *
  * The rule every command shares (initial.h): a checkpoint (q, time and
  * step) gives its PV bit for bit, any other file its streamfunction. The

@@ -1,4 +1,4 @@
-/* test_modes.c - unit tests of the vertical modes (src/modes.c).
+/* test_modes.c - unit tests of the vertical modes (src/numerics/modes.c).
  *
  * Checks the stretching matrix S against its definition, the two-layer
  * deformation wavenumber in closed form, P Pinv = I and S = P diag(-F) Pinv,

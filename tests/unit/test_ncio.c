@@ -1,4 +1,4 @@
-/* test_ncio.c - Check suite for src/ncio.c: fields (with and without the
+/* test_ncio.c - Check suite for src/files/ncio.c: fields (with and without the
  * kinetic-energy spectrum), budget, checkpoint files and reading an initial
  * state.
  *

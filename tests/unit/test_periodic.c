@@ -1,5 +1,5 @@
 /* test_periodic.c - unit tests of the doubly periodic geometry
- * (src/geom_periodic.c) and its 2-D real FFT (src/fourier.c).
+ * (src/model/geom_periodic.c) and its 2-D real FFT (src/numerics/fourier.c).
  *
  * Checks the forward transform against the DFT by direct summation, the
  * round trip, bitwise equality for 1 and 2 OpenMP threads, the grid tables

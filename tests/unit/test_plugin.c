@@ -1,5 +1,5 @@
 /* test_plugin.c - unit tests of closure plugins (tg_closure_load_plugin in
- * src/closure_host.c, the example closures/examples/example_plugin.c).
+ * src/model/closure_host.c, the example closures/examples/example_plugin.c).
  *
  * Checks:
  *   - the example plugin `example_viscosity`, loaded through the config

@@ -1,4 +1,4 @@
-/* test_rng.c - unit tests of the counter-based random numbers (src/rng.c).
+/* test_rng.c - unit tests of the counter-based random numbers (src/numerics/rng.c).
  *
  * Checks Philox4x32-10 against published known-answer vectors, that the
  * generator is a pure function of (counter, key) and a bijection of the

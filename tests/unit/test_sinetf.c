@@ -1,4 +1,4 @@
-/* test_sinetf.c - unit tests of the fast 2-D sine transform (src/sinetf.c).
+/* test_sinetf.c - unit tests of the fast 2-D sine transform (src/numerics/sinetf.c).
  *
  * Checks the forward and inverse transforms against their definitions by
  * direct summation, the round trip on a strided array with walls, the

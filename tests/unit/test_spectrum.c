@@ -1,5 +1,5 @@
-/* test_spectrum.c - unit tests of the kinetic-energy spectrum (src/spectrum.c
- * and the ke_spectrum op of src/geom_periodic.c and src/geom_basin.c).
+/* test_spectrum.c - unit tests of the kinetic-energy spectrum (src/model/spectrum.c
+ * and the ke_spectrum op of src/model/geom_periodic.c and src/model/geom_basin.c).
  *
  * Checks the exact bin rule, Parseval's relation (sum_b E_b dk equals the
  * model's discrete kinetic energy) for random fields in both geometries,

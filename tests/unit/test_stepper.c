@@ -1,4 +1,4 @@
-/* test_stepper.c - unit tests of the SSP-RK3 time step (src/stepper.c).
+/* test_stepper.c - unit tests of the SSP-RK3 time step (src/model/stepper.c).
  *
  * Checks the step against the exact Runge-Kutta update of a linear
  * problem (one layer with bottom drag and wind only), third-order

@@ -1,5 +1,5 @@
-/* test_sweep.c - unit tests of the sweep file and its members (src/sweep.c,
- * src/sweep_member.c): member order for product and zip with the seeds and
+/* test_sweep.c - unit tests of the sweep file and its members (src/experiments/sweep.c,
+ * src/experiments/sweep_member.c): member order for product and zip with the seeds and
  * members axes, member names (labels, sanitising, clashes), the --set
  * assignments, FILE:LINE messages of bad sweep files, and the member status
  * file round trip with a long message.

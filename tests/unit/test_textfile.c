@@ -1,4 +1,4 @@
-/* test_textfile.c - unit tests of src/textfile.c: tg_read_text returns the
+/* test_textfile.c - unit tests of src/base/textfile.c: tg_read_text returns the
  * whole file, NUL-terminated, and refuses a missing or too large file with a
  * message naming it; tg_make_dirs makes nested
  * folders, accepts existing ones and refuses a file in the way;

@@ -1,5 +1,5 @@
 /* test_vet.c - unit tests of the linear check of `twingyre vet`
- * (src/vet_linear.c) and of the closure host's tendency scale.
+ * (src/experiments/vet_linear.c) and of the closure host's tendency scale.
  *
  * Checks, each with its source:
  *   - the RK3 stability bound along the negative real axis is 2.5127 and

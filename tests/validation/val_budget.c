@@ -7,7 +7,7 @@
  * 2e4 m2/s r.m.s. (velocities of tens of cm/s, so advection dominates the
  * PV tendency), dt = 1800 s, 60 days.
  *
- * Each step is accounted as src/run.c does: tg_diag_compute before and
+ * Each step is accounted as src/experiments/run.c does: tg_diag_compute before and
  * after tg_step, whose rates are the SSP-RK3-weighted term rates.
  * (a) Budget closure, every step (common practice: the threshold 1e-3 of
  *     the largest term is the issue's, not a published value):

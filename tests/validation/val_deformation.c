@@ -15,7 +15,7 @@
  * orthogonality of the modes in the H-weighted inner product).
  *
  * The library computes the modes numerically (LAPACK symmetric eigen-solver,
- * src/modes.c), so agreement to 1e-10 relative checks both the stretching
+ * src/numerics/modes.c), so agreement to 1e-10 relative checks both the stretching
  * matrix and the solver; tg_scales_compute must report the same radius.
  *
  * A Check suite with its own main(). Part of twingyre. GPL-3.0-or-later.

@@ -13,7 +13,7 @@
  * imposed shear releases available potential energy (the mean-flow
  * conversion) that the drag and the viscosity remove.
  *
- * Each step is accounted as src/run.c does: tg_diag_compute before and
+ * Each step is accounted as src/experiments/run.c does: tg_diag_compute before and
  * after tg_step, whose rates are the SSP-RK3-weighted term rates.
  * (a) Budget closure, every step (threshold of the issue; common practice):
  *       |(E^{n+1} - E^n)/dt - sum of the energy terms| < 1e-3 max |term|,

@@ -6,7 +6,7 @@
  * Pedlosky 1996, Ocean Circulation Theory, chapter 2, and Vallis 2017,
  * Atmospheric and Oceanic Fluid Dynamics, 2nd ed., chapter 19 (section and
  * equation numbers from memory; the solution below is re-derived for the
- * sign conventions of src/model.h).
+ * sign conventions of src/model/model.h).
  *
  * One layer, no advection in practice (a tiny wind, tau0 = 1e-5 Pa: the
  * inertial ratio U/(beta delta_S^2) is ~1e-4), no viscosity, bottom drag r. The model's PV
@@ -32,7 +32,7 @@
  * > 2x), so the agreement is not an accident of one resolution.
  *
  * The spin-up starts from rest set explicitly with tg_model_set_psi(0). A
- * second, small check ("rest_state") verifies what src/run.c relies on for
+ * second, small check ("rest_state") verifies what src/experiments/run.c relies on for
  * [initial] state = rest: tg_model_create leaves psi = 0 and zero energy
  * (model.h; common practice, no published value).
  *
