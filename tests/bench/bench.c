@@ -125,19 +125,6 @@ static double cpu_s(void)
     return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
-/* The 1-minute load average, or -1 when /proc/loadavg cannot be read. */
-static double load_average(void)
-{
-    double l = -1.0;
-    FILE *f = fopen("/proc/loadavg", "r");
-    if (f) {
-        if (fscanf(f, "%lf", &l) != 1)
-            l = -1.0;
-        fclose(f);
-    }
-    return l;
-}
-
 static int cmp_double(const void *a, const void *b)
 {
     double x = *(const double *)a, y = *(const double *)b;
@@ -701,7 +688,7 @@ int main(int argc, char **argv)
                c0->step_s, o.warmup, o.warmup == 1 ? "" : "s");
         printf("one child process per configuration; times are medians over the repetitions\n");
     }
-    const double load0 = load_average();
+    const double load0 = tp_load_average();
     if (load0 >= 0.0)
         printf("load average before: %.2f\n", load0);
     printf("\n");
@@ -791,7 +778,7 @@ int main(int argc, char **argv)
                "-lfftw3_omp for a threaded one);\n  its targets are judged on the "
                "1-thread rows only.\n");
 
-    const double load1 = load_average();
+    const double load1 = tp_load_average();
     if (load1 >= 0.0 && nconf > 0)
         printf("load average after: %.2f (it counts this program's own threads too)\n", load1);
 

@@ -17,7 +17,10 @@
  * 1 or 2 threads, and a quiet machine or one busy process per CPU (this
  * program's own children, spinning until they are killed). The program's
  * wait policy is the one users get (src/cli/wait_policy.c): run the
- * benchmark with OMP_WAIT_POLICY=active to see the runtime's default.
+ * benchmark with GOMP_SPINCOUNT=300000 to see the runtime's default. The
+ * table gives each run's CPU time (user + system, from wait4) beside its
+ * wall time, and the load average after it: "quiet" means no busy process
+ * of the benchmark's own, not an idle machine.
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
@@ -29,6 +32,7 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/resource.h>
 #include <sys/stat.h>
 #include <sys/types.h>
 #include <sys/wait.h>
@@ -88,9 +92,9 @@ static uint64_t file_hash(const char *path)
     return h;
 }
 
-/* Runs argv (output to `log`, appended); returns the exit status (or -1)
- * and the wall time in *wall. */
-static int run_program(char *const *argv, const char *log, double *wall)
+/* Runs argv (output to `log`, appended); returns the exit status (or -1),
+ * the wall time in *wall and the CPU time (user + system) in *cpu. */
+static int run_program(char *const *argv, const char *log, double *wall, double *cpu)
 {
     fflush(NULL);
     double t0 = now_s();
@@ -106,10 +110,26 @@ static int run_program(char *const *argv, const char *log, double *wall)
         _exit(127);
     }
     int status = 0;
-    while (waitpid(pid, &status, 0) < 0 && errno == EINTR)
+    struct rusage ru;
+    memset(&ru, 0, sizeof ru);
+    while (wait4(pid, &status, 0, &ru) < 0 && errno == EINTR)
         ;
     *wall = now_s() - t0;
+    *cpu = (double)ru.ru_utime.tv_sec + 1e-6 * (double)ru.ru_utime.tv_usec +
+           (double)ru.ru_stime.tv_sec + 1e-6 * (double)ru.ru_stime.tv_usec;
     return WIFEXITED(status) ? WEXITSTATUS(status) : -1;
+}
+
+double tp_load_average(void)
+{
+    double l = -1.0;
+    FILE *f = fopen("/proc/loadavg", "r");
+    if (f) {
+        if (fscanf(f, "%lf", &l) != 1)
+            l = -1.0;
+        fclose(f);
+    }
+    return l;
 }
 
 /* One busy process per CPU: their ids in pids (n of them). */
@@ -172,8 +192,8 @@ static int spun_up(const tp_options *o, const tp_config *c, char *ckpt, size_t l
                     "--threads", threads, "--quiet", NULL};
     fprintf(stderr, "tg-bench: spinning up %s for %g model days into %s (once; log %s) ...\n",
             c->path, c->spinup_days, dir, log);
-    double wall;
-    int rc = run_program(argv, log, &wall);
+    double wall, cpu;
+    int rc = run_program(argv, log, &wall, &cpu);
     if (rc != 0 || rename(tmp, dir) != 0) {
         fprintf(stderr, "tg-bench: the spin-up of %s failed (exit %d); see %s\n", c->path, rc,
                 log);
@@ -187,7 +207,7 @@ static int spun_up(const tp_options *o, const tp_config *c, char *ckpt, size_t l
 
 typedef struct {
     int ok, skipped;
-    double wall, years_per_hour;
+    double wall, cpu, years_per_hour;
 } tp_row;
 
 int tp_run(const tp_options *o)
@@ -206,8 +226,8 @@ int tp_run(const tp_options *o)
         char log[4200];
         snprintf(log, sizeof log, "%s/describe.log", o->scratch);
         remove(log);
-        double w;
-        adaptive = run_program(argv, log, &w) == 0;
+        double w, cpu;
+        adaptive = run_program(argv, log, &w, &cpu) == 0;
         if (!adaptive) {
             FILE *f = fopen(log, "r");
             if (f) {
@@ -235,7 +255,8 @@ int tp_run(const tp_options *o)
         memset(rows, 0, sizeof rows);
         printf("\n%s: %g model days per run after %g days of spin-up\n", c->path, c->days,
                c->spinup_days);
-        printf("%-9s %-7s %3s %10s %12s\n", "steps", "machine", "thr", "wall s", "years/hour");
+        printf("%-9s %-7s %3s %10s %10s %12s %9s\n", "steps", "machine", "thr", "wall s", "cpu s",
+               "years/hour", "load avg");
         for (int ad = 0; ad < 2; ad++)
             for (int ld = 0; ld < 2; ld++)
                 for (int ti = 0; ti < 2; ti++) {
@@ -244,8 +265,8 @@ int tp_run(const tp_options *o)
                     const char *mach = ld ? "loaded" : "quiet";
                     if (ad && !adaptive) {
                         r->skipped = 1;
-                        printf("%-9s %-7s %3d %10s %12s\n", steps, mach, o->threads[ti], "-",
-                               "skipped");
+                        printf("%-9s %-7s %3d %10s %10s %12s\n", steps, mach, o->threads[ti], "-",
+                               "-", "skipped");
                         continue;
                     }
                     char init[4300], dur[64], threads[16], out[4200], log[4300];
@@ -272,7 +293,7 @@ int tp_run(const tp_options *o)
                         failures++;
                         continue;
                     }
-                    int rc = run_program(argv, log, &r->wall);
+                    int rc = run_program(argv, log, &r->wall, &r->cpu);
                     if (ld)
                         load_stop(busy, nbusy);
                     if (rc != 0) {
@@ -283,8 +304,8 @@ int tp_run(const tp_options *o)
                     }
                     r->ok = 1;
                     r->years_per_hour = c->days / 365.25 / (r->wall / 3600.0);
-                    printf("%-9s %-7s %3d %10.2f %12.1f\n", steps, mach, o->threads[ti], r->wall,
-                           r->years_per_hour);
+                    printf("%-9s %-7s %3d %10.2f %10.2f %12.1f %9.2f\n", steps, mach,
+                           o->threads[ti], r->wall, r->cpu, r->years_per_hour, tp_load_average());
                     fflush(stdout);
                 }
         for (int ad = 0; ad < 2; ad++) {

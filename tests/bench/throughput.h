@@ -23,6 +23,9 @@ typedef struct {
     int threads[2];             /* the thread counts compared: 1 and 2 */
 } tp_options;
 
+/* The 1-minute load average (/proc/loadavg), or -1 when it cannot be read. */
+double tp_load_average(void);
+
 /* Parses "CONFIG:DAYS:SPINUP_DAYS" into c; 0, or -1 with a message on stderr. */
 int tp_parse_config(const char *s, tp_config *c);
 
