@@ -102,6 +102,7 @@ typedef struct {
     double dst_step_ms;  /* median time of the ndst transforms of one step */
     double dst_ms;       /* dst_step_ms / ndst */
     double r2c_ms;       /* median time of one r2c 2-D FFT */
+    double step_best_ms, r2c_best_ms; /* the shortest of the repetitions */
     int r2c_threads;
     double rss_start_mb; /* ru_maxrss before the model exists */
     double rss_peak_mb;  /* ru_maxrss after the warm-up steps */
@@ -520,10 +521,12 @@ static int run_config(const options *o, const tg_config *cfg, int threads, resul
     }
     if (rc == 0) {
         r->step_ms = 1e3 * median(ts, reps);
+        r->step_best_ms = 1e3 * ts[0]; /* median sorts */
         r->diag_ms = 1e3 * median(td, reps);
         r->dst_step_ms = 1e3 * median(tf, reps);
         r->dst_ms = r->dst_step_ms / r->ndst;
         r->r2c_ms = 1e3 * median(tr, reps);
+        r->r2c_best_ms = 1e3 * tr[0];
         r->tr_step_ms = r->periodic ? r->ndst * r->r2c_ms : r->dst_step_ms;
         r->cpu_per_wall = wall > 0.0 ? cpu / wall : 0.0;
         r->max_cfl = diag.max_cfl;
@@ -748,8 +751,9 @@ int main(int argc, char **argv)
     for (int i = 0; i < nconf; i++)
         if (res[i].ok && res[i].numpy_ms > 0.0)
             printf("NumPy model (%s), %d^2, one thread: %.2f ms per step, %.1f times the "
-                   "periodic step\n", o.numpy, res[i].points, res[i].numpy_ms,
-                   res[i].numpy_ms / res[i].step_ms);
+                   "periodic step (median %.2f ms; shortest %.2f ms, r2c shortest %.3f ms)\n",
+                   o.numpy, res[i].points, res[i].numpy_ms, res[i].numpy_ms / res[i].step_ms,
+                   res[i].step_ms, res[i].step_best_ms, res[i].r2c_best_ms);
     int any_star = 0;
     double start_mb = 0.0;
     for (int i = 0; i < nconf; i++)
@@ -812,6 +816,11 @@ int main(int argc, char **argv)
         snprintf(conf, sizeof conf, "%d^2 per, 1 thr", r->points);
         double v = r->step_ms / r->tr_step_ms;
         target_line("periodic step / its r2c transforms", conf, v, "<= 2.5",
+                    v <= TARGET_PERIODIC_OVER_R2C, starved(r));
+        /* On a busy machine the shortest repetitions are the ones least
+         * disturbed by other processes. */
+        v = r->step_best_ms / (r->ndst * r->r2c_best_ms);
+        target_line("  the same, shortest of each", conf, v, "<= 2.5",
                     v <= TARGET_PERIODIC_OVER_R2C, starved(r));
         if (r->numpy_ms > 0.0) {
             v = r->numpy_ms / r->step_ms;
