@@ -169,6 +169,27 @@ static void load_stop(pid_t *pids, int n)
     }
 }
 
+/* mkdir -p: 0, or -1 with errno. */
+static int make_folders(const char *path)
+{
+    char p[4096];
+    if (snprintf(p, sizeof p, "%s", path) >= (int)sizeof p) {
+        errno = ENAMETOOLONG;
+        return -1;
+    }
+    for (char *c = p + 1;; c++) {
+        if (*c != '/' && *c != '\0')
+            continue;
+        const char keep = *c;
+        *c = '\0';
+        if (mkdir(p, 0777) != 0 && errno != EEXIST)
+            return -1;
+        *c = keep;
+        if (!keep)
+            return 0;
+    }
+}
+
 /* The spun-up checkpoint of config c in `ckpt` (made when absent); 0 or -1. */
 static int spun_up(const tp_options *o, const tp_config *c, char *ckpt, size_t len)
 {
@@ -187,10 +208,9 @@ static int spun_up(const tp_options *o, const tp_config *c, char *ckpt, size_t l
         printf("spun-up state of %s: %s (cached)\n", c->path, ckpt);
         return 0;
     }
-    char mk[4200];
-    snprintf(mk, sizeof mk, "mkdir -p '%s'", o->cache);
-    if (system(mk) != 0) {
-        fprintf(stderr, "tg-bench: cannot make the cache folder %s\n", o->cache);
+    if (make_folders(o->cache) != 0) {
+        fprintf(stderr, "tg-bench: cannot make the cache folder %s: %s\n", o->cache,
+                strerror(errno));
         return -1;
     }
     snprintf(tmp, sizeof tmp, "%s.part%ld", dir, (long)getpid());
