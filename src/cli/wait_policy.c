@@ -20,9 +20,15 @@
  * starts (sweep members inherit the environment), and FFTW's own threads, if
  * a build uses them, are OpenMP threads of the same runtime.
  *
+ * Under valgrind (its preloaded vgpreload_*.so in LD_PRELOAD) the program
+ * does not execute itself again: there /proc/self/exe is valgrind's own
+ * tool, which refuses to start, and valgrind runs the threads one at a time
+ * anyway.
+ *
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include <stdlib.h>
+#include <string.h>
 #include <unistd.h>
 
 #include "cli.h"
@@ -30,6 +36,9 @@
 void cli_wait_policy(char **argv)
 {
     if (getenv("OMP_WAIT_POLICY") || getenv("GOMP_SPINCOUNT"))
+        return;
+    const char *pre = getenv("LD_PRELOAD");
+    if (pre && strstr(pre, "vgpreload"))
         return;
     if (setenv("OMP_WAIT_POLICY", "passive", 1) != 0)
         return;

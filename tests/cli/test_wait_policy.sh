@@ -3,7 +3,8 @@
 # (src/cli/wait_policy.c; README, "Speed"): with neither OMP_WAIT_POLICY nor
 # GOMP_SPINCOUNT in the environment, the OpenMP runtime of `twingyre` and of
 # the members a sweep starts waits passively (spin count 0); a value the user
-# set is kept (OMP_WAIT_POLICY=active, GOMP_SPINCOUNT=N). The runtime's own
+# set is kept (OMP_WAIT_POLICY=active, GOMP_SPINCOUNT=N); under valgrind the
+# program still runs. The runtime's own
 # report of its settings (OMP_DISPLAY_ENV=verbose, printed on stderr when it
 # starts; OpenMP 5.2 specification, section 21.7, for OMP_DISPLAY_ENV, and
 # the GNU libgomp manual for GOMP_SPINCOUNT and its values: 0 when passive,
@@ -58,6 +59,29 @@ if [ "$rc" -eq 0 ] && [ "$got" = 0 ] && [ "$(grep -c 'GOMP_SPINCOUNT' err)" = 1 
     ok "OMP_WAIT_POLICY=passive set by the user: one start, passive"
 else
     notok "OMP_WAIT_POLICY=passive set by the user: one start, passive" "exit $rc" "$(cat err)"
+fi
+
+# Under valgrind the program does not execute itself again (valgrind's
+# /proc/self/exe is its own tool, which refuses to start). Checked only where
+# valgrind is installed and the program is not built with AddressSanitizer
+# (make check-asan), which cannot run under valgrind.
+prog=$TWINGYRE
+# the libtool wrapper's real program, with the wrapper's library path
+real=$(dirname "$TWINGYRE")/.libs/$(basename "$TWINGYRE")
+[ -x "$real" ] && prog=$real
+if grep -qa AddressSanitizer "$prog"; then
+    echo "# a sanitizer build: the valgrind check is left out"
+elif command -v valgrind >/dev/null 2>&1; then
+    env -u OMP_WAIT_POLICY -u GOMP_SPINCOUNT LD_LIBRARY_PATH="$TG_BUILDDIR/.libs:${LD_LIBRARY_PATH:-}" \
+        valgrind -q "$prog" --version >out 2>err
+    rc=$?
+    if [ "$rc" -eq 0 ] && has "twingyre" out; then
+        ok "under valgrind the program runs (no second start)"
+    else
+        notok "under valgrind the program runs (no second start)" "exit $rc" "$(cat err)"
+    fi
+else
+    echo "# valgrind is not installed: the valgrind check is left out"
 fi
 
 # A sweep member started by the local pool: its own runtime reports on its
