@@ -167,14 +167,21 @@ END_TEST
  * parallel runs. */
 static const int thread_sizes[] = {16, 64, 256};
 
-START_TEST(fft_threads_bitwise)
+/* A transform of P x P with buffers for two threads (the thread tests). */
+static tg_fft2 *fft_for_two_threads(int P)
 {
-    const int P = thread_sizes[_i], stride = P + 2;
-    const int saved = omp_get_max_threads();
     omp_set_num_threads(2);
     tg_status st;
     tg_fft2 *f = tg_fft2_create(P, &st);
     ck_assert_msg(f != NULL, "create failed: %s", st.msg);
+    return f;
+}
+
+START_TEST(fft_threads_bitwise)
+{
+    const int P = thread_sizes[_i], stride = P + 2;
+    const int saved = omp_get_max_threads();
+    tg_fft2 *f = fft_for_two_threads(P);
     const size_t nl = (size_t)tg_fft2_spec_len(f), nr = (size_t)P * stride;
     double *in = alloc0(nr), *s1 = alloc0(nl), *s2 = alloc0(nl), *o1 = alloc0(nr),
            *o2 = alloc0(nr);
@@ -211,10 +218,7 @@ START_TEST(fft_apply_bitwise)
 {
     const int P = thread_sizes[_i], stride = P + 3, nc = P / 2 + 1;
     const int saved = omp_get_max_threads();
-    omp_set_num_threads(2);
-    tg_status st;
-    tg_fft2 *f = tg_fft2_create(P, &st);
-    ck_assert_msg(f != NULL, "create failed: %s", st.msg);
+    tg_fft2 *f = fft_for_two_threads(P);
     const size_t nl = (size_t)tg_fft2_spec_len(f), nr = (size_t)P * stride;
     double *in = alloc0(2 * nr), *want = alloc0(2 * nr), *spec = alloc0(nl);
     double *fac = alloc0(2 * (size_t)nc * P), *got[2] = {alloc0(2 * nr), alloc0(2 * nr)};
