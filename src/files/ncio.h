@@ -66,6 +66,14 @@ tg_fields_file *tg_fields_create(const char *path, const tg_nc_grid *g,
  * so it is readable if the run dies. */
 tg_code tg_fields_append(tg_fields_file *f, double time_s, const double *psi, const double *q,
                          const double *ke_spectrum, tg_status *st);
+/* For a run resumed from the checkpoint of its own output folder: a new
+ * file (as tg_fields_create) that keeps the records of the existing `path`
+ * before model time `before_s` (s); later ones are dropped, as the resumed
+ * run writes them again. The new file is made as PATH.tmp and renamed over
+ * PATH, so the old one stays whole until then. Errors (the old file damaged,
+ * or with other variables) are TG_ERR_IO. */
+tg_fields_file *tg_fields_continue(const char *path, const tg_nc_grid *g,
+                                   const tg_nc_wavenumbers *wn, double before_s, tg_status *st);
 /* Closes and frees (frees even on error). */
 tg_code tg_fields_close(tg_fields_file *f, tg_status *st);
 
@@ -86,6 +94,15 @@ typedef struct tg_budget_file tg_budget_file;
  * The record buffer holds 256 records unless tg_budget_set_buffer changes it. */
 tg_budget_file *tg_budget_create(const char *path, const tg_nc_grid *g, const tg_budget_var *vars,
                                  int nvars, tg_status *st);
+/* For a run resumed from the checkpoint of its own output folder: as
+ * tg_budget_create, keeping the records of the existing `path` up to and
+ * including step `last_step` (later ones are dropped; the resumed run
+ * appends them again). Made as PATH.tmp and renamed over PATH. TG_ERR_IO
+ * when the old file is damaged, has other variables, or its kept records do
+ * not end at last_step (steps would be missing). */
+tg_budget_file *tg_budget_continue(const char *path, const tg_nc_grid *g,
+                                   const tg_budget_var *vars, int nvars, long last_step,
+                                   tg_status *st);
 /* Re-sizes the record buffer to `nrecords` (>= 1). Allocates, so call it at
  * set-up; allowed only while the buffer is empty (before the first append or
  * right after a flush), otherwise TG_ERR_INTERNAL. */
@@ -97,7 +114,8 @@ tg_code tg_budget_set_buffer(tg_budget_file *b, int nrecords, tg_status *st);
  * synced) by the append that fills it. Never allocates. */
 tg_code tg_budget_append(tg_budget_file *b, double time_s, long step, const double *values,
                          tg_status *st);
-/* Writes buffered records and syncs. Called at snapshot times and on exit. */
+/* Writes buffered records and syncs. Called at snapshot and checkpoint
+ * times and on exit. */
 tg_code tg_budget_flush(tg_budget_file *b, tg_status *st);
 /* Flushes, closes and frees (frees even on error). */
 tg_code tg_budget_close(tg_budget_file *b, tg_status *st);
