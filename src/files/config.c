@@ -39,7 +39,6 @@
 #include <stddef.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 
 /* ------------------------------------------------------------------ */
 /* The key table                                                       */
@@ -1669,12 +1668,10 @@ tg_code tg_config_check(const tg_config *cfg, const char *origin, tg_status *st)
         if (close)
             snprintf(hint, sizeof hint, "; did you mean %s?", close);
         /* Not opened unless regular: opening a FIFO would wait for a writer. */
-        struct stat sb;
-        if (stat(path, &sb) == 0 && !S_ISREG(sb.st_mode))
+        const char *kind = tg_not_regular(path);
+        if (kind)
             return key_fail(cfg, K_INITIAL_STATE, origin, st,
-                            "initial state '%s' is not a regular file (%s)", path,
-                            S_ISFIFO(sb.st_mode) ? "a FIFO" : S_ISDIR(sb.st_mode) ? "a directory"
-                                                                            : "a device or socket");
+                            "initial state '%s' is not a regular file (%s)", path, kind);
         FILE *f = fopen(path, "rb");
         if (!f)
             return key_fail(cfg, K_INITIAL_STATE, origin, st,

@@ -411,14 +411,26 @@ static char *tmp_path(const char *path)
     return t;
 }
 
-/* A file made at PATH.tmp, filled with the kept records, takes PATH's place:
- * the old file stays whole until the rename. *own_path is the handle's path
- * for messages, switched to the final name. */
-static tg_code continue_commit(int ncid, const char *tmp, const char *path, char **own_path,
-                               tg_status *st)
+/* Fills a file made at PATH.tmp (open as ncid) with the records of PATH
+ * whose `key` is <= limit (inclusive) or < limit, then renames it over PATH:
+ * the old file stays whole until then. With want_last >= 0 the kept records
+ * must end at key want_last (or be none). *own_path, the handle's path for
+ * messages, switches to PATH; *n is the number of records kept. */
+static tg_code continue_fill(int ncid, const char *tmp, const char *path, const char *key,
+                             double limit, int inclusive, double want_last, char **own_path,
+                             size_t *n, tg_status *st)
 {
-    tg_code code = tg_nc_check(nc_sync(ncid), tmp, "syncing the file", NULL, st);
+    double last;
+    tg_code code = tg_nc_keep_records(path, ncid, key, limit, inclusive, n, &last, st);
     if (code)
+        return code;
+    if (want_last >= 0.0 && *n > 0 && last != want_last)
+        return tg_fail(st, TG_ERR_IO,
+                       "%s: the records end at %s %.17g, before the checkpoint's %.17g: the "
+                       "ones between are lost (resume into another folder, or pass "
+                       "--overwrite to start the output files afresh)",
+                       path, key, last, want_last);
+    if ((code = tg_nc_check(nc_sync(ncid), tmp, "syncing the file", NULL, st)))
         return code;
     char *final = dup_string(path);
     if (!final)
@@ -443,10 +455,8 @@ tg_fields_file *tg_fields_continue(const char *path, const tg_nc_grid *g,
     }
     tg_fields_file *f = tg_fields_create(tmp, g, wn, st);
     size_t n = 0;
-    double last;
-    if (f && (tg_nc_keep_records(path, f->ncid, "time", before_s / TG_SECONDS_PER_DAY, 0, &n,
-                                 &last, st) ||
-              continue_commit(f->ncid, tmp, path, &f->path, st))) {
+    if (f && continue_fill(f->ncid, tmp, path, "time", before_s / TG_SECONDS_PER_DAY, 0, -1.0,
+                           &f->path, &n, st)) {
         close_quietly(f->ncid);
         (void)remove(tmp); /* the old file is left as it was */
         free(f->path);
@@ -654,19 +664,8 @@ tg_budget_file *tg_budget_continue(const char *path, const tg_nc_grid *g,
     }
     tg_budget_file *b = tg_budget_create(tmp, g, vars, nvars, st);
     size_t n = 0;
-    double last;
-    tg_code code = b ? tg_nc_keep_records(path, b->ncid, "step", (double)last_step, 1, &n, &last,
-                                          st)
-                     : TG_ERR_IO;
-    if (b && !code && n > 0 && last != (double)last_step)
-        code = tg_fail(st, TG_ERR_IO,
-                       "%s: the records end at step %.0f, before the checkpoint's step %ld: the "
-                       "steps between are lost (resume into another folder, or pass "
-                       "--overwrite to start the output files afresh)",
-                       path, last, last_step);
-    if (b && !code)
-        code = continue_commit(b->ncid, tmp, path, &b->path, st);
-    if (b && code) {
+    if (b && continue_fill(b->ncid, tmp, path, "step", (double)last_step, 1, (double)last_step,
+                           &b->path, &n, st)) {
         close_quietly(b->ncid);
         (void)remove(tmp); /* the old file is left as it was */
         budget_free(b);
@@ -782,8 +781,7 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
                            final_path, c->extra_names[e]);
     }
 
-    size_t plen = strlen(final_path);
-    char *path = malloc(plen + 5); /* the temporary file: errors name it */
+    char *path = tmp_path(final_path); /* the temporary file: errors name it */
     int *v_extra = malloc((c->nextra > 0 ? (size_t)c->nextra : 1) * sizeof *v_extra);
     if (!path || !v_extra) {
         free(path);
@@ -791,8 +789,6 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
         return tg_fail(st, TG_ERR_NOMEM, "%s: allocating checkpoint bookkeeping failed",
                        final_path);
     }
-    memcpy(path, final_path, plen);
-    memcpy(path + plen, ".tmp", 5);
 
     int ncid = -1, created = 0;
     tg_nc_grid_ids ids;

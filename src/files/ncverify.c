@@ -19,6 +19,7 @@
 #define _POSIX_C_SOURCE 200809L
 #include "ncverify.h"
 #include "ncio_util.h"
+#include "textfile.h"
 
 #include <errno.h>
 #include <inttypes.h>
@@ -33,15 +34,24 @@
 /* FNV-1a                                                              */
 /* ------------------------------------------------------------------ */
 
+uint64_t tg_fnv1a_bytes(uint64_t h, const unsigned char *p, size_t n)
+{
+    for (size_t i = 0; i < n; i++) {
+        h ^= p[i];
+        h *= UINT64_C(0x100000001b3); /* the 64-bit FNV prime */
+    }
+    return h;
+}
+
 uint64_t tg_fnv1a_doubles(uint64_t h, const double *x, size_t n)
 {
     for (size_t i = 0; i < n; i++) {
         uint64_t bits;
+        unsigned char be[8];
         memcpy(&bits, &x[i], sizeof bits);
-        for (int b = 56; b >= 0; b -= 8) {
-            h ^= (bits >> b) & 0xffu;
-            h *= UINT64_C(0x100000001b3);
-        }
+        for (int b = 0; b < 8; b++)
+            be[b] = (unsigned char)(bits >> (56 - 8 * b));
+        h = tg_fnv1a_bytes(h, be, sizeof be);
     }
     return h;
 }
@@ -257,16 +267,16 @@ static int header_extent(hdr_reader *r, hdr_extent *ex)
     return rc;
 }
 
-tg_code tg_nc_check_length(const char *path, tg_status *st)
+/* The regular-file and length checks, before netCDF opens the file. */
+static tg_code check_length(const char *path, tg_status *st)
 {
+    const char *kind = tg_not_regular(path);
+    if (kind)
+        return tg_fail(st, TG_ERR_IO, "%s: not a regular file (%s); give a NetCDF file", path,
+                       kind);
     struct stat sb;
     if (stat(path, &sb) != 0)
         return tg_fail(st, TG_ERR_IO, "%s: cannot be read: %s", path, strerror(errno));
-    if (!S_ISREG(sb.st_mode))
-        return tg_fail(st, TG_ERR_IO, "%s: not a regular file (%s); give a NetCDF file", path,
-                       S_ISFIFO(sb.st_mode)  ? "a FIFO"
-                       : S_ISDIR(sb.st_mode) ? "a directory"
-                                             : "a device or socket");
     FILE *f = fopen(path, "rb");
     if (!f)
         return tg_fail(st, TG_ERR_IO, "%s: cannot be read: %s", path, strerror(errno));
@@ -375,7 +385,7 @@ static tg_code verify_checksums(int ncid, const char *path, tg_status *st)
 tg_code tg_nc_open_verified(const char *path, int *ncid, tg_status *st)
 {
     *ncid = -1;
-    tg_code code = tg_nc_check_length(path, st);
+    tg_code code = check_length(path, st);
     if (code)
         return code;
     if ((code = tg_nc_check(nc_open(path, NC_NOWRITE, ncid), path, "opening the file", NULL, st)))

@@ -27,6 +27,8 @@
 /* The FNV-1a starting value; tg_fnv1a_doubles continues a running hash, so
  * records appended one at a time hash like the whole variable. */
 #define TG_FNV1A_START UINT64_C(0xcbf29ce484222325)
+uint64_t tg_fnv1a_bytes(uint64_t h, const unsigned char *p, size_t n);
+/* Each double as its 8 IEEE 754 bytes, most significant first. */
 uint64_t tg_fnv1a_doubles(uint64_t h, const double *x, size_t n);
 
 /* The attribute's text for hash h (buf holds TG_NC_CHECKSUM_LEN + 1). */
@@ -45,10 +47,6 @@ tg_code tg_nc_put_checksum(int ncid, int varid, uint64_t h, const char *path, co
  * wrong; *ncid is then closed and set to -1. NetCDF-4 (HDF5) files get the
  * regular-file and checksum checks only (HDF5 keeps its own structure). */
 tg_code tg_nc_open_verified(const char *path, int *ncid, tg_status *st);
-
-/* The length check alone, on a file not yet opened: TG_OK when the file is
- * not classic or is whole. */
-tg_code tg_nc_check_length(const char *path, tg_status *st);
 
 /* Scans n values for NaN/Inf: TG_OK, or TG_ERR_IO naming the file, the
  * variable, the record (rec >= 0; -1: none) and the position as layer, y

@@ -32,30 +32,7 @@ mkdir -p "$B" "$T/work"
 cp "$TG_SRCDIR/tests/cli/configs/small33.ini" "$B/small33.ini"
 tg run "$B/small33.ini" --out "$T/good" --quiet
 cp "$T/good/checkpoint.nc" "$T/good/fields.nc" "$B/" 2>/dev/null
-{
-    small_basin 33
-    cat <<'EOF'
-
-[initial]
-state = noise
-noise_amplitude_m2_per_s = 100
-seed = 3
-
-[twin]
-reference_points = 33
-coarse_points = 17
-spinup_days = 2
-analysis_days = 4
-sample_every_days = 2
-compare = none
-filter = gaussian
-filter_width_factor = 2
-
-[twin.coarse]
-dissipation.viscosity_m2_per_s = 600
-time.step_s = 7200
-EOF
-} >"$T/twin.ini"
+tiny_twin 2 4 >"$T/twin.ini"
 tg twin "$T/twin.ini" --out "$T/tw" --quiet
 cp "$T/tw/subgrid.nc" "$B/" 2>/dev/null
 {

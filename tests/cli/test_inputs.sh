@@ -132,30 +132,7 @@ check "a FIFO as fit input: exit 3 at once, 'not a regular file', nothing writte
     $([ "$rc" -eq 3 ] && has "not a regular file" "$T/err" && [ ! -e "$T/fifo_fit.txt" ]; echo $?) "$(err_tail)"
 
 # fit on a subgrid.nc cut to 90 %: a tiny twin (33 -> 17 points).
-{
-    small_basin 33
-    cat <<'EOF'
-
-[initial]
-state = noise
-noise_amplitude_m2_per_s = 100
-seed = 3
-
-[twin]
-reference_points = 33
-coarse_points = 17
-spinup_days = 4
-analysis_days = 8
-sample_every_days = 2
-compare = none
-filter = gaussian
-filter_width_factor = 2
-
-[twin.coarse]
-dissipation.viscosity_m2_per_s = 600
-time.step_s = 7200
-EOF
-} >"$T/twin.ini"
+tiny_twin 4 8 >"$T/twin.ini"
 tg twin "$T/twin.ini" --out "$T/tw" --quiet
 SG=$T/tw/subgrid.nc
 tg fit "$SG" --out "$T/fit_whole.txt"
