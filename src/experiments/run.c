@@ -276,13 +276,6 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
                           .title = "twingyre layered quasi-geostrophic experiment"};
     const tg_nc_wavenumbers wn = {.nbins = c.spec->nbins, .k = c.spec->k,
                                   .bin_width = c.spec->dk};
-    ff = resume_here && access(c.path_fields, F_OK) == 0
-             ? tg_fields_continue(c.path_fields, &c.grid, &wn, m->time_s - 0.5 * dt, st)
-             : tg_fields_create(c.path_fields, &c.grid, &wn, st);
-    if (!ff) {
-        rc = st->code;
-        goto done;
-    }
     tg_budget_layout_init(&lay, m->nl, m->term_active);
     {
         const char *labels[TG_MAX_CLOSURES];
@@ -291,10 +284,19 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
             labels[k] = tg_closure_host_label(m->closures, k);
         tg_budget_layout_components(&lay, nc, labels);
     }
+    /* budget.nc first: a resume in place may refuse it (steps missing)
+     * before fields.nc is touched. */
     bf = resume_here && access(c.path_budget, F_OK) == 0
              ? tg_budget_continue(c.path_budget, &c.grid, lay.var, lay.n, m->step, st)
              : tg_budget_create(c.path_budget, &c.grid, lay.var, lay.n, st);
     if (!bf) {
+        rc = st->code;
+        goto done;
+    }
+    ff = resume_here && access(c.path_fields, F_OK) == 0
+             ? tg_fields_continue(c.path_fields, &c.grid, &wn, m->time_s - 0.5 * dt, st)
+             : tg_fields_create(c.path_fields, &c.grid, &wn, st);
+    if (!ff) {
         rc = st->code;
         goto done;
     }

@@ -4,7 +4,8 @@
 # first checkpoint; its budget.nc already reaches the checkpoint's step; the
 # run resumed from that checkpoint in the same folder continues budget.nc
 # and fields.nc, and both then equal the uninterrupted run's bitwise (every
-# step exactly once). Restart consistency: common practice.
+# step exactly once). Restart consistency: common practice. A budget.nc
+# missing steps before the checkpoint is refused.
 #
 # Environment: TWINGYRE (the program; default /tmp/twingyre), TG_SRCDIR,
 # PYTHON (default /usr/bin/python3, Debian's, with numpy and netCDF4),
@@ -86,5 +87,18 @@ for f in budget.nc fields.nc; do
 done
 check "no temporary files remain" $(ls "$T/k" | grep -q '\.tmp$'; [ $? -ne 0 ]; echo $?) \
     "$(ls "$T/k")"
+
+# A budget.nc whose records end before the checkpoint's step (here one of a
+# 3-day run beside a day-10 checkpoint) is refused, and the folder is left
+# as it was (fields.nc included).
+tg run "$SMALL" --out "$T/gap" --quiet
+tg run "$SMALL" --out "$T/short" --quiet --set time.duration_days=3
+cp "$T/short/budget.nc" "$T/gap/budget.nc"
+before=$(dir_state "$T/gap")
+tg run "$SMALL" --out "$T/gap" --quiet --set time.duration_days=12 \
+    --set "initial.state=$T/gap/checkpoint.nc"
+check "resume in place with a budget.nc ending at step 72 before the checkpoint's 240: exit 3, says so, folder unchanged" \
+    $([ "$rc" -eq 3 ] && has "records end at step 72" "$T/err" &&
+        [ "$(dir_state "$T/gap")" = "$before" ]; echo $?) "$(err_tail)"
 
 finish
