@@ -299,7 +299,7 @@ static tg_code check_length(const char *path, tg_status *st)
             code = tg_fail(st, TG_ERR_IO,
                            "%s: damaged file: it is %" PRIu64 " bytes long but its NetCDF "
                            "header%s needs %" PRIu64 " bytes for the data of variable %s; it "
-                           "was cut short",
+                           "was cut short (or its header is damaged)",
                            path, r.size, recs, ex.end, ex.var);
         }
     } else if (got < 4 && !(got >= 3 && memcmp(magic, "\x89HD", 3) == 0)) {
