@@ -136,6 +136,7 @@ typedef struct {
 } tg_checkpoint;
 
 /* Writes to PATH.tmp then renames over PATH, so a crash never leaves a half file.
+ * Every variable carries its data_checksum attribute (ncverify.h).
  * Holds psi(layer, y, x), q(layer, y, x), scalar time (days, CF), time_seconds
  * (the exact time_s), step (double), and each extra array as a 1-D variable
  * named after it with its own dimension "<name>_len" (length >= 1). */
@@ -158,7 +159,11 @@ typedef struct {
  * as "nx x ny". A missing psi, or one of another rank, is TG_ERR_IO.
  * info (may be NULL): has_q says whether the file holds q; has_time is set
  * when the file has scalar time (or time_seconds) and step, as a checkpoint
- * has; time_s then prefers the exact time_seconds. */
+ * has; time_s then prefers the exact time_seconds.
+ * The file is checked first (tg_nc_open_verified: regular, whole, matching
+ * its checksums); NaN/Inf in psi or q, a step that is not a whole number in
+ * [0, 2^53] and a time that is not finite and >= 0 are TG_ERR_IO too, with
+ * the file, the variable and (for values) the position in the message. */
 tg_code tg_initial_read(const char *path, int nx, int ny, int nlayers, double *psi, double *q,
                         tg_initial_info *info, tg_status *st);
 
