@@ -232,15 +232,21 @@ tg_code tg_map_file_write(const char *path, const tg_nc_grid *g, double time_s,
     if ((code = tg_nc_time_atts(ncid, v_time, path, st)))
         goto fail;
     const int dims[3] = {id.d_layer, id.d_y, id.d_x};
+    const double days = time_s / DAY_S;
+    const size_t n = (size_t)g->nlayers * (size_t)g->ny * (size_t)g->nx;
+    if ((code = tg_nc_put_checksum(ncid, v_time, tg_fnv1a_doubles(TG_FNV1A_START, &days, 1), path,
+                                   "time", st)))
+        goto fail;
     for (int v = 0; v < nvars; v++)
-        if ((code = def_var(ncid, path, &vars[v], 3, dims, &vid[v], st)))
+        if ((code = def_var(ncid, path, &vars[v], 3, dims, &vid[v], st)) ||
+            (code = tg_nc_put_checksum(ncid, vid[v], tg_fnv1a_doubles(TG_FNV1A_START, data[v], n),
+                                       path, vars[v].name, st)))
             goto fail;
     if ((code = globals(ncid, path, g, atts, natts, st)))
         goto fail;
     TRY(nc_enddef(ncid), "finishing the header", NULL);
     if ((code = tg_nc_put_grid(ncid, path, g, &id, st)))
         goto fail;
-    const double days = time_s / DAY_S;
     TRY(nc_put_var_double(ncid, v_time, &days), "writing", "time");
     for (int v = 0; v < nvars; v++)
         TRY(nc_put_var_double(ncid, vid[v], data[v]), "writing", vars[v].name);

@@ -58,7 +58,8 @@ tg_code tg_record_file_append(tg_record_file *f, double time_s, const double *co
 /* Closes and frees (frees even on error). */
 tg_code tg_record_file_close(tg_record_file *f, tg_status *st);
 
-/* Writes (clobbering) a map file: data[v] is nlayers*ny*nx. */
+/* Writes (clobbering) a map file: data[v] is nlayers*ny*nx. time and every
+ * variable carry a data_checksum attribute (ncverify.h). */
 tg_code tg_map_file_write(const char *path, const tg_nc_grid *g, double time_s,
                           const tg_twin_var *vars, int nvars, const double *const *data,
                           const tg_twin_attr *atts, int natts, tg_status *st);

@@ -2,7 +2,8 @@
 # test_inputs.sh - damaged and doubtful inputs are refused, not read as zeros:
 # a checkpoint.nc cut by one byte, to 90 % and to 50 %, a fields.nc cut to
 # 50 % as [initial] state, a subgrid.nc cut to 90 % given to `fit`, a
-# checkpoint with one flipped data byte, a state holding NaN, a checkpoint
+# checkpoint or a twin's coarse_start.nc with one flipped data byte, a
+# state holding NaN, a checkpoint
 # whose step is 1e20, NaN or 2.5 or disagrees with its time, a FIFO as
 # initial state or as `fit` input. Each gets its documented exit status, a
 # message naming the file and what is wrong, and writes nothing. Also: the
@@ -59,6 +60,13 @@ with netCDF4.Dataset(path, "r+") as d:
 PYEOF
 edit() { "$PYTHON" "$T/edit.py" "$@" >"$T/py" 2>&1; }
 
+# flip_byte FILE OFFSET MASK: XORs the byte at OFFSET with MASK in place.
+flip_byte() {
+    local byte
+    byte=$(od -An -tu1 -j "$2" -N1 "$1" | tr -d ' ')
+    printf "\\$(printf '%03o' $((byte ^ $3)))" | dd of="$1" bs=1 seek="$2" conv=notrunc 2>/dev/null
+}
+
 # A good run: fields.nc (11 records), checkpoint.nc at step 240.
 tg run "$SMALL" --out "$T/good" --quiet
 check "a good run to draw inputs from" $([ "$rc" -eq 0 ] && [ -s "$T/good/checkpoint.nc" ]; echo $?) "$(err_tail)"
@@ -93,9 +101,7 @@ refused "fields.nc cut to 50 % as [initial] state" "$T/fields_50.nc" 3 "cut shor
 
 # One byte inside q's data (the file ends with q), flipped.
 cp "$CK" "$T/ck_flip.nc"
-byte=$(od -An -tu1 -j $((size - 1000)) -N1 "$T/ck_flip.nc" | tr -d ' ')
-printf "\\$(printf '%03o' $((byte ^ 0x10)))" |
-    dd of="$T/ck_flip.nc" bs=1 seek=$((size - 1000)) conv=notrunc 2>/dev/null
+flip_byte "$T/ck_flip.nc" $((size - 1000)) 0x10
 refused "checkpoint with a flipped data byte" "$T/ck_flip.nc" 3 "do not match their checksum"
 
 edit checksum "$CK" q
@@ -145,6 +151,14 @@ tg fit "$T/sub_90.nc" --out "$T/fit_90.txt"
 check "fit on a subgrid.nc cut to 90 %: exit 3, names the file, 'cut short', no coefficients file" \
     $([ "$rc" -eq 3 ] && has "$T/sub_90.nc" "$T/err" && has "cut short" "$T/err" &&
         [ ! -e "$T/fit_90.txt" ]; echo $?) "$(err_tail)"
+
+# The twin's coarse_start.nc (read back by its coarse runs) is checksummed
+# too: a flipped byte in psi's data (the end of the file) is refused.
+cp "$T/tw/coarse_start.nc" "$T/start_flip.nc"
+csize=$(stat -c %s "$T/start_flip.nc")
+flip_byte "$T/start_flip.nc" $((csize - 3)) 0x01
+refused "the twin's coarse_start.nc with a flipped data byte" "$T/start_flip.nc" 3 \
+    "psi do not match their checksum"
 
 # A damaged checkpoint in a run's own folder: a resume from it leaves the
 # folder as it was (the checkpoint is not overwritten).
