@@ -302,7 +302,7 @@ static tg_code check_length(const char *path, tg_status *st)
                            "was cut short (or its header is damaged)",
                            path, r.size, recs, ex.end, ex.var);
         }
-    } else if (got < 4 && !(got >= 3 && memcmp(magic, "\x89HD", 3) == 0)) {
+    } else if (got < 4) {
         code = tg_fail(st, TG_ERR_IO, "%s: damaged file: %zu bytes, too short for NetCDF", path,
                        got);
     }
