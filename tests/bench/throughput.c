@@ -3,8 +3,7 @@
  *
  * For each config, a spun-up state is made once and cached: `twingyre run
  * CONFIG --set time.duration_days=SPINUP` into CACHE/NAME-HASH-SPINUPd/,
- * where HASH is the FNV-1a hash (Fowler, Noll and Vo; the 64-bit variant,
- * common practice) of the config file's bytes, so that an edited config
+ * where HASH is the 64-bit FNV-1a hash (ncverify.h) of the config file's bytes, so that an edited config
  * gets a new state; the folder is renamed into place only when the run
  * ended well, and a later benchmark reuses its checkpoint.nc. Each timed run
  * then resumes that checkpoint for DAYS more model days with the config's
@@ -38,6 +37,8 @@
 #include <sys/wait.h>
 #include <time.h>
 #include <unistd.h>
+
+#include "ncverify.h"
 
 #define TP_MAX_ARGS 32
 #define TARGET_LOADED_RATIO 1.2 /* 2-thread wall / 1-thread wall, loaded */
@@ -76,18 +77,17 @@ bad:
     return -1;
 }
 
-/* FNV-1a, 64 bits, of a file's bytes; 0 when it cannot be read. */
+/* FNV-1a (ncverify.h) of a file's bytes; 0 when it cannot be read. */
 static uint64_t file_hash(const char *path)
 {
     FILE *f = fopen(path, "rb");
     if (!f)
         return 0;
-    uint64_t h = 1469598103934665603ULL;
-    int ch;
-    while ((ch = getc(f)) != EOF) {
-        h ^= (uint64_t)(unsigned char)ch;
-        h *= 1099511628211ULL;
-    }
+    uint64_t h = TG_FNV1A_START;
+    unsigned char buf[4096];
+    size_t n;
+    while ((n = fread(buf, 1, sizeof buf, f)) > 0)
+        h = tg_fnv1a_bytes(h, buf, n);
     fclose(f);
     return h;
 }
