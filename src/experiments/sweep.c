@@ -416,8 +416,8 @@ tg_code tg_sweep_member_config(const tg_sweep *sw, int k, tg_config *cfg, tg_sta
         return tg_fail(st, TG_ERR_CONFIG, "%s: the member folder %s is too long", sw->path, dir);
     strcpy(cfg->out_directory, dir);
     if (sw->kind == TG_SWEEP_TWIN)
-        return tg_twin_check(cfg, sw->base, st);
-    return tg_config_check(cfg, sw->base, st);
+        return tg_config_validate(cfg, TG_USE_TWIN | TG_USE_QUIET, sw->base, st);
+    return tg_config_validate(cfg, TG_USE_RUN | TG_USE_QUIET, sw->base, st);
 }
 
 /* ---------------------------------------------------------------- loading */

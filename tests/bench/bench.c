@@ -47,6 +47,7 @@
 #include "sinetf.h"
 #include "status.h"
 #include "stepper.h"
+#include "twingyre.h"
 
 #define MAX_LIST 16
 #define MAX_SETS 64
@@ -558,6 +559,7 @@ static void target_line(const char *what, const char *conf, double v, const char
 
 int main(int argc, char **argv)
 {
+    tg_init(); /* the closure layer's config checks, as the command installs them */
     options o;
     if (parse_args(argc, argv, &o) != 0)
         return 1;
