@@ -127,6 +127,72 @@ tg_code tg_cfg_state_file_rule(const tg_config *cfg, int key, const char *path, 
     return TG_OK;
 }
 
+/* Most steps a run may take: a run of more is a mistake (a step of 1e-3 s
+ * for years), and every step count then fits in any integer type. */
+#define MAX_STEPS 1e9
+
+/* SSP-RK3 is stable for dt * lambda up to about 2.51 on the negative real
+ * axis (Gottlieb, Shu & Tadmor 2001, SIAM Review 43(1), "Strong
+ * stability-preserving high-order time discretization methods", the
+ * stability region of the third-order scheme; the value 2.51 is from
+ * memory). A step beyond ten times that is absurd and refused here; one
+ * nearer is left to the run, whose blow-up checks say what happened (the
+ * factor ten is a choice: the 5-point estimate of the grid-scale
+ * eigenvalue is not exact on every grid). */
+#define RK3_REAL_LIMIT 2.51
+#define ABSURD_FACTOR 10.0
+
+/* Quantities derived from several keys, checked here so that a value that
+ * passes each key's range cannot break the run later: the step count, the
+ * deformation radius of each interface, and the explicit diffusive limit. */
+static tg_code derived_rules(const tg_config *cfg, const char *origin, tg_status *st)
+{
+    char note[64];
+    const double steps = cfg->duration_days * TG_SECONDS_PER_DAY / cfg->step_s;
+    if (!(steps <= MAX_STEPS)) {
+        const int at = cfg->set_by_user[K_DURATION] ? K_DURATION : K_STEP;
+        tg_cfg_key_note(cfg, at == K_DURATION ? K_STEP : K_DURATION, note, sizeof note);
+        return tg_cfg_key_fail(cfg, at, origin, st,
+                               "%g days in steps of %g s%s is %.3g steps; at most %.0e are allowed",
+                               cfg->duration_days, cfg->step_s, note, steps, MAX_STEPS);
+    }
+    /* The deformation radius of interface i as if its two layers were
+     * alone, sqrt(g'_i H_i H_{i+1} / (H_i + H_{i+1})) / |f0| (Vallis 2017,
+     * Atmospheric and Oceanic Fluid Dynamics, 2nd ed., section 5.4). */
+    for (int i = 0; i + 1 < cfg->nlayers && i < cfg->n_reduced_gravity; i++) {
+        const double h1 = cfg->thickness_m[i], h2 = cfg->thickness_m[i + 1];
+        const double r = sqrt(cfg->reduced_gravity_m_s2[i] * h1 * h2 / (h1 + h2)) /
+                         fabs(cfg->coriolis_f0_per_s);
+        if (!(isfinite(r) && r > 0.0))
+            return tg_cfg_key_fail(cfg, K_F0, origin, st,
+                                   "the deformation radius of interface %d is %g m; it must be "
+                                   "finite and positive", i + 1, r);
+    }
+    /* The fastest damping of the explicit step: the grid-scale mode of the
+     * 5-point Laplacian (eigenvalue -8/dx^2), of its square, and the bottom
+     * drag. */
+    const int periodic = cfg->geometry == TG_GEOM_PERIODIC;
+    const double dx = cfg->size_km * 1e3 / (periodic ? cfg->points : cfg->points - 1);
+    const double lam2 = 8.0 * cfg->viscosity_m2_per_s / (dx * dx);
+    const double lam4 = 64.0 * cfg->hyperviscosity_m4_per_s / (dx * dx * dx * dx);
+    const double lamr = cfg->bottom_drag_per_s;
+    const double worst = cfg->step_s * (lam2 + lam4 + lamr);
+    if (!(worst <= ABSURD_FACTOR * RK3_REAL_LIMIT)) {
+        int at = lam2 >= lam4 && lam2 >= lamr ? K_VISCOSITY : lam4 >= lamr ? K_HYPERVISCOSITY
+                                                                            : K_DRAG;
+        if (!cfg->set_by_user[at] && cfg->set_by_user[K_STEP])
+            at = K_STEP;
+        tg_cfg_key_note(cfg, K_STEP, note, sizeof note);
+        return tg_cfg_key_fail(cfg, at, origin, st,
+                               "the explicit step is unstable at the grid scale: step_s%s = %g s "
+                               "times the damping rate (8 A2/dx^2 + 64 A4/dx^4 + r = %.3g s-1 with "
+                               "dx = %g m) is %.3g, more than ten times %.2f, the limit of the "
+                               "RK3 step; shorten the step or lower the dissipation",
+                               note, cfg->step_s, lam2 + lam4 + lamr, dx, worst, RK3_REAL_LIMIT);
+    }
+    return TG_OK;
+}
+
 /* The rules between the keys a run uses (no closures, no warnings). */
 static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *st)
 {
@@ -233,6 +299,10 @@ static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *s
                             days, note, cfg->step_s, cfg->step_s / TG_SECONDS_PER_DAY);
         }
     }
+
+    tg_code drc = derived_rules(cfg, origin, st);
+    if (drc != TG_OK)
+        return drc;
 
     /* The initial state file. */
     if (cfg->initial_kind == TG_INIT_FILE) {

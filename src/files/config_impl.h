@@ -35,6 +35,11 @@ typedef struct {
     bound_kind lo_kind, hi_kind;        /* numbers (each list item) */
     double lo, hi;
     int nonzero;                        /* numbers: 0 is not allowed */
+    /* Reals: the range a user could mean (|v| for a nonzero key), beyond
+     * the rule in `expect`; `sane` words it after `expect` ("and at most
+     * 1e6"). NULL: no more than `expect`. */
+    const char *sane;
+    double sane_lo, sane_hi;
     const char *const *choices;         /* V_CHOICE: NULL-terminated, index = enum value */
     int (*get)(const tg_config *);      /* V_CHOICE */
     void (*put)(tg_config *, int);      /* V_CHOICE */

@@ -73,6 +73,14 @@ static void put_twin_filter(tg_config *c, int v) { c->twin_filter = (tg_twin_fil
 #define OFF(field) offsetof(tg_config, field)
 #define REAL_GT0(expect_) .kind = V_REAL, .lo_kind = B_EXCL, .lo = 0.0, .expect = expect_
 #define REAL_GE0(expect_) .kind = V_REAL, .lo_kind = B_INCL, .lo = 0.0, .expect = expect_
+/* The same with an upper bound: every key has a range a user could mean,
+ * so that a value like 1e308 is refused here and not met as a blow-up. */
+#define REAL_GT0_TO(hi_) \
+    .kind = V_REAL, .lo_kind = B_EXCL, .lo = 0.0, .expect = "a real number > 0", \
+    .sane = "and at most " #hi_, .sane_hi = hi_
+#define REAL_GE0_TO(hi_) \
+    .kind = V_REAL, .lo_kind = B_INCL, .lo = 0.0, .expect = "a real number >= 0", \
+    .sane = "and at most " #hi_, .sane_hi = hi_
 
 const key_row tg_cfg_rows[K_COUNT] = {
     /* [grid] */
@@ -82,9 +90,9 @@ const key_row tg_cfg_rows[K_COUNT] = {
         .kind = V_CHOICE, .choices = geometry_names, .get = get_geometry, .put = put_geometry,
         .expect = "one of basin, periodic"},
     [K_SIZE] = {
-        .info = {"grid", "size_km", "km", "real", "3840", "> 0",
+        .info = {"grid", "size_km", "km", "real", "3840", "> 0, at most 40000",
                  "side length of the square domain"},
-        .off = OFF(size_km), REAL_GT0("a real number > 0")},
+        .off = OFF(size_km), REAL_GT0_TO(40000)},
     [K_POINTS] = {
         .info = {"grid", "points", "", "integer", "129",
                  "basin: 2^k + 1 from 17 to 4097; periodic: 2^k from 16 to 4096",
@@ -108,42 +116,49 @@ const key_row tg_cfg_rows[K_COUNT] = {
     /* [layers] */
     [K_THICKNESS] = {
         .info = {"layers", "thickness_m", "m", "list of reals", "1000, 3000",
-                 "1 to 6 comma-separated values, each > 0",
+                 "1 to 6 comma-separated values, each > 0 and at most 12000",
                  "resting thickness of each layer, top first; the count sets the number of layers"},
         .kind = V_REAL_LIST, .off = OFF(thickness_m), .count_off = OFF(nlayers),
         .min_count = 1, .max_count = TG_MAX_LAYERS, .lo_kind = B_EXCL, .lo = 0.0,
-        .expect = "a comma-separated list of 1 to 6 real numbers, each > 0", .item_rule = "> 0"},
+        .hi_kind = B_INCL, .hi = 12000.0,
+        .expect = "a comma-separated list of 1 to 6 real numbers, each > 0 and at most 12000",
+        .item_rule = "> 0 and at most 12000"},
     [K_REDUCED_GRAVITY] = {
         .info = {"layers", "reduced_gravity_m_s2", "m s-2", "list of reals", "0.02",
-                 "one value per interface (layers - 1), each > 0",
+                 "one value per interface (layers - 1), each > 0 and at most 10",
                  "reduced gravity across each interface, top first"},
         .kind = V_REAL_LIST, .off = OFF(reduced_gravity_m_s2), .count_off = OFF(n_reduced_gravity),
         .min_count = 0, .max_count = TG_MAX_LAYERS - 1, .lo_kind = B_EXCL, .lo = 0.0,
-        .expect = "a comma-separated list of 0 to 5 real numbers (one per interface), each > 0",
-        .item_rule = "> 0",
+        .hi_kind = B_INCL, .hi = 10.0,
+        .expect = "a comma-separated list of 0 to 5 real numbers (one per interface), each > 0 "
+                  "and at most 10",
+        .item_rule = "> 0 and at most 10",
         .follow = follow_reduced_gravity, .follows = "none for 1 layer; required for 3 or more"},
 
     /* [planet] */
     [K_F0] = {
-        .info = {"planet", "coriolis_f0_per_s", "s-1", "real", "9.37e-5", "nonzero",
+        .info = {"planet", "coriolis_f0_per_s", "s-1", "real", "9.37e-5",
+                 "nonzero, magnitude from 1e-7 to 1e-2",
                  "Coriolis parameter at the middle latitude of the domain (negative in the south)"},
         .kind = V_REAL, .off = OFF(coriolis_f0_per_s), .nonzero = 1,
-        .expect = "a nonzero real number"},
+        .expect = "a nonzero real number", .sane = "with a magnitude from 1e-7 to 1e-2",
+        .sane_lo = 1e-7, .sane_hi = 1e-2},
     [K_BETA] = {
-        .info = {"planet", "beta_per_m_per_s", "m-1 s-1", "real", "1.75e-11", ">= 0",
+        .info = {"planet", "beta_per_m_per_s", "m-1 s-1", "real", "1.75e-11", "0 to 1e-9",
                  "northward rate of change of the Coriolis parameter"},
-        .off = OFF(beta_per_m_per_s), REAL_GE0("a real number >= 0")},
+        .off = OFF(beta_per_m_per_s), REAL_GE0_TO(1e-9)},
 
     /* [background] */
     [K_BACKGROUND_U] = {
         .info = {"background", "zonal_velocity_m_s", "m s-1", "list of reals", "",
-                 "periodic only: one value per layer, any sign (empty: no background flow)",
+                 "periodic only: one value per layer, each from -100 to 100 (empty: no background flow)",
                  "uniform imposed eastward velocity of each layer, top first; its vertical "
                  "shear drives baroclinic eddies"},
         .kind = V_REAL_LIST, .off = OFF(zonal_velocity_m_s), .count_off = OFF(n_zonal_velocity),
         .min_count = 0, .max_count = TG_MAX_LAYERS,
-        .expect = "a comma-separated list of 0 to 6 real numbers (one per layer)",
-        .item_rule = "a finite real number"},
+        .lo_kind = B_INCL, .lo = -100.0, .hi_kind = B_INCL, .hi = 100.0,
+        .expect = "a comma-separated list of 0 to 6 real numbers (one per layer), each from -100 to 100",
+        .item_rule = "from -100 to 100"},
 
     /* [wind] */
     [K_WIND_PROFILE] = {
@@ -153,37 +168,38 @@ const key_row tg_cfg_rows[K_COUNT] = {
         .expect = "one of double_gyre, single_gyre, none",
         .follow = follow_wind, .follows = "none when geometry = periodic"},
     [K_STRESS] = {
-        .info = {"wind", "stress_amplitude_pa", "Pa", "real", "0.08", ">= 0",
+        .info = {"wind", "stress_amplitude_pa", "Pa", "real", "0.08", "0 to 100",
                  "peak magnitude of the zonal wind stress"},
-        .off = OFF(stress_amplitude_pa), REAL_GE0("a real number >= 0")},
+        .off = OFF(stress_amplitude_pa), REAL_GE0_TO(100)},
     [K_DENSITY] = {
-        .info = {"wind", "reference_density_kg_m3", "kg m-3", "real", "1030", "> 0",
+        .info = {"wind", "reference_density_kg_m3", "kg m-3", "real", "1030", "> 0, at most 1e4",
                  "reference sea-water density that converts stress into forcing"},
-        .off = OFF(reference_density_kg_m3), REAL_GT0("a real number > 0")},
+        .off = OFF(reference_density_kg_m3), REAL_GT0_TO(1e4)},
 
     /* [dissipation] */
     [K_DRAG] = {
-        .info = {"dissipation", "bottom_drag_per_s", "s-1", "real", "1e-7", ">= 0",
+        .info = {"dissipation", "bottom_drag_per_s", "s-1", "real", "1e-7", "0 to 1e-2",
                  "linear drag rate on the bottom layer"},
-        .off = OFF(bottom_drag_per_s), REAL_GE0("a real number >= 0")},
+        .off = OFF(bottom_drag_per_s), REAL_GE0_TO(1e-2)},
     [K_VISCOSITY] = {
-        .info = {"dissipation", "viscosity_m2_per_s", "m2 s-1", "real", "200", ">= 0",
+        .info = {"dissipation", "viscosity_m2_per_s", "m2 s-1", "real", "200", "0 to 1e6",
                  "harmonic (Laplacian) lateral viscosity"},
-        .off = OFF(viscosity_m2_per_s), REAL_GE0("a real number >= 0")},
+        .off = OFF(viscosity_m2_per_s), REAL_GE0_TO(1e6)},
     [K_HYPERVISCOSITY] = {
-        .info = {"dissipation", "hyperviscosity_m4_per_s", "m4 s-1", "real", "0", ">= 0",
+        .info = {"dissipation", "hyperviscosity_m4_per_s", "m4 s-1", "real", "0", "0 to 1e16",
                  "biharmonic lateral viscosity; 0 switches it off"},
-        .off = OFF(hyperviscosity_m4_per_s), REAL_GE0("a real number >= 0")},
+        .off = OFF(hyperviscosity_m4_per_s), REAL_GE0_TO(1e16)},
 
     /* [time] */
     [K_STEP] = {
-        .info = {"time", "step_s", "s", "real", "1800", "> 0, at most the duration",
+        .info = {"time", "step_s", "s", "real", "1800", "1e-3 to 1e7, at most the duration",
                  "fixed time step"},
-        .off = OFF(step_s), REAL_GT0("a real number > 0")},
+        .off = OFF(step_s), REAL_GT0("a real number > 0"), .sane = "from 1e-3 to 1e7",
+        .sane_lo = 1e-3, .sane_hi = 1e7},
     [K_DURATION] = {
-        .info = {"time", "duration_days", "days", "real", "360", "> 0",
+        .info = {"time", "duration_days", "days", "real", "360", "> 0, at most 1e6; at most 1e9 steps",
                  "length of the run, counted from day 0"},
-        .off = OFF(duration_days), REAL_GT0("a real number > 0")},
+        .off = OFF(duration_days), REAL_GT0_TO(1e6)},
     [K_MAX_CFL] = {
         .info = {"time", "max_cfl", "", "real", "1.0", "> 0",
                  "largest advective CFL number allowed; a step above it stops the run"},
@@ -197,9 +213,9 @@ const key_row tg_cfg_rows[K_COUNT] = {
         .kind = V_INITIAL,
         .expect = "rest, noise or the path of a readable file"},
     [K_NOISE] = {
-        .info = {"initial", "noise_amplitude_m2_per_s", "m2 s-1", "real", "1000", "> 0",
+        .info = {"initial", "noise_amplitude_m2_per_s", "m2 s-1", "real", "1000", "> 0, at most 1e9",
                  "r.m.s. streamfunction of the initial noise (state = noise)"},
-        .off = OFF(noise_amplitude_m2_per_s), REAL_GT0("a real number > 0")},
+        .off = OFF(noise_amplitude_m2_per_s), REAL_GT0_TO(1e9)},
     [K_SEED] = {
         .info = {"initial", "seed", "", "integer", "1", "0 to 18446744073709551615",
                  "seed of every random number the run draws"},
@@ -213,18 +229,18 @@ const key_row tg_cfg_rows[K_COUNT] = {
         .kind = V_TEXT, .off = OFF(out_directory),
         .expect = "a directory path"},
     [K_SNAPSHOT_EVERY] = {
-        .info = {"output", "snapshot_every_days", "days", "real", "30", "> 0, at least one step",
+        .info = {"output", "snapshot_every_days", "days", "real", "30", "> 0, at most 1e6, at least one step",
                  "interval between field snapshots"},
-        .off = OFF(snapshot_every_days), REAL_GT0("a real number > 0")},
+        .off = OFF(snapshot_every_days), REAL_GT0_TO(1e6)},
     [K_CHECKPOINT_EVERY] = {
         .info = {"output", "checkpoint_every_days", "days", "real", "360",
-                 ">= 0 (0: only at the end), at least one step",
+                 ">= 0 (0: only at the end), at most 1e6, at least one step",
                  "interval between checkpoint rewrites"},
-        .off = OFF(checkpoint_every_days), REAL_GE0("a real number >= 0")},
+        .off = OFF(checkpoint_every_days), REAL_GE0_TO(1e6)},
     [K_LOG_EVERY] = {
-        .info = {"output", "log_every_days", "days", "real", "30", "> 0, at least one step",
+        .info = {"output", "log_every_days", "days", "real", "30", "> 0, at most 1e6, at least one step",
                  "interval between budget summary lines in the log"},
-        .off = OFF(log_every_days), REAL_GT0("a real number > 0")},
+        .off = OFF(log_every_days), REAL_GT0_TO(1e6)},
 
     /* [twin]: read by `twingyre twin` only (twin.h) */
     [K_TWIN_REF_POINTS] = {
@@ -245,19 +261,20 @@ const key_row tg_cfg_rows[K_COUNT] = {
         .follow = follow_coarse_points, .follows = "128 when geometry = periodic"},
     [K_TWIN_SPINUP] = {
         .info = {"twin", "spinup_days", "days", "real", "3600",
-                 ">= 0, a whole number of reference steps",
+                 ">= 0, at most 1e6, a whole number of reference steps",
                  "reference run before the analysis window starts (from [initial] state)"},
-        .off = OFF(twin_spinup_days), REAL_GE0("a real number >= 0")},
+        .off = OFF(twin_spinup_days), REAL_GE0_TO(1e6)},
     [K_TWIN_ANALYSIS] = {
         .info = {"twin", "analysis_days", "days", "real", "1800",
-                 "> 0, a whole number of sample intervals",
+                 "> 0, at most 1e6, a whole number of sample intervals",
                  "length of the analysis window: sampled reference and coarse runs"},
-        .off = OFF(twin_analysis_days), REAL_GT0("a real number > 0")},
+        .off = OFF(twin_analysis_days), REAL_GT0_TO(1e6)},
     [K_TWIN_SAMPLE] = {
         .info = {"twin", "sample_every_days", "days", "real", "10",
-                 "> 0, a whole number of steps of both the reference and the coarse runs",
+                 "> 0, at most 1e6, a whole number of steps of both the reference and the "
+                 "coarse runs",
                  "interval between samples (subgrid.nc records, coarse-run snapshots)"},
-        .off = OFF(twin_sample_every_days), REAL_GT0("a real number > 0")},
+        .off = OFF(twin_sample_every_days), REAL_GT0_TO(1e6)},
     [K_TWIN_COMPARE] = {
         .info = {"twin", "compare", "", "text", "none",
                  "comma-separated closure names (`twingyre closures`), plugin:PATH.so, "
@@ -290,14 +307,14 @@ const key_row tg_cfg_rows[K_COUNT] = {
         .kind = V_TEXT, .off = OFF(vet_reference_state),
         .expect = "spinup or the path of a state file"},
     [K_VET_SPINUP] = {
-        .info = {"vet", "spinup_days", "days", "real", "360", ">= 0",
+        .info = {"vet", "spinup_days", "days", "real", "360", ">= 0, at most 1e6",
                  "length of the spin-up that makes the reference state (reference_state = spinup)"},
-        .off = OFF(vet_spinup_days), REAL_GE0("a real number >= 0")},
+        .off = OFF(vet_spinup_days), REAL_GE0_TO(1e6)},
     [K_VET_WINDOW] = {
         .info = {"vet", "window_days", "days", "real", "30",
-                 "> 0, at least one step of the largest step factor",
+                 "> 0, at most 1e6, at least one step of the largest step factor",
                  "length of each online run from the reference state"},
-        .off = OFF(vet_window_days), REAL_GT0("a real number > 0")},
+        .off = OFF(vet_window_days), REAL_GT0_TO(1e6)},
     [K_VET_STEP_FACTORS] = {
         .info = {"vet", "step_factors", "", "list of reals", "0.5, 1, 2",
                  "1 to 6 comma-separated values, each > 0 and at most 16",
@@ -335,10 +352,12 @@ const key_row tg_cfg_rows[K_COUNT] = {
         .kind = V_REAL, .off = OFF(vet_noise_limit), .lo_kind = B_EXCL, .lo = 0.0,
         .hi_kind = B_EXCL, .hi = 1.0, .expect = "a real number > 0 and below 1"},
     [K_VET_MARGIN] = {
-        .info = {"vet", "required_margin", "", "real", "2", ">= 1, at most the largest multiplier",
+        .info = {"vet", "required_margin", "", "real", "2",
+                 ">= 1, at most the largest multiplier (at most 1000)",
                  "the closure must stay stable online up to this multiplier"},
         .kind = V_REAL, .off = OFF(vet_required_margin), .lo_kind = B_INCL, .lo = 1.0,
-        .expect = "a real number >= 1",
+        .expect = "a real number >= 1", .sane = "and at most 1000",
+        .sane_hi = 1000.0,
         .follow = follow_margin, .follows = "the largest multiplier when that is below 2"},
     [K_VET_FINER] = {
         .info = {"vet", "finer_grid", "", "choice", "yes", "yes, no",
@@ -349,6 +368,8 @@ const key_row tg_cfg_rows[K_COUNT] = {
 
 #undef REAL_GT0
 #undef REAL_GE0
+#undef REAL_GT0_TO
+#undef REAL_GE0_TO
 #undef OFF
 
 int tg_config_key_count(void) { return K_COUNT; }

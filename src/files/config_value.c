@@ -123,6 +123,7 @@ static int in_bounds(const key_row *r, double v)
         return 0;
     if (r->nonzero && v == 0.0)
         return 0;
+
     return 1;
 }
 
@@ -175,6 +176,11 @@ int tg_cfg_apply_value(const key_row *r, tg_config *cfg, const char *value, char
         }
         if (rc != NUM_OK || !in_bounds(r, v)) {
             snprintf(why, n, "expected %s, got %s", r->expect, q);
+            return -1;
+        }
+        const double a = r->nonzero ? fabs(v) : v;
+        if (r->sane && !(a >= r->sane_lo && a <= r->sane_hi)) {
+            snprintf(why, n, "expected %s %s, got %s", r->expect, r->sane, q);
             return -1;
         }
         memcpy(base + r->off, &v, sizeof v);
