@@ -15,6 +15,7 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include "config_impl.h"
+#include "ini_lines.h"
 #include "textfile.h"
 
 #include <ini.h>
@@ -139,157 +140,31 @@ void tg_cfg_follow_defaults(tg_config *cfg)
 #define CONFIG_FILE_MAX (1024L * 1024L)
 
 typedef struct {
-    const char *path;
-    const char *buf;          /* whole file, NUL-terminated */
-    size_t len, pos;
-    int lineno;               /* line most recently handed to libinih */
-    char section[64];         /* last [section] header seen, for messages */
-    int failed;               /* an error is recorded in st */
-    int err_line;
+    tg_ini_lines lines;       /* the reader: path, line numbers, the first failure */
     int line_of[K_COUNT];     /* line where each key was set in this file */
     tg_config *work;          /* values being read; copied out on success */
-    tg_status *st;
 } load_ctx;
 
-static void load_fail(load_ctx *c, int line, const char *fmt, ...) __attribute__((format(printf, 3, 4)));
-static void load_fail(load_ctx *c, int line, const char *fmt, ...)
+#define load_fail(c, line, ...) tg_ini_lines_fail(&(c)->lines, line, __VA_ARGS__)
+
+/* Each [section] header: a section of the table, [twin.*] or a closure's. */
+static int config_header(void *user, const char *name, char *why, size_t n)
 {
-    if (c->failed)
-        return;
-    char msg[TG_MSG_LEN];
-    va_list ap;
-    va_start(ap, fmt);
-    vsnprintf(msg, sizeof msg, fmt, ap);
-    va_end(ap);
-    tg_fail(c->st, TG_ERR_CONFIG, "%s:%d: %s", c->path, line, msg);
-    c->failed = 1;
-    c->err_line = line;
+    (void)user;
+    if (tg_cfg_section_exists(name))
+        return 0;
+    tg_cfg_explain_unknown_section(name, STYLE_FILE, why, n);
+    return -1;
 }
 
-/* Copies line `lineno` (1-based) of buf without its line end into out. */
-static void nth_line(const char *buf, size_t len, int lineno, char *out, size_t n)
-{
-    const char *p = buf, *end = buf + len;
-    for (int k = 1; k < lineno && p < end; k++) {
-        const char *nl = memchr(p, '\n', (size_t)(end - p));
-        p = nl ? nl + 1 : end;
-    }
-    size_t l = strcspn(p, "\r\n");
-    if (l > (size_t)(end - p))
-        l = (size_t)(end - p);
-    if (l + 1 > n)
-        l = n - 1;
-    memcpy(out, p, l);
-    out[l] = '\0';
-}
-
-/* Best guess at "[section] key" for a line the reader rejects. */
-static void describe_line_key(const char *line, const char *section, char *out, size_t n)
-{
-    const char *p = line;
-    out[0] = '\0';
-    while (*p == ' ' || *p == '\t')
-        p++;
-    size_t klen = strcspn(p, "=:;");
-    if (p[klen] != '=' && p[klen] != ':')
-        return;
-    while (klen > 0 && isspace((unsigned char)p[klen - 1]))
-        klen--;
-    if (klen == 0 || klen > 60)
-        return;
-    if (section[0])
-        snprintf(out, n, "[%s] %.*s: ", section, (int)klen, p);
-    else
-        snprintf(out, n, "%.*s: ", (int)klen, p);
-}
-
-/* The ini_reader given to libinih: hands out one line of the in-memory file,
- * counting lines and checking what libinih would mishandle. */
-static char *reader(char *str, int num, void *stream)
-{
-    load_ctx *c = stream;
-    if (c->failed || c->pos >= c->len || num < 4)
-        return NULL;
-
-    const char *start = c->buf + c->pos;
-    size_t rest = c->len - c->pos;
-    const char *nl = memchr(start, '\n', rest);
-    size_t take = nl ? (size_t)(nl - start) + 1 : rest;
-    size_t content = nl ? (size_t)(nl - start) : rest;
-    if (content > 0 && start[content - 1] == '\r')
-        content--;
-    c->lineno++;
-    c->pos += take;
-
-    const char *text = start;
-    size_t bom = 0;
-    if (c->lineno == 1 && content >= 3 && memcmp(start, "\xEF\xBB\xBF", 3) == 0)
-        bom = 3;
-    text += bom;
-
-    if (content > (size_t)num - 3) {
-        char key[128], head[96];
-        snprintf(head, sizeof head, "%.*s", (int)(content - bom < 90 ? content - bom : 90), text);
-        describe_line_key(head, c->section, key, sizeof key);
-        load_fail(c, c->lineno,
-                  "%sline is %zu characters long; at most %d are allowed "
-                  "(move a trailing comment onto its own line, or shorten the value)",
-                  key, content - bom, num - 3);
-        return NULL;
-    }
-    memcpy(str, start, take);
-    str[take] = '\0';
-
-    /* libinih glues an indented line to the previous value; refuse it. */
-    const char *p = str + bom;
-    if (*p == ' ' || *p == '\t') {
-        while (*p == ' ' || *p == '\t')
-            p++;
-        if (*p != '\0' && *p != '\r' && *p != '\n' && *p != ';' && *p != '#') {
-            load_fail(c, c->lineno,
-                      "line is indented; start keys and [section] headers in the first column "
-                      "(an indented line would be read as a continuation of the previous value)");
-            return NULL;
-        }
-    }
-
-    /* Check [section] headers here: libinih does not report empty sections. */
-    if (*p == '[') {
-        const char *close = strchr(p + 1, ']');
-        if (close) {
-            char name[64];
-            size_t l = (size_t)(close - (p + 1));
-            if (l >= sizeof name)
-                l = sizeof name - 1;
-            memcpy(name, p + 1, l);
-            name[l] = '\0';
-            /* libinih drops anything after the ']'; refuse it instead. */
-            const char *after = close + 1 + strspn(close + 1, " \t\r\n");
-            if (*after != '\0' && *after != ';' && *after != '#') {
-                load_fail(c, c->lineno, "[%s]: unexpected text after the section header: '%.40s' "
-                          "(a comment starts with ';' or '#')", name, after);
-                return NULL;
-            }
-            if (!tg_cfg_section_exists(name)) {
-                char why[512];
-                tg_cfg_explain_unknown_section(name, STYLE_FILE, why, sizeof why);
-                load_fail(c, c->lineno, "%s", why);
-                return NULL;
-            }
-            memcpy(c->section, name, l + 1);
-        }
-    }
-    return str;
-}
-
-/* The libinih handler: one key = value pair on line c->lineno. */
+/* The libinih handler: one key = value pair on line c->lines.lineno. */
 static int on_pair(void *user, const char *section, const char *name, const char *value)
 {
     load_ctx *c = user;
-    int line = c->lineno;
+    int line = c->lines.lineno;
     char why[TG_MSG_LEN];
 
-    if (c->failed)
+    if (c->lines.failed)
         return 0;
     if (!value)
         value = "";
@@ -362,16 +237,6 @@ static int is_resolved(const char *text)
 static tg_code load_buffer(tg_config *cfg, const char *path, char *buf, size_t len,
                            tg_status *st)
 {
-    tg_code rc;
-    const char *nul = memchr(buf, '\0', len);
-    if (nul) {
-        int line = 1;
-        for (const char *p = buf; p < nul; p++)
-            line += *p == '\n';
-        return tg_fail(st, TG_ERR_CONFIG, "%s:%d: contains a NUL byte; is this really a text file?",
-                       path, line);
-    }
-
     load_ctx *c = calloc(1, sizeof *c);
     tg_config *work = malloc(sizeof *work);
     if (!c || !work) {
@@ -380,38 +245,16 @@ static tg_code load_buffer(tg_config *cfg, const char *path, char *buf, size_t l
         return tg_fail(st, TG_ERR_NOMEM, "out of memory reading config file '%s'", path);
     }
     *work = *cfg;
-    c->path = path;
-    c->buf = buf;
-    c->len = len;
     c->work = work;
-    c->st = st;
-
-    int r = ini_parse_stream(reader, c, on_pair, c);
-    if (r == -2) {
-        rc = tg_fail(st, TG_ERR_NOMEM, "libinih could not allocate a line buffer for '%s'", path);
-    } else if (r > 0 && (!c->failed || r < c->err_line)) {
-        /* A line libinih could not read (the handler never saw it). */
-        char text[128], q[160];
-        nth_line(buf, len, r, text, sizeof text);
-        tg_cfg_quote(text, q, sizeof q);
-        const char *t = text;
-        while (isspace((unsigned char)*t))
-            t++;
-        if (*t == '[')
-            rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: section header %s has no closing ']'", path, r, q);
-        else
-            rc = tg_fail(st, TG_ERR_CONFIG,
-                         "%s:%d: expected 'key = value', a [section] header or a comment, got %s",
-                         path, r, q);
-    } else if (c->failed) {
-        rc = TG_ERR_CONFIG;
-    } else if (r != 0) {
-        rc = tg_fail(st, TG_ERR_INTERNAL, "%s: libinih returned %d", path, r);
-    } else {
+    tg_code rc = tg_ini_lines_start(&c->lines, path, buf, len, st);
+    c->lines.header = config_header;
+    if (rc == TG_OK)
+        rc = tg_ini_lines_finish(&c->lines, ini_parse_stream(tg_ini_lines_read, &c->lines, on_pair, c),
+                                 st);
+    if (rc == TG_OK) {
         work->resolved = is_resolved(buf);
         tg_cfg_follow_defaults(work);
         *cfg = *work;
-        rc = TG_OK;
     }
     free(work);
     free(c);
