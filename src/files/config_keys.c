@@ -139,7 +139,8 @@ const key_row tg_cfg_rows[K_COUNT] = {
     [K_F0] = {
         .info = {"planet", "coriolis_f0_per_s", "s-1", "real", "9.37e-5",
                  "nonzero, magnitude from 1e-7 to 1e-2",
-                 "Coriolis parameter at the middle latitude of the domain (negative in the south)"},
+                 "Coriolis parameter at the middle latitude of the domain (negative in the southern "
+                 "hemisphere)"},
         .kind = V_REAL, .off = OFF(coriolis_f0_per_s), .nonzero = 1,
         .expect = "a nonzero real number", .sane = "with a magnitude from 1e-7 to 1e-2",
         .sane_lo = 1e-7, .sane_hi = 1e-2},
@@ -183,11 +184,11 @@ const key_row tg_cfg_rows[K_COUNT] = {
         .off = OFF(bottom_drag_per_s), REAL_GE0_TO(1e-2)},
     [K_VISCOSITY] = {
         .info = {"dissipation", "viscosity_m2_per_s", "m2 s-1", "real", "200", "0 to 1e6",
-                 "harmonic (Laplacian) lateral viscosity"},
+                 "harmonic (Laplacian) lateral viscosity A2"},
         .off = OFF(viscosity_m2_per_s), REAL_GE0_TO(1e6)},
     [K_HYPERVISCOSITY] = {
         .info = {"dissipation", "hyperviscosity_m4_per_s", "m4 s-1", "real", "0", "0 to 1e16",
-                 "biharmonic lateral viscosity; 0 switches it off"},
+                 "biharmonic lateral viscosity A4; 0 switches it off"},
         .off = OFF(hyperviscosity_m4_per_s), REAL_GE0_TO(1e16)},
 
     /* [time] */
@@ -198,23 +199,24 @@ const key_row tg_cfg_rows[K_COUNT] = {
         .sane_lo = 1e-3, .sane_hi = 1e7},
     [K_DURATION] = {
         .info = {"time", "duration_days", "days", "real", "360", "> 0, at most 1e6; at most 1e9 steps",
-                 "length of the run, counted from day 0"},
+                 "length of the experiment, counted from day 0"},
         .off = OFF(duration_days), REAL_GT0_TO(1e6)},
     [K_MAX_CFL] = {
         .info = {"time", "max_cfl", "", "real", "1.0", "> 0",
-                 "largest advective CFL number allowed; a step above it stops the run"},
+                 "largest advective CFL number (|u|+|v|)Δt/Δ allowed; a step above it stops the run"},
         .off = OFF(max_cfl), REAL_GT0("a real number > 0")},
 
     /* [initial] */
     [K_INITIAL_STATE] = {
         .info = {"initial", "state", "", "choice or path", "rest",
-                 "rest, noise, or the path of a file to start from",
+                 "rest, noise, or the path of a NetCDF file",
                  "starting state: fluid at rest, random streamfunction noise, or a saved state"},
         .kind = V_INITIAL,
         .expect = "rest, noise or the path of a readable file"},
     [K_NOISE] = {
         .info = {"initial", "noise_amplitude_m2_per_s", "m2 s-1", "real", "1000", "> 0, at most 1e9",
-                 "r.m.s. streamfunction of the initial noise (state = noise)"},
+                 "r.m.s. streamfunction of the initial noise (state = noise), smoothed over 4 grid "
+                 "spacings"},
         .off = OFF(noise_amplitude_m2_per_s), REAL_GT0_TO(1e9)},
     [K_SEED] = {
         .info = {"initial", "seed", "", "integer", "1", "0 to 18446744073709551615",

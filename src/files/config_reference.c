@@ -38,7 +38,7 @@ void tg_config_print_reference(FILE *out)
             snprintf(def, sizeof def, "%s; %s", k->def[0] ? k->def : "none",
                      tg_cfg_rows[i].follows);
         else
-            snprintf(def, sizeof def, "%s", k->def[0] ? k->def : "(required)");
+            snprintf(def, sizeof def, "%s", k->def[0] ? k->def : "(none)");
         md_cell(out, def);
         md_cell(out, allowed);
         md_cell(out, k->meaning);

@@ -310,6 +310,42 @@ START_TEST(test_without_hooks)
 }
 END_TEST
 
+/* README's config reference is the key table's (tg_config_print_reference):
+ * every row it prints is a line of README.md (which splits the rows into
+ * one table per topic). */
+START_TEST(test_readme_in_sync)
+{
+    const char *src = getenv("TG_SRCDIR");
+    ck_assert_msg(src && *src, "TG_SRCDIR is not set (make check sets it)");
+    char path[1024];
+    snprintf(path, sizeof path, "%s/README.md", src);
+    FILE *f = fopen(path, "rb");
+    ck_assert_msg(f != NULL, "cannot open %s", path);
+    static char readme[1 << 20];
+    size_t n = fread(readme, 1, sizeof readme - 1, f);
+    fclose(f);
+    readme[n] = '\0';
+    char ref[512];
+    snprintf(ref, sizeof ref, "%s/reference.md", g_dir);
+    f = fopen(ref, "w+");
+    ck_assert_ptr_nonnull(f);
+    tg_config_print_reference(f);
+    rewind(f);
+    char line[2048], want[2052];
+    int rows = 0;
+    while (fgets(line, sizeof line, f)) {
+        if (rows++ < 2)
+            continue; /* the header */
+        snprintf(want, sizeof want, "\n%s", line);
+        ck_assert_msg(strstr(readme, want) != NULL,
+                      "README.md lacks the key table's row (regenerate it from "
+                      "tg_config_print_reference):\n%s", line);
+    }
+    fclose(f);
+    ck_assert_int_eq(rows, 2 + tg_config_key_count());
+}
+END_TEST
+
 static Suite *rules_suite(void)
 {
     Suite *s = suite_create("config_rules");
@@ -322,6 +358,7 @@ static Suite *rules_suite(void)
     tcase_add_test(tc, test_state_file_kinds);
     tcase_add_test(tc, test_warnings_once_and_resolved_silent);
     tcase_add_test(tc, test_without_hooks);
+    tcase_add_test(tc, test_readme_in_sync);
     suite_add_tcase(s, tc);
     return s;
 }
