@@ -1,6 +1,6 @@
 /* config_reference.c - the Markdown table of every config key for README
- * ("Config reference"), printed from the key table; tests/unit/test_config.c
- * fails when README's table differs from it.
+ * ("Config reference"), printed from the key table; tests/unit/test_config_rules.c
+ * fails when a row of it is missing from README.
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
