@@ -59,16 +59,24 @@ void tg_cfg_key_note(const tg_config *cfg, int i, char *out, size_t n)
     }
 }
 
+/* "WHERE: message" with code: WHERE names key i's place (tg_cfg_key_where). */
+static tg_code key_vfail(const tg_config *cfg, int i, const char *origin, tg_status *st,
+                         tg_code code, const char *fmt, va_list ap)
+{
+    char where[TG_MSG_LEN], msg[TG_MSG_LEN];
+    vsnprintf(msg, sizeof msg, fmt, ap);
+    tg_cfg_key_where(cfg, i, origin, where, sizeof where);
+    return tg_fail(st, code, "%s: %s", where, msg);
+}
+
 tg_code tg_cfg_key_fail(const tg_config *cfg, int i, const char *origin, tg_status *st,
                         const char *fmt, ...)
 {
-    char where[TG_MSG_LEN], msg[TG_MSG_LEN];
     va_list ap;
     va_start(ap, fmt);
-    vsnprintf(msg, sizeof msg, fmt, ap);
+    tg_code rc = key_vfail(cfg, i, origin, st, TG_ERR_CONFIG, fmt, ap);
     va_end(ap);
-    tg_cfg_key_where(cfg, i, origin, where, sizeof where);
-    return tg_fail(st, TG_ERR_CONFIG, "%s: %s", where, msg);
+    return rc;
 }
 
 /* The same with TG_ERR_IO: a file the key names cannot be used. */
@@ -77,13 +85,11 @@ static tg_code key_file_fail(const tg_config *cfg, int i, const char *origin, tg
 static tg_code key_file_fail(const tg_config *cfg, int i, const char *origin, tg_status *st,
                              const char *fmt, ...)
 {
-    char where[TG_MSG_LEN], msg[TG_MSG_LEN];
     va_list ap;
     va_start(ap, fmt);
-    vsnprintf(msg, sizeof msg, fmt, ap);
+    tg_code rc = key_vfail(cfg, i, origin, st, TG_ERR_IO, fmt, ap);
     va_end(ap);
-    tg_cfg_key_where(cfg, i, origin, where, sizeof where);
-    return tg_fail(st, TG_ERR_IO, "%s: %s", where, msg);
+    return rc;
 }
 
 int tg_cfg_is_pow2(int v) { return v > 0 && (v & (v - 1)) == 0; }

@@ -65,16 +65,24 @@ static int parse_real(const char *s, double *out)
     return NUM_OK;
 }
 
+/* Whether s is a sign (when `minus` allows '-', else only '+') and one or
+ * more decimal digits, nothing else. */
+static int is_whole_syntax(const char *s, int minus)
+{
+    if (*s == '+' || (minus && *s == '-'))
+        s++;
+    if (!*s)
+        return 0;
+    for (; *s; s++)
+        if (!isdigit((unsigned char)*s))
+            return 0;
+    return 1;
+}
+
 static int parse_int(const char *s, long long *out)
 {
-    const char *p = s;
-    if (*p == '+' || *p == '-')
-        p++;
-    if (!*p)
+    if (!is_whole_syntax(s, 1))
         return NUM_SYNTAX;
-    for (const char *q = p; *q; q++)
-        if (!isdigit((unsigned char)*q))
-            return NUM_SYNTAX;
     errno = 0;
     char *end = NULL;
     long long v = strtoll(s, &end, 10);
@@ -88,14 +96,9 @@ static int parse_int(const char *s, long long *out)
 
 static int parse_u64(const char *s, uint64_t *out)
 {
-    const char *p = s;
-    if (*p == '+')
-        p++;
-    if (!*p)
+    if (!is_whole_syntax(s, 0))
         return NUM_SYNTAX;
-    for (const char *q = p; *q; q++)
-        if (!isdigit((unsigned char)*q))
-            return NUM_SYNTAX;
+    const char *p = s + (*s == '+');
     errno = 0;
     char *end = NULL;
     unsigned long long v = strtoull(p, &end, 10);
