@@ -1,9 +1,12 @@
 /* config_check.c - the rules between keys (grid size of the geometry's
  * form, one reduced gravity per interface, geometry-specific keys, steps
- * against intervals, the initial state file), the closure sections through
- * the installed hooks (config_hooks.h), and the one validation entry every
- * command uses (tg_config_validate), which adds the [twin] and [vet] rules
- * (config_twin.c) when the command or the config uses them.
+ * against intervals, the state files), the quantities several keys give
+ * (step count, deformation radii, the explicit diffusive limit), the
+ * closure sections through the installed hooks (config_hooks.h), the
+ * warnings about settings without effect, and the one validation entry
+ * every command uses (tg_config_validate), which adds the [twin] rules
+ * (config_twin.c) and the [vet] rules when the command or the config uses
+ * them.
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
@@ -17,7 +20,6 @@
 #include <stdlib.h>
 #include <string.h>
 #include <sys/stat.h>
-
 
 /* Where key i got its value, as a message prefix (no trailing ": "). */
 void tg_cfg_key_where(const tg_config *cfg, int i, const char *origin, char *out, size_t n)
@@ -272,16 +274,12 @@ static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *s
                 return tg_cfg_key_fail(cfg, wall_keys[k], origin, st,
                                 "wall keys do not apply to periodic geometry%s; remove this key",
                                 note);
-        if (cfg->wind_profile != TG_WIND_NONE) {
-            const char *name = tg_cfg_wind_names[cfg->wind_profile];
-            if (cfg->set_by_user[K_WIND_PROFILE])
-                return tg_cfg_key_fail(cfg, K_WIND_PROFILE, origin, st,
-                                "profile %s is not available in periodic geometry%s yet; "
-                                "use profile = none", name, note);
-            return tg_cfg_key_fail(cfg, K_GEOMETRY, origin, st,
-                            "periodic geometry needs [wind] profile = none for now "
-                            "(the default profile is %s)", name);
-        }
+        /* Its default follows the geometry (none), so only a set profile. */
+        if (cfg->wind_profile != TG_WIND_NONE)
+            return tg_cfg_key_fail(cfg, K_WIND_PROFILE, origin, st,
+                                   "profile %s is not available in periodic geometry%s yet; "
+                                   "use profile = none",
+                                   tg_cfg_wind_names[cfg->wind_profile], note);
     }
 
     /* Time stepping and output intervals. */
