@@ -10,7 +10,7 @@
  *   config_suggest.c    "did you mean" and the unknown-name messages
  *   config_read.c       defaults, INI files and text, --set
  *   config_check.c      rules between keys and tg_config_validate
- *   config_twin.c       the twin's derived configs, [twin] and [vet] rules
+ *   config_twin.c       the twin's derived configs and the [twin] rules
  *   config_dump.c       the resolved config (tg_config_to_ini)
  *   config_reference.c  README's reference table
  *   config_hooks.c      the checks higher layers install (config_hooks.h)

@@ -5,12 +5,14 @@
  * value against its key's row; the rules between keys are config_check.c's.
  *
  * Reading a file: the whole file is read into memory and handed to
- * ini_parse_stream through our own line reader, which counts lines (the
- * handler of the Debian libinih build gets no line number), rejects lines
- * longer than libinih's line buffer (it would split them silently), rejects
- * indented lines (libinih would glue them to the previous value) and checks
- * [section] headers as they pass. Values go into a working copy that
- * replaces the caller's config only when the whole file is good.
+ * ini_parse_stream through the line reader of every INI file (ini_lines.c:
+ * line numbers, long lines, NUL bytes, indented lines and section headers
+ * refused as libinih would mishandle them), which checks each [section]
+ * header against the sections that exist. Values go into a working copy
+ * that replaces the caller's config only when the whole file is good; a
+ * file that starts with the resolved config's first line is marked
+ * (tg_config.resolved), and defaults that follow other keys are applied
+ * after each file and each --set.
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
@@ -108,6 +110,7 @@ const tg_raw_entry *tg_config_raw(const tg_config *cfg, const char *section, con
             return &cfg->raw[i];
     return NULL;
 }
+
 /* ------------------------------------------------------------------ */
 /* Defaults                                                            */
 /* ------------------------------------------------------------------ */

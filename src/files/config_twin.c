@@ -1,6 +1,6 @@
 /* config_twin.c - the configs of a twin experiment derived from its base
  * config ([twin] points, [twin.reference] and [twin.coarse] overrides, the
- * coarse runs' settings) and the [twin] and [vet] rules, which
+ * coarse runs' settings) and the [twin] rules, which
  * tg_config_validate applies.
  *
  * Part of twingyre. GPL-3.0-or-later.
