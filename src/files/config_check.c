@@ -96,7 +96,11 @@ static tg_code key_file_fail(const tg_config *cfg, int i, const char *origin, tg
 
 int tg_cfg_is_pow2(int v) { return v > 0 && (v & (v - 1)) == 0; }
 
-tg_code tg_cfg_state_file_rule(const tg_config *cfg, int key, const char *path, const char *what,
+/* A state file named by key `key` ([initial] state, [vet] reference_state):
+ * a readable regular file with a netCDF signature. `what` names it in the
+ * message ("initial state"), `hint` ends the message ("" or "; did you
+ * mean ...?"). */
+static tg_code state_file_rule(const tg_config *cfg, int key, const char *path, const char *what,
                                const char *hint, const char *origin, tg_status *st)
 {
     /* A FIFO or device would block or never end: only a regular file. */
@@ -316,7 +320,7 @@ static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *s
         char hint[64] = "";
         if (close)
             snprintf(hint, sizeof hint, "; did you mean %s?", close);
-        tg_code rc = tg_cfg_state_file_rule(cfg, K_INITIAL_STATE, path, "initial state", hint,
+        tg_code rc = state_file_rule(cfg, K_INITIAL_STATE, path, "initial state", hint,
                                             origin, st);
         if (rc != TG_OK)
             return rc;
@@ -324,7 +328,8 @@ static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *s
     return TG_OK;
 }
 
-tg_code tg_cfg_check_closures(const tg_config *cfg, const char *origin,
+/* The closure sections through the hooks (without them, only "none"). */
+static tg_code check_closures(const tg_config *cfg, const char *origin,
                               char (*used)[TG_SECTION_LEN], int max, int *nused, tg_status *st)
 {
     const tg_config_hooks *h = tg_config_get_hooks();
@@ -394,7 +399,7 @@ tg_code tg_cfg_check_run(const tg_config *cfg, const char *origin,
                          char (*used)[TG_SECTION_LEN], int max, int *nused, tg_status *st)
 {
     tg_code rc = core_rules(cfg, origin, st);
-    return rc != TG_OK ? rc : tg_cfg_check_closures(cfg, origin, used, max, nused, st);
+    return rc != TG_OK ? rc : check_closures(cfg, origin, used, max, nused, st);
 }
 
 /* [vet] rules (`twingyre vet`, vet.h): a closure is configured, the window
@@ -435,7 +440,7 @@ static tg_code vet_rules(const tg_config *cfg, const char *origin, tg_status *st
         char hint[64] = "";
         if (close)
             snprintf(hint, sizeof hint, "; did you mean spinup?");
-        tg_code rc = tg_cfg_state_file_rule(cfg, K_VET_REFERENCE, cfg->vet_reference_state,
+        tg_code rc = state_file_rule(cfg, K_VET_REFERENCE, cfg->vet_reference_state,
                                             "reference state", hint, origin, st);
         if (rc != TG_OK)
             return rc;

@@ -114,17 +114,8 @@ tg_code tg_cfg_key_fail(const tg_config *cfg, int i, const char *origin, tg_stat
                         const char *fmt, ...) __attribute__((format(printf, 5, 6)));
 int tg_cfg_is_pow2(int v);
 
-/* A state file named by key `key` ([initial] state, [vet] reference_state):
- * a readable regular file with a netCDF signature. `what` names it in the
- * message ("initial state"), `hint` ends the message ("" or "; did you
- * mean ...?"). */
-tg_code tg_cfg_state_file_rule(const tg_config *cfg, int key, const char *path, const char *what,
-                               const char *hint, const char *origin, tg_status *st);
-
 /* The rules of a run and its closure sections, without warnings; the
  * sections the closure list uses go into used (config_check.c). */
-tg_code tg_cfg_check_closures(const tg_config *cfg, const char *origin,
-                              char (*used)[TG_SECTION_LEN], int max, int *nused, tg_status *st);
 tg_code tg_cfg_check_run(const tg_config *cfg, const char *origin,
                          char (*used)[TG_SECTION_LEN], int max, int *nused, tg_status *st);
 
