@@ -12,6 +12,7 @@
  */
 #include "config_impl.h"
 #include "constants.h"
+#include "textfile.h"
 
 #include <errno.h>
 #include <math.h>
@@ -19,7 +20,6 @@
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <sys/stat.h>
 
 /* Where key i got its value, as a message prefix (no trailing ": "). */
 void tg_cfg_key_where(const tg_config *cfg, int i, const char *origin, char *out, size_t n)
@@ -97,20 +97,18 @@ static tg_code key_file_fail(const tg_config *cfg, int i, const char *origin, tg
 int tg_cfg_is_pow2(int v) { return v > 0 && (v & (v - 1)) == 0; }
 
 /* A state file named by key `key` ([initial] state, [vet] reference_state):
- * a readable regular file with a netCDF signature. `what` names it in the
+ * a readable regular file with a netCDF signature (the light check of the
+ * config: the reader verifies the whole file, ncverify.h). `what` names it in the
  * message ("initial state"), `hint` ends the message ("" or "; did you
  * mean ...?"). */
 static tg_code state_file_rule(const tg_config *cfg, int key, const char *path, const char *what,
                                const char *hint, const char *origin, tg_status *st)
 {
-    /* A FIFO or device would block or never end: only a regular file. */
-    struct stat sb;
-    if (stat(path, &sb) != 0)
-        return tg_cfg_key_fail(cfg, key, origin, st, "cannot open %s file '%s': %s%s", what, path,
-                               strerror(errno), hint);
-    if (!S_ISREG(sb.st_mode))
-        return key_file_fail(cfg, key, origin, st, "%s file '%s' is not a regular file%s", what,
-                               path, hint);
+    /* Not opened unless regular: opening a FIFO would wait for a writer. */
+    const char *kind = tg_not_regular(path);
+    if (kind)
+        return tg_cfg_key_fail(cfg, key, origin, st, "%s '%s' is not a regular file (%s)", what,
+                               path, kind);
     FILE *f = fopen(path, "rb");
     if (!f)
         return tg_cfg_key_fail(cfg, key, origin, st, "cannot open %s file '%s': %s%s", what, path,

@@ -239,14 +239,15 @@ START_TEST(test_closure_list_and_headers)
 }
 END_TEST
 
-/* Issue 17, part 6: a FIFO as initial state blocked the check; now refused. */
+/* Issue 17, part 6: a FIFO as initial state blocked the check; now refused,
+ * and so is a file that is not netCDF (for [vet] reference_state too). */
 START_TEST(test_state_file_kinds)
 {
     char fifo[512], text[700];
     snprintf(fifo, sizeof fifo, "%s/state.fifo", g_dir);
     ck_assert_int_eq(mkfifo(fifo, 0600), 0);
     snprintf(text, sizeof text, "[initial]\nstate = %s\n", fifo);
-    validate_refused(text, NULL, 0, TG_USE_RUN, TG_ERR_IO, "is not a regular file");
+    validate_refused(text, NULL, 0, TG_USE_RUN, TG_ERR_CONFIG, "is not a regular file (a FIFO)");
     char path[512];
     write_file("fake.nc", "plain text, no netCDF signature\n", path, sizeof path);
     snprintf(text, sizeof text, "[vet]\nreference_state = %s\n[closure]\nuse = smagorinsky\n", path);
