@@ -28,24 +28,21 @@
 #include <stdlib.h>
 #include <string.h>
 
-/* Stores one twin override "section.key = value"; returns 0 or writes why. */
-static int store_twin_raw(tg_config *cfg, const char *section, const char *key,
-                          const char *value, int line, char *why, size_t n)
+/* Stores section/key = value in the list e[0 .. *count - 1] (at most max,
+ * `what` names them in the message when full): a second setting in the
+ * file is refused, one from --set (line 0) replaces. 0, or -1 and why. */
+static int store_entry(tg_raw_entry *list, int *count, int max, const char *what,
+                       const char *section, const char *key, const char *value, int line,
+                       char *why, size_t n)
 {
-    if (strlen(key) >= sizeof cfg->twin_raw[0].key ||
-        strlen(value) >= sizeof cfg->twin_raw[0].value) {
-        snprintf(why, n, "key or value too long (at most %zu and %zu characters)",
-                 sizeof cfg->twin_raw[0].key - 1, sizeof cfg->twin_raw[0].value - 1);
+    if (strlen(section) >= sizeof list[0].section || strlen(key) >= sizeof list[0].key ||
+        strlen(value) >= sizeof list[0].value) {
+        snprintf(why, n, "section, key or value too long (at most %zu, %zu and %zu characters)",
+                 sizeof list[0].section - 1, sizeof list[0].key - 1, sizeof list[0].value - 1);
         return -1;
     }
-    const char *dot = strchr(key, '.');
-    if (!dot || dot == key || dot[1] == '\0') {
-        snprintf(why, n, "expected an override written as section.key = value "
-                         "(e.g. dissipation.viscosity_m2_per_s = 500)");
-        return -1;
-    }
-    for (int i = 0; i < cfg->ntwin_raw; i++) {
-        tg_raw_entry *e = &cfg->twin_raw[i];
+    for (int i = 0; i < *count; i++) {
+        tg_raw_entry *e = &list[i];
         if (strcmp(e->section, section) == 0 && strcmp(e->key, key) == 0) {
             if (line > 0 && e->line > 0) {
                 snprintf(why, n, "set twice, on line %d and again on line %d; keep one", e->line,
@@ -57,11 +54,11 @@ static int store_twin_raw(tg_config *cfg, const char *section, const char *key,
             return 0;
         }
     }
-    if (cfg->ntwin_raw >= TG_MAX_TWIN_RAW) {
-        snprintf(why, n, "too many twin overrides (at most %d)", TG_MAX_TWIN_RAW);
+    if (*count >= max) {
+        snprintf(why, n, "too many %s (at most %d)", what, max);
         return -1;
     }
-    tg_raw_entry *e = &cfg->twin_raw[cfg->ntwin_raw++];
+    tg_raw_entry *e = &list[(*count)++];
     snprintf(e->section, sizeof e->section, "%s", section);
     snprintf(e->key, sizeof e->key, "%s", key);
     snprintf(e->value, sizeof e->value, "%s", value);
@@ -69,38 +66,26 @@ static int store_twin_raw(tg_config *cfg, const char *section, const char *key,
     return 0;
 }
 
+/* Stores one twin override "section.key = value"; returns 0 or writes why. */
+static int store_twin_raw(tg_config *cfg, const char *section, const char *key,
+                          const char *value, int line, char *why, size_t n)
+{
+    const char *dot = strchr(key, '.');
+    if (!dot || dot == key || dot[1] == '\0') {
+        snprintf(why, n, "expected an override written as section.key = value "
+                         "(e.g. dissipation.viscosity_m2_per_s = 500)");
+        return -1;
+    }
+    return store_entry(cfg->twin_raw, &cfg->ntwin_raw, TG_MAX_TWIN_RAW, "twin overrides",
+                       section, key, value, line, why, n);
+}
+
 /* Stores one closure key = value; returns 0 or writes why. */
 static int store_raw(tg_config *cfg, const char *section, const char *key, const char *value,
                      int line, char *why, size_t n)
 {
-    if (strlen(section) >= sizeof cfg->raw[0].section || strlen(key) >= sizeof cfg->raw[0].key ||
-        strlen(value) >= sizeof cfg->raw[0].value) {
-        snprintf(why, n, "section, key or value too long");
-        return -1;
-    }
-    for (int i = 0; i < cfg->nraw; i++) {
-        tg_raw_entry *e = &cfg->raw[i];
-        if (strcmp(e->section, section) == 0 && strcmp(e->key, key) == 0) {
-            if (line > 0 && e->line > 0) {
-                snprintf(why, n, "set twice, on line %d and again on line %d; keep one", e->line,
-                         line);
-                return -1;
-            }
-            snprintf(e->value, sizeof e->value, "%s", value); /* --set replaces */
-            e->line = line;
-            return 0;
-        }
-    }
-    if (cfg->nraw >= TG_MAX_RAW) {
-        snprintf(why, n, "too many closure settings (at most %d)", TG_MAX_RAW);
-        return -1;
-    }
-    tg_raw_entry *e = &cfg->raw[cfg->nraw++];
-    snprintf(e->section, sizeof e->section, "%s", section);
-    snprintf(e->key, sizeof e->key, "%s", key);
-    snprintf(e->value, sizeof e->value, "%s", value);
-    e->line = line;
-    return 0;
+    return store_entry(cfg->raw, &cfg->nraw, TG_MAX_RAW, "closure settings", section, key, value,
+                       line, why, n);
 }
 
 const tg_raw_entry *tg_config_raw(const tg_config *cfg, const char *section, const char *key)
