@@ -148,7 +148,7 @@ tg_fit_data *tg_fit_data_open(const char *path, tg_fit_target target, const int 
     tg_status cs;
     tg_status_clear(&cs);
     if (tg_config_load_text(base, text, name, &cs) != TG_OK ||
-        tg_twin_coarse_config(base, name, crs, &cs) != TG_OK) {
+        tg_config_twin_coarse(base, name, crs, &cs) != TG_OK) {
         tg_fail(st, TG_ERR_IO, "%s", cs.msg);
         goto fail;
     }

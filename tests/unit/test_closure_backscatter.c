@@ -27,6 +27,7 @@
 #include "fdops.h"
 #include "model.h"
 #include "stepper.h"
+#include "twingyre.h"
 
 #include <check.h>
 #include <math.h>
@@ -846,6 +847,7 @@ static Suite *closure_suite(void)
 
 int main(void)
 {
+    tg_init(); /* the closure layer's config checks, as the command installs them */
     SRunner *sr = srunner_create(closure_suite());
     srunner_run_all(sr, CK_NORMAL);
     int failed = srunner_ntests_failed(sr);

@@ -13,6 +13,7 @@
  */
 #include "model.h"
 #include "stepper.h"
+#include "twingyre.h"
 
 #include <check.h>
 #include <math.h>
@@ -352,6 +353,7 @@ END_TEST
 
 int main(void)
 {
+    tg_init(); /* the closure layer's config checks, as the command installs them */
     Suite *s = suite_create("closure_gradient");
     TCase *tc = tcase_create("core");
     tcase_add_test(tc, matches_formula_second_order);

@@ -18,6 +18,7 @@
  */
 #include "model.h"
 #include "stepper.h"
+#include "twingyre.h"
 
 #include <check.h>
 #include <math.h>
@@ -540,6 +541,7 @@ END_TEST
 
 int main(void)
 {
+    tg_init(); /* the closure layer's config checks, as the command installs them */
     Suite *s = suite_create("closure_stochastic");
     TCase *tc = tcase_create("core");
     tcase_add_test(tc, threads_bitwise_basin);

@@ -18,6 +18,7 @@
 #include "fdops.h"
 #include "model.h"
 #include "stepper.h"
+#include "twingyre.h"
 
 #include <check.h>
 #include <math.h>
@@ -478,6 +479,7 @@ static Suite *suite(void)
 
 int main(void)
 {
+    tg_init(); /* the closure layer's config checks, as the command installs them */
     SRunner *sr = srunner_create(suite());
     srunner_run_all(sr, CK_NORMAL);
     int nf = srunner_ntests_failed(sr);

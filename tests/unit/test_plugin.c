@@ -23,6 +23,7 @@
 #include "closure_host.h"
 #include "model.h"
 #include "stepper.h"
+#include "twingyre.h"
 
 #include <check.h>
 #include <stdio.h>
@@ -244,6 +245,7 @@ static Suite *suite(void)
 
 int main(void)
 {
+    tg_init(); /* the closure layer's config checks, as the command installs them */
     const int a = module_path("closures/examples", "example_plugin", example_so, sizeof example_so);
     const int b = module_path("tests/unit", "plugin_noentry", noentry_so, sizeof noentry_so);
     const int c = module_path("tests/unit", "plugin_badabi", badabi_so, sizeof badabi_so);

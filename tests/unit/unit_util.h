@@ -14,6 +14,7 @@
 #include <stdlib.h>
 
 #include "model.h"
+#include "twingyre.h"
 
 /* tg_model_create(cfg), failing the running case with its message. */
 static inline tg_model *tg_unit_model(const tg_config *cfg)
@@ -24,9 +25,11 @@ static inline tg_model *tg_unit_model(const tg_config *cfg)
     return m;
 }
 
-/* Runs s (and frees it with its runner); 1 when a case failed, else 0. */
+/* Runs s (and frees it with its runner); 1 when a case failed, else 0.
+ * Installs the library's config checks first (tg_init), as the command does. */
 static inline int tg_unit_run(Suite *s)
 {
+    tg_init();
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
     const int failed = srunner_ntests_failed(sr);
