@@ -9,16 +9,17 @@ folder:
     base < files < numerics < model < experiments < cli
 
 closures/ sits at the model layer; src/twingyre.h, the installed umbrella
-header, sits at the top (it gathers the public headers of every layer).
-An include that points up the layers fails the check unless the include line,
-or the comment that ends on the line above it, gives the reason after the
-marker `layer-exception:`, e.g.
+header, sits at the highest layer of the headers it gathers. An include that
+points up the layers fails the check unless the include line, or the comment
+that ends on the line above it, gives the reason after the marker
+`layer-exception:`, e.g.
 
     /* layer-exception: the registry lists the schemes it runs */
     #include "schemes.h"
 
 Include cycles between units (a .c file and its same-named header are one
-unit) fail too. Also printed, as information: the number of units, of
+unit; a file including a header of its own unit is never up the layers)
+fail too. Also printed, as information: the number of units, of
 dependency levels (the longest chain of units each including the next, a
 cycle counted as one unit) and of include edges between units.
 
@@ -46,7 +47,7 @@ def layer_of(rel):
     """Layer index of a file (path relative to TOP), or None if it has none."""
     parts = rel.split("/")
     if rel == UMBRELLA:
-        return len(LAYERS) - 1
+        return 0  # raised to what it gathers (umbrella_layer)
     if parts[0] == "closures":
         return LAYERS.index(CLOSURES_LAYER)
     if parts[0] == "src" and len(parts) > 2 and parts[1] in LAYERS:
@@ -105,8 +106,15 @@ def units_of(top, files):
 
 def layer_name(index, rel):
     if rel == UMBRELLA:
-        return "umbrella header"
+        return "umbrella header at " + LAYERS[index]
     return LAYERS[index]
+
+
+def umbrella_layer(files, headers, includes):
+    """The umbrella header's layer: the highest of the headers it includes."""
+    gathered = [files[headers[name]] for rel, _, name, _ in includes
+                if rel == UMBRELLA and name in headers]
+    return max(gathered, default=0)
 
 
 def source_files(top):
@@ -164,7 +172,8 @@ def read_tree(top):
             m = INCLUDE_RE.match(line)
             if not m:
                 continue
-            excused = bool(EXCEPTION_RE.search(line) or EXCEPTION_RE.search(comment_above(lines, i)))
+            reason = line + "\n" + comment_above(lines, i)
+            excused = bool(EXCEPTION_RE.search(reason))
             includes.append((rel, i + 1, m.group(1), excused))
     return files, headers, includes, problems
 
@@ -282,6 +291,8 @@ def main(argv):
         print("check_layers: cannot read the tree: %s" % e)
         return 99
 
+    if UMBRELLA in files:
+        files[UMBRELLA] = umbrella_layer(files, headers, includes)
     unit_of = units_of(top, files)
     units = sorted(set(unit_of.values()))
     edges = {}
@@ -293,8 +304,9 @@ def main(argv):
             problems.append('%s:%d: #include "%s" names no header in src/ or closures/'
                             % (rel, line, name))
             continue
-        if unit_of[target] != unit_of[rel]:
-            edges.setdefault(unit_of[rel], set()).add(unit_of[target])
+        if unit_of[target] == unit_of[rel]:
+            continue
+        edges.setdefault(unit_of[rel], set()).add(unit_of[target])
         if files[target] > files[rel]:
             where = "%s:%d: %s (%s) includes %s (%s, %s)" % (
                 rel, line, os.path.basename(rel), layer_name(files[rel], rel),

@@ -96,7 +96,8 @@ def main():
 
     same_line = up.replace('"run.h"', '"run.h" /* layer-exception: a test of the marker */')
     expect("a layer-exception on the include line excuses it", parent,
-           tree(src__base__status_DOT_c=same_line, src__experiments__run_DOT_h="int tg_run(void);\n"),
+           tree(src__base__status_DOT_c=same_line,
+                src__experiments__run_DOT_h="int tg_run(void);\n"),
            0, present=["allowed (layer-exception): src/base/status.c:2"])
 
     above = up.replace('#include "run.h"',
@@ -132,6 +133,18 @@ def main():
                                         'int tg_model(void)\n{\n    return 0;\n}\n'
                                         'int tg_model_part(void)\n{\n    return 1;\n}\n'), 0,
            present=["0 cycles"])
+
+    expect("the umbrella header sits at the highest layer it gathers: a model file that "
+           "implements what it declares may include it", parent,
+           tree(src__twingyre_DOT_h='#include "status.h"\n#include "model.h"\n'
+                                    'void tg_init(void);\n',
+                src__model__setup_DOT_c='#include "twingyre.h"\nvoid tg_init(void)\n{\n}\n'), 0,
+           present=["0 upward includes"])
+    expect("a lower file may not include the umbrella header", parent,
+           tree(src__twingyre_DOT_h='#include "status.h"\n#include "model.h"\n',
+                src__files__config_DOT_c='#include "twingyre.h"\n'), 1,
+           present=["src/files/config.c:1: config.c (files) includes twingyre.h "
+                    "(umbrella header at model"])
 
     expect("a file outside the layer folders fails", parent,
            tree(src__loose_DOT_c='#include "status.h"\n'), 1,
