@@ -28,6 +28,7 @@
 #include "model.h"
 #include "stepper.h"
 #include "twingyre.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -847,10 +848,5 @@ static Suite *closure_suite(void)
 
 int main(void)
 {
-    tg_init(); /* the closure layer's config checks, as the command installs them */
-    SRunner *sr = srunner_create(closure_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(closure_suite());
 }

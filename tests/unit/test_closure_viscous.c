@@ -19,6 +19,7 @@
 #include "model.h"
 #include "stepper.h"
 #include "twingyre.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -479,10 +480,5 @@ static Suite *suite(void)
 
 int main(void)
 {
-    tg_init(); /* the closure layer's config checks, as the command installs them */
-    SRunner *sr = srunner_create(suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int nf = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return nf ? EXIT_FAILURE : EXIT_SUCCESS;
+    return tg_unit_run(suite());
 }

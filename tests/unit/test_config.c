@@ -19,16 +19,15 @@
 #define _POSIX_C_SOURCE 200809L
 
 #include <check.h>
-#include <dirent.h>
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
-#include <unistd.h>
 
 #include "config.h"
 #include "status.h"
+#include "unit_util.h"
 
 /* Temporary directory for the config files of this run (set in main). */
 static char g_dir[256];
@@ -780,35 +779,7 @@ static Suite *config_suite(void)
     return s;
 }
 
-static void cleanup_dir(void)
-{
-    DIR *d = opendir(g_dir);
-    if (d) {
-        struct dirent *e;
-        char path[600];
-        while ((e = readdir(d)) != NULL) {
-            if (strcmp(e->d_name, ".") == 0 || strcmp(e->d_name, "..") == 0)
-                continue;
-            snprintf(path, sizeof path, "%s/%s", g_dir, e->d_name);
-            unlink(path);
-        }
-        closedir(d);
-    }
-    rmdir(g_dir);
-}
-
 int main(void)
 {
-    const char *tmp = getenv("TMPDIR");
-    snprintf(g_dir, sizeof g_dir, "%s/twingyre-test-config-XXXXXX", tmp && *tmp ? tmp : "/tmp");
-    if (!mkdtemp(g_dir)) {
-        perror("mkdtemp");
-        return 1;
-    }
-    SRunner *sr = srunner_create(config_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    cleanup_dir();
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run_in_scratch(config_suite(), g_dir, sizeof g_dir, "config");
 }

@@ -24,6 +24,7 @@
 #include "model.h"
 #include "stepper.h"
 #include "twingyre.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <stdio.h>
@@ -245,7 +246,6 @@ static Suite *suite(void)
 
 int main(void)
 {
-    tg_init(); /* the closure layer's config checks, as the command installs them */
     const int a = module_path("closures/examples", "example_plugin", example_so, sizeof example_so);
     const int b = module_path("tests/unit", "plugin_noentry", noentry_so, sizeof noentry_so);
     const int c = module_path("tests/unit", "plugin_badabi", badabi_so, sizeof badabi_so);
@@ -255,9 +255,5 @@ int main(void)
         printf("SKIP: this build makes no shared objects (--disable-shared), so no plugins\n");
         return 77;
     }
-    SRunner *sr = srunner_create(suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed ? 1 : 0;
+    return tg_unit_run(suite());
 }
