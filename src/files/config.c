@@ -93,6 +93,10 @@ static void put_wind(tg_config *c, int v) { c->wind_profile = (tg_wind_kind)v; }
 static const char *const yes_no_names[] = {"no", "yes", NULL};
 static int get_vet_finer(const tg_config *c) { return c->vet_finer_grid != 0; }
 static void put_vet_finer(tg_config *c, int v) { c->vet_finer_grid = v; }
+static const char *const step_choice_names[] = {
+    [TG_STEP_FIXED] = "fixed", [TG_STEP_ADAPTIVE] = "adaptive", NULL};
+static int get_step_choice(const tg_config *c) { return (int)c->step_choice; }
+static void put_step_choice(tg_config *c, int v) { c->step_choice = (tg_step_choice)v; }
 static int get_twin_filter(const tg_config *c) { return (int)c->twin_filter; }
 static void put_twin_filter(tg_config *c, int v) { c->twin_filter = (tg_twin_filter)v; }
 
@@ -105,6 +109,7 @@ enum {
     K_WIND_PROFILE, K_STRESS, K_DENSITY,
     K_DRAG, K_VISCOSITY, K_HYPERVISCOSITY,
     K_STEP, K_DURATION, K_MAX_CFL,
+    K_STEP_CHOICE, K_TARGET_CFL, K_LARGEST_STEP, K_SMALLEST_STEP, K_STEP_GROWTH,
     K_INITIAL_STATE, K_NOISE, K_SEED,
     K_OUT_DIRECTORY, K_SNAPSHOT_EVERY, K_CHECKPOINT_EVERY, K_LOG_EVERY,
     K_TWIN_REF_POINTS, K_TWIN_COARSE_POINTS, K_TWIN_SPINUP, K_TWIN_ANALYSIS, K_TWIN_SAMPLE,
@@ -221,7 +226,7 @@ static const key_row rows[K_COUNT] = {
     /* [time] */
     [K_STEP] = {
         .info = {"time", "step_s", "s", "real", "1800", "> 0, at most the duration",
-                 "fixed time step"},
+                 "time step; with step_choice = adaptive the first step"},
         .off = OFF(step_s), REAL_GT0("a real number > 0")},
     [K_DURATION] = {
         .info = {"time", "duration_days", "days", "real", "360", "> 0",
@@ -231,6 +236,31 @@ static const key_row rows[K_COUNT] = {
         .info = {"time", "max_cfl", "", "real", "1.0", "> 0",
                  "largest advective CFL number allowed; a step above it stops the run"},
         .off = OFF(max_cfl), REAL_GT0("a real number > 0")},
+    [K_STEP_CHOICE] = {
+        .info = {"time", "step_choice", "", "choice", "fixed", "fixed, adaptive",
+                 "fixed: every step is step_s; adaptive: each step aims at target_cfl within "
+                 "the diffusive and closure limits (README, \"Adaptive steps\")"},
+        .kind = V_CHOICE, .choices = step_choice_names, .get = get_step_choice,
+        .put = put_step_choice, .expect = "one of fixed, adaptive"},
+    [K_TARGET_CFL] = {
+        .info = {"time", "target_cfl", "", "real", "0.5", "> 0, below max_cfl",
+                 "adaptive: advective CFL number (|u|+|v|) dt/dx each step aims at"},
+        .off = OFF(target_cfl), REAL_GT0("a real number > 0")},
+    [K_LARGEST_STEP] = {
+        .info = {"time", "largest_step_s", "s", "real", "86400", "> 0, at least step_s",
+                 "adaptive: largest step"},
+        .off = OFF(largest_step_s), REAL_GT0("a real number > 0")},
+    [K_SMALLEST_STEP] = {
+        .info = {"time", "smallest_step_s", "s", "real", "60", "> 0, at most step_s",
+                 "adaptive: smallest step the limits may ask for (steps shortened to land on an "
+                 "output time may be shorter)"},
+        .off = OFF(smallest_step_s), REAL_GT0("a real number > 0")},
+    [K_STEP_GROWTH] = {
+        .info = {"time", "step_growth", "", "real", "1.2", "> 1, at most 10",
+                 "adaptive: largest ratio of a step to the one before (a step shrinks as far "
+                 "as the limits ask at once)"},
+        .kind = V_REAL, .lo_kind = B_EXCL, .lo = 1.0, .hi_kind = B_INCL, .hi = 10.0,
+        .expect = "a real number > 1 and at most 10", .off = OFF(step_growth)},
 
     /* [initial] */
     [K_INITIAL_STATE] = {
@@ -1656,6 +1686,29 @@ tg_code tg_config_check(const tg_config *cfg, const char *origin, tg_status *st)
             return key_fail(cfg, intervals[k], origin, st,
                             "%g days is shorter than one time step: step_s%s = %g s = %g days",
                             days, note, cfg->step_s, cfg->step_s / SECONDS_PER_DAY);
+        }
+    }
+
+    /* Adaptive steps: the first step lies within the bounds, and the target
+     * leaves room below the CFL number that stops the run. */
+    if (cfg->step_choice == TG_STEP_ADAPTIVE) {
+        if (cfg->target_cfl >= cfg->max_cfl) {
+            key_note(cfg, K_MAX_CFL, note, sizeof note);
+            return key_fail(cfg, K_TARGET_CFL, origin, st,
+                            "%g is not below max_cfl%s = %g, which stops the run",
+                            cfg->target_cfl, note, cfg->max_cfl);
+        }
+        if (cfg->smallest_step_s > cfg->step_s) {
+            key_note(cfg, K_STEP, note, sizeof note);
+            return key_fail(cfg, K_SMALLEST_STEP, origin, st,
+                            "%g s is longer than the first step step_s%s = %g s",
+                            cfg->smallest_step_s, note, cfg->step_s);
+        }
+        if (cfg->largest_step_s < cfg->step_s) {
+            key_note(cfg, K_STEP, note, sizeof note);
+            return key_fail(cfg, K_LARGEST_STEP, origin, st,
+                            "%g s is shorter than the first step step_s%s = %g s",
+                            cfg->largest_step_s, note, cfg->step_s);
         }
     }
 
