@@ -216,6 +216,15 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
     /* The reference: spin-up plus window. */
     tg_config *r = &c->ref;
     r->duration_days = cfg->twin_spinup_days + cfg->twin_analysis_days;
+    /* The reference steps its own loop (run_reference) with fixed steps of
+     * step_s, so its samples fall on whole steps; [time] step_choice =
+     * adaptive applies to the coarse runs (tg_run) only (README, "Adaptive
+     * steps"). */
+    if (r->step_choice == TG_STEP_ADAPTIVE)
+        tg_log(TG_LOG_INFO, "twin: the reference run takes fixed steps of step_s = %g s; "
+                            "adaptive steps apply to the coarse runs",
+               r->step_s);
+    r->step_choice = TG_STEP_FIXED;
     if (snprintf(r->out_directory, sizeof r->out_directory, "%s/reference", c->dir) >=
         (int)sizeof r->out_directory)
         return tg_fail(st, TG_ERR_CONFIG, "output directory path too long: %s", c->dir);
