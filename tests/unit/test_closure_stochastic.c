@@ -150,6 +150,18 @@ START_TEST(threads_bitwise_periodic)
 }
 END_TEST
 
+/* The set-up of (b) and (b2): additive noise alone, periodic 64 x 64. */
+static const char *const AR1_PERIODIC[] = {"grid.geometry=periodic",
+                                           "grid.points=64",
+                                           "grid.size_km=1000",
+                                           "wind.profile=none",
+                                           "time.step_s=3600",
+                                           "closure.use=stochastic_additive",
+                                           "stochastic_additive.noise_amplitude_per_s2=3e-12",
+                                           "stochastic_additive.decorrelation_time_days=0.1",
+                                           "stochastic_additive.correlation_length_km=31.25",
+                                           NULL};
+
 /* ---------------------------------------------------------------------- */
 /* (b) Statistics of the AR(1) field xi^{n+1} = phi xi^n + sqrt(1-phi^2)
  * sigma eta^{n+1} in the periodic domain (64 x 64, dx = 15.625 km), with
@@ -181,17 +193,7 @@ END_TEST
 START_TEST(ar1_statistics)
 {
     const double sigma = 3e-12, tau_days = 0.1, dt = 3600.0;
-    const char *sets[] = {"grid.geometry=periodic",
-                          "grid.points=64",
-                          "grid.size_km=1000",
-                          "wind.profile=none",
-                          "time.step_s=3600",
-                          "closure.use=stochastic_additive",
-                          "stochastic_additive.noise_amplitude_per_s2=3e-12",
-                          "stochastic_additive.decorrelation_time_days=0.1",
-                          "stochastic_additive.correlation_length_km=31.25",
-                          NULL};
-    tg_model *m = make_model(sets);
+    tg_model *m = make_model(AR1_PERIODIC);
     const int n = m->geom->a1 - m->geom->a0, nl = m->nl;
     ck_assert_int_eq(n, 64);
     const double phi = exp(-dt / (tau_days * 86400.0));
@@ -270,17 +272,7 @@ START_TEST(ar1_varying_steps)
 {
     const double sigma = 3e-12, tau = 0.1 * 86400.0;
     const double dts[3] = {0.25 * tau, tau, 3.0 * tau};
-    const char *sets[] = {"grid.geometry=periodic",
-                          "grid.points=64",
-                          "grid.size_km=1000",
-                          "wind.profile=none",
-                          "time.step_s=3600",
-                          "closure.use=stochastic_additive",
-                          "stochastic_additive.noise_amplitude_per_s2=3e-12",
-                          "stochastic_additive.decorrelation_time_days=0.1",
-                          "stochastic_additive.correlation_length_km=31.25",
-                          NULL};
-    tg_model *m = make_model(sets);
+    tg_model *m = make_model(AR1_PERIODIC);
     const int n = m->geom->a1 - m->geom->a0, nl = m->nl;
     const int N = 1500, LAT = 8, SP = 8, M = LAT * LAT * nl;
     size_t len;
