@@ -183,6 +183,14 @@ static tg_code initial_state(run_ctx *c, tg_status *st)
                        "experiment's %g days ([time] duration_days counts from day 0)",
                        cfg->initial_path, info.step, info.time_s / TG_SECONDS_PER_DAY,
                        cfg->duration_days);
+    /* Fixed steps count whole steps of step_s from day 0. */
+    if (!c->steps.adaptive && fabs(info.time_s - info.step * cfg->step_s) > 1e-6 * cfg->step_s)
+        return tg_fail(st, TG_ERR_CONFIG,
+                       "%s: the checkpoint at day %.6g after %ld steps is not at a whole number "
+                       "of steps of [time] step_s = %g s (written with other or adaptive steps); "
+                       "resume it with [time] step_choice = adaptive",
+                       cfg->initial_path, info.time_s / TG_SECONDS_PER_DAY, info.step,
+                       cfg->step_s);
     m->step = info.step;
     /* Fixed steps: step * dt, as the stepper keeps it; adaptive: the time saved. */
     m->time_s = c->steps.adaptive ? info.time_s : m->step * cfg->step_s;

@@ -17,7 +17,9 @@
  *     weighted with the step actually taken.
  * (c) Restart bitwise: a run stopped at day 6.6 (an output time of the full
  *     run) and resumed from its checkpoint ends bit for bit where the full
- *     run ends; the checkpoint holds the wanted step (run_steps.h).
+ *     run ends; the checkpoint holds the wanted step (run_steps.h). Resumed
+ *     with fixed steps, the same checkpoint is a config error (its time is
+ *     no whole number of steps).
  * (d) One versus two OpenMP threads: bit for bit the same snapshots (domain
  *     sums in fixed order, README).
  * (e) Convergence: SSP-RK3 is third order (Shu & Osher 1988, J. Comput.
@@ -219,6 +221,15 @@ START_TEST(restart_bitwise)
                   "the resumed run does not end bitwise where the full run ends");
     ck_assert_msg(same_var("full", "second", "checkpoint.nc", "time_seconds"),
                   "the resumed run ends at another time");
+    /* The same checkpoint with fixed steps: its time is no whole number of
+     * steps, so resuming it is a config error, not a silent jump in time. */
+    const char *fixed[] = {ck, "time.step_choice=fixed", NULL};
+    basin_config(&cfg, fixed);
+    snprintf(cfg.out_directory, sizeof cfg.out_directory, "%s/fixed", g_dir);
+    tg_status st;
+    tg_run_options opt = {.overwrite = 1};
+    ck_assert_int_eq(tg_run(&cfg, &opt, &st), TG_ERR_CONFIG);
+    ck_assert_msg(strstr(st.msg, "step_choice = adaptive") != NULL, "message: %s", st.msg);
 }
 END_TEST
 
