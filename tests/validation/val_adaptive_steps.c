@@ -299,6 +299,115 @@ START_TEST(third_order_in_the_target)
 }
 END_TEST
 
+/* (f) The periodic eddy set-up (configs/eddies-64.ini, stronger noise). */
+static const char *const eddy_sets[] = {
+    "grid.geometry=periodic", "grid.points=64", "grid.size_km=1000",
+    "layers.thickness_m=1000, 3000", "layers.reduced_gravity_m_s2=0.02",
+    "planet.coriolis_f0_per_s=1e-4", "planet.beta_per_m_per_s=2e-11",
+    "background.zonal_velocity_m_s=0.15, -0.05", "wind.profile=none",
+    "dissipation.bottom_drag_per_s=2e-6", "dissipation.viscosity_m2_per_s=0",
+    "dissipation.hyperviscosity_m4_per_s=2e10", "time.step_s=1500", "time.max_cfl=0.9",
+    "output.checkpoint_every_days=0", NULL};
+
+enum { EDDY_BATCHES = 8 };
+static const double EDDY_SPINUP_DAYS = 200.0, EDDY_BATCH_DAYS = 30.0;
+
+static void eddy_config(tg_config *cfg, const char *choice, double days)
+{
+    tg_status st;
+    char a[64], b[64], c[64];
+    snprintf(a, sizeof a, "time.step_choice=%s", choice);
+    snprintf(b, sizeof b, "time.duration_days=%.17g", days);
+    snprintf(c, sizeof c, "output.snapshot_every_days=%.17g", EDDY_BATCH_DAYS);
+    const char *more[] = {a, b, c, "output.log_every_days=1000", NULL};
+    tg_config_defaults(cfg);
+    for (int i = 0; eddy_sets[i]; i++)
+        ck_assert_msg(tg_config_set(cfg, eddy_sets[i], &st) == TG_OK, "%s", st.msg);
+    for (int i = 0; more[i]; i++)
+        ck_assert_msg(tg_config_set(cfg, more[i], &st) == TG_OK, "%s", st.msg);
+    ck_assert_msg(tg_config_check(cfg, NULL, &st) == TG_OK, "config: %s", st.msg);
+}
+
+/* Steps m to the end of cfg's run; with bm (may be NULL) the time-weighted
+ * mean energy of each batch (output interval) after day `from`. */
+static void eddy_steps(tg_model *m, const tg_config *cfg, double from, double *bm, long *steps)
+{
+    tg_status st;
+    tg_run_steps rs;
+    tg_run_steps_init(&rs, cfg, m);
+    double acc = 0.0, span = 0.0;
+    int b = 0;
+    const long s0 = m->step;
+    while (!tg_run_steps_done(&rs, m)) {
+        tg_run_steps_next(&rs, m);
+        ck_assert_msg(tg_step(m, NULL, &st) == TG_OK, "step: %s", st.msg);
+        const double cfl = tg_model_max_cfl(m, NULL, NULL, NULL);
+        ck_assert_msg(cfl < cfg->max_cfl, "CFL %.3f at day %.2f", cfl, m->time_s / 86400.0);
+        tg_run_events ev = tg_run_steps_after(&rs, m, cfl);
+        if (bm && m->time_s > from * 86400.0) {
+            acc += m->dt * tg_model_energy(m);
+            span += m->dt;
+            if (ev.snapshot) {
+                bm[b++] = acc / span;
+                acc = span = 0.0;
+            }
+        }
+    }
+    if (bm)
+        ck_assert_int_eq(b, EDDY_BATCHES);
+    *steps = m->step - s0;
+}
+
+static void mean_and_error(const double *bm, int n, double *mean, double *se)
+{
+    double s = 0.0, ss = 0.0;
+    for (int i = 0; i < n; i++)
+        s += bm[i];
+    *mean = s / n;
+    for (int i = 0; i < n; i++)
+        ss += (bm[i] - *mean) * (bm[i] - *mean);
+    *se = sqrt(ss / (n - 1) / n); /* batch means */
+}
+
+START_TEST(eddy_statistics)
+{
+    const double end = EDDY_SPINUP_DAYS + EDDY_BATCHES * EDDY_BATCH_DAYS;
+    tg_config spin, fixed, adapt;
+    eddy_config(&spin, "fixed", EDDY_SPINUP_DAYS);
+    eddy_config(&fixed, "fixed", end);
+    eddy_config(&adapt, "adaptive", end);
+    tg_model *m = tg_unit_model(&spin);
+    tg_model_set_noise(m, 7000.0, 1);
+    long n0, nf, na;
+    eddy_steps(m, &spin, 0.0, NULL, &n0);
+    /* Both continuations from the state at the end of the spin-up. */
+    const long nq = (long)m->nl * m->nout * m->nout;
+    double *q = malloc(sizeof(double) * nq);
+    ck_assert(q);
+    tg_model_pack(m, m->q, q);
+    const long step0 = m->step;
+    tg_model *ma = tg_unit_model(&adapt);
+    tg_model_set_q(ma, q);
+    ma->step = step0;
+    ma->time_s = m->time_s;
+    double bf[EDDY_BATCHES], ba[EDDY_BATCHES], mf, sf, ma_, sa;
+    eddy_steps(m, &fixed, EDDY_SPINUP_DAYS, bf, &nf);
+    eddy_steps(ma, &adapt, EDDY_SPINUP_DAYS, ba, &na);
+    mean_and_error(bf, EDDY_BATCHES, &mf, &sf);
+    mean_and_error(ba, EDDY_BATCHES, &ma_, &sa);
+    const double se = sqrt(sf * sf + sa * sa);
+    printf("val_adaptive_steps: eddy energy over days %g-%g: fixed 1500 s (%ld steps) %.4e +- "
+           "%.1e, adaptive (%ld steps) %.4e +- %.1e; difference %.2f standard errors\n",
+           EDDY_SPINUP_DAYS, end, nf, mf, sf, na, ma_, sa, fabs(mf - ma_) / se);
+    ck_assert_msg(na < nf / 2, "adaptive steps took %ld steps, fixed %ld", na, nf);
+    ck_assert_msg(fabs(mf - ma_) < 3.0 * se, "mean energies %.4e and %.4e differ by %.2f standard "
+                  "errors", mf, ma_, fabs(mf - ma_) / se);
+    free(q);
+    tg_model_destroy(m);
+    tg_model_destroy(ma);
+}
+END_TEST
+
 int main(void)
 {
     Suite *s = suite_create("val_adaptive_steps");
@@ -307,6 +416,7 @@ int main(void)
     tcase_add_test(tc, output_times_budget_threads);
     tcase_add_test(tc, restart_bitwise);
     tcase_add_test(tc, third_order_in_the_target);
+    tcase_add_test(tc, eddy_statistics);
     suite_add_tcase(s, tc);
     return tg_unit_run_in_scratch(s, g_dir, sizeof g_dir, "adaptive");
 }
