@@ -59,7 +59,8 @@ static tg_code visc_tendency(void *state, const tg_closure_view *view, double *t
 static double visc_stable_step(void *state, const tg_closure_view *view)
 {
     const visc_state *v = state;
-    return fmin(tg_stable_step_harmonic(v->A2, view->dx), tg_stable_step_biharmonic(v->A4, view->dx));
+    return fmin(tg_stable_step_harmonic(v->A2, view->dx),
+                tg_stable_step_biharmonic(v->A4, view->dx));
 }
 
 static void visc_destroy(void *state)

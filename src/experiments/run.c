@@ -426,7 +426,8 @@ static tg_code step_loop(run_ctx *c, tg_status *st)
                            m->step, m->time_s / TG_SECONDS_PER_DAY, c->path_ckpt);
         }
         tg_run_events ev;
-        if ((rc = take_step(c, &ev, st)) != TG_OK || (rc = write_events(c, &ev, first, st)) != TG_OK)
+        if ((rc = take_step(c, &ev, st)) != TG_OK ||
+            (rc = write_events(c, &ev, first, st)) != TG_OK)
             return rc;
         c->before = c->after;
     }

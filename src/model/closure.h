@@ -109,10 +109,9 @@ typedef struct {
     double dx;                     /* grid spacing, m */
     double length;                 /* side of the domain, m */
     double dt;                     /* fixed time step, s; with adaptive steps the smallest
-                                      step (the view's dt is the step being taken) */
-    int adaptive;                  /* 1: steps vary; dt-dependent constants are made from
-                                      each view's dt, and a scheme bounds the step through
-                                      stable_step instead of rejecting dt at set-up */
+                                      step: the steps vary, so dt-dependent constants are
+                                      made from each view's dt, and a scheme bounds the
+                                      step through stable_step */
     const double *thickness_m;     /* H_k, nlayers */
     const double *reduced_gravity; /* g'_i, nlayers - 1 */
     double f0, beta;               /* s-1, m-1 s-1 */

@@ -35,7 +35,8 @@ const tg_closure_ops *tg_closure_load_plugin(const char *path, tg_status *st)
     const tg_closure_ops *(*entry)(void);
     memcpy(&entry, &sym, sizeof entry); /* object to function pointer, POSIX-sanctioned */
     const tg_closure_ops *ops = entry();
-    if (!ops || ops->abi < 1 || ops->abi > TG_CLOSURE_ABI || !ops->name || !ops->create || !ops->tendency) {
+    if (!ops || ops->abi < 1 || ops->abi > TG_CLOSURE_ABI || !ops->name || !ops->create ||
+        !ops->tendency) {
         tg_fail(st, TG_ERR_CONFIG,
                 "closure plugin %s: its table is incomplete or built for interface version %d "
                 "(this program has %d); rebuild it against this closure.h",
@@ -416,7 +417,6 @@ tg_closure_host *tg_closure_host_create(const tg_config *cfg, tg_geometry *g, co
         tg_closure_setup s = {.nlayers = h->nl, .ns = g->ns, .a0 = g->a0, .a1 = g->a1,
                               .dx = g->dx, .length = g->length,
                               .dt = adaptive ? cfg->smallest_step_s : h->dt,
-                              .adaptive = adaptive,
                               .thickness_m = cfg->thickness_m,
                               .reduced_gravity = cfg->reduced_gravity_m_s2,
                               .f0 = cfg->coriolis_f0_per_s, .beta = cfg->beta_per_m_per_s,
