@@ -34,13 +34,17 @@
  *     val_periodic_equilibrium.c (Phillips 1954, Tellus 6, 273-286:
  *     supercritical shear), spun up with fixed 1500 s steps to day 300,
  *     then continued for 240 days twice from the same state, with fixed
- *     1500 s steps and with adaptive steps (target_cfl 0.5). The time-mean
- *     energies of the two continuations agree within three standard errors
- *     of their difference; each standard error comes from batch means over
- *     8 batches of 30 days (common practice: the method of batch means,
- *     e.g. Law & Kelton, Simulation Modeling and Analysis, section 9.5.3,
- *     from memory), the two runs being independent samples once their
- *     chaotic trajectories part.
+ *     1500 s steps and with adaptive steps at target_cfl 0.25, the target
+ *     README recommends for eddy statistics. The time-mean energies of the
+ *     two continuations agree within three standard errors of their
+ *     difference; each standard error comes from batch means over 8 batches
+ *     of 30 days (common practice: the method of batch means, e.g. Law &
+ *     Kelton, Simulation Modeling and Analysis, section 9.5.3, from memory),
+ *     the two runs being independent samples once their chaotic
+ *     trajectories part. This short window resolves only gross differences
+ *     (standard error about 4 %); the long comparison in README (2100 days)
+ *     found target 0.5 about 10 % low in energy there, 0.25 within 1.3
+ *     standard errors.
  *
  * A Check suite with its own main(). Part of twingyre. GPL-3.0-or-later.
  */
@@ -307,7 +311,7 @@ static const char *const eddy_sets[] = {
     "background.zonal_velocity_m_s=0.15, -0.05", "wind.profile=none",
     "dissipation.bottom_drag_per_s=2e-6", "dissipation.viscosity_m2_per_s=0",
     "dissipation.hyperviscosity_m4_per_s=2e10", "time.step_s=1500", "time.max_cfl=0.9",
-    "output.checkpoint_every_days=0", NULL};
+    "time.target_cfl=0.25", "output.checkpoint_every_days=0", NULL};
 
 enum { EDDY_BATCHES = 8 };
 static const double EDDY_SPINUP_DAYS = 200.0, EDDY_BATCH_DAYS = 30.0;
@@ -399,7 +403,7 @@ START_TEST(eddy_statistics)
     printf("val_adaptive_steps: eddy energy over days %g-%g: fixed 1500 s (%ld steps) %.4e +- "
            "%.1e, adaptive (%ld steps) %.4e +- %.1e; difference %.2f standard errors\n",
            EDDY_SPINUP_DAYS, end, nf, mf, sf, na, ma_, sa, fabs(mf - ma_) / se);
-    ck_assert_msg(na < nf / 2, "adaptive steps took %ld steps, fixed %ld", na, nf);
+    ck_assert_msg(na < nf, "adaptive steps took %ld steps, fixed %ld", na, nf);
     ck_assert_msg(fabs(mf - ma_) < 3.0 * se, "mean energies %.4e and %.4e differ by %.2f standard "
                   "errors", mf, ma_, fabs(mf - ma_) / se);
     free(q);
