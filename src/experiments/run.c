@@ -60,6 +60,9 @@ typedef struct {
     size_t extra_len[RUN_MAX_EXTRA];
     int extra_comp[RUN_MAX_EXTRA];
     double want_buf;     /* the wanted step as the checkpoint stores it */
+    int resume_here;     /* the initial state is this folder's checkpoint.nc: continue its files */
+    int made_dir;        /* the output folder did not exist before this run */
+    int stepping;        /* set once the set-up is done and steps begin */
 } run_ctx;
 
 /* Buffers for the closure components that keep their own state. */
@@ -173,6 +176,9 @@ static tg_code initial_state(run_ctx *c, tg_status *st)
     tg_model *m = c->m;
     tg_initial_info info;
     tg_code rc = tg_state_initial(m, cfg, &info, st);
+    if (rc == TG_OK && c->resume_here && !(info.has_q && info.has_time))
+        return tg_fail(st, TG_ERR_IO, "%s: not a checkpoint (no q, time and step), so the run "
+                       "cannot resume from it in its own folder", cfg->initial_path);
     if (rc != TG_OK || !(info.has_q && info.has_time))
         return rc;
     /* A checkpoint (initial.h took its PV): resume at its step and time,
@@ -183,17 +189,22 @@ static tg_code initial_state(run_ctx *c, tg_status *st)
                        "experiment's %g days ([time] duration_days counts from day 0)",
                        cfg->initial_path, info.step, info.time_s / TG_SECONDS_PER_DAY,
                        cfg->duration_days);
-    /* Fixed steps count whole steps of step_s from day 0. */
-    if (!c->steps.adaptive && fabs(info.time_s - info.step * cfg->step_s) > 1e-6 * cfg->step_s)
+    /* With fixed steps, time = step * dt (as the stepper keeps it): a
+     * checkpoint whose time says otherwise was written with another step
+     * size or with adaptive steps. (tg_initial_read already checked that
+     * step is whole and time finite and >= 0.) */
+    const double want = (double)info.step * cfg->step_s;
+    if (!c->steps.adaptive && fabs(info.time_s - want) > 1e-9 * fmax(want, cfg->step_s))
         return tg_fail(st, TG_ERR_CONFIG,
-                       "%s: the checkpoint at day %.6g after %ld steps is not at a whole number "
-                       "of steps of [time] step_s = %g s (written with other or adaptive steps); "
-                       "resume it with [time] step_choice = adaptive",
-                       cfg->initial_path, info.time_s / TG_SECONDS_PER_DAY, info.step,
-                       cfg->step_s);
+                       "%s: the checkpoint is at step %ld and day %.9g, but step %ld of "
+                       "[time] step_s = %g s is day %.9g: it was written with another step "
+                       "size or with adaptive steps (resume those with [time] step_choice = "
+                       "adaptive)",
+                       cfg->initial_path, info.step, info.time_s / TG_SECONDS_PER_DAY, info.step,
+                       cfg->step_s, want / TG_SECONDS_PER_DAY);
     m->step = info.step;
     /* Fixed steps: step * dt, as the stepper keeps it; adaptive: the time saved. */
-    m->time_s = c->steps.adaptive ? info.time_s : m->step * cfg->step_s;
+    m->time_s = c->steps.adaptive ? info.time_s : want;
     if (c->steps.adaptive)
         load_want(c, cfg->initial_path);
     return load_extras(c, cfg->initial_path, st);
@@ -220,12 +231,21 @@ static void log_summary(const run_ctx *c)
            c->worst_e, c->worst_z);
 }
 
+/* 1 when the initial state is this run's own checkpoint.nc (the same file):
+ * the run then continues the folder's fields.nc and budget.nc. */
+static int resumes_here(const tg_config *cfg, const run_ctx *c)
+{
+    struct stat a, b;
+    return cfg->initial_kind == TG_INIT_FILE && stat(cfg->initial_path, &a) == 0 &&
+           stat(c->path_ckpt, &b) == 0 && a.st_dev == b.st_dev && a.st_ino == b.st_ino;
+}
+
 static tg_code check_outputs_free(const char *dir, const run_ctx *c, int overwrite, tg_status *st)
 {
     if (overwrite)
         return TG_OK;
-    const char *paths[] = {c->path_fields, c->path_budget};
-    for (int i = 0; i < 2; i++)
+    const char *paths[] = {c->path_fields, c->path_budget, c->path_ckpt};
+    for (int i = 0; i < 3; i++)
         if (access(paths[i], F_OK) == 0)
             return tg_fail(st, TG_ERR_IO,
                            "%s already exists; choose another output directory than %s or pass "
@@ -273,17 +293,27 @@ static tg_code open_outputs(run_ctx *c, tg_status *st)
                            .title = "twingyre layered quasi-geostrophic experiment"};
     const tg_nc_wavenumbers wn = {.nbins = c->spec->nbins, .k = c->spec->k,
                                   .bin_width = c->spec->dk};
-    c->ff = tg_fields_create(c->path_fields, &c->grid, &wn, st);
-    if (!c->ff)
-        return st->code;
     tg_budget_layout_init(&c->lay, m->nl, m->term_active);
     const char *labels[TG_MAX_CLOSURES];
     int nc = tg_closure_host_count(m->closures);
     for (int k = 0; k < nc; k++)
         labels[k] = tg_closure_host_label(m->closures, k);
     tg_budget_layout_components(&c->lay, nc, labels);
-    c->bf = tg_budget_create(c->path_budget, &c->grid, c->lay.var, c->lay.n, st);
-    return c->bf ? TG_OK : st->code;
+    /* budget.nc first: a resume in place may refuse it (steps missing)
+     * before fields.nc is touched. */
+    c->bf = c->resume_here && access(c->path_budget, F_OK) == 0
+                ? tg_budget_continue(c->path_budget, &c->grid, c->lay.var, c->lay.n, m->step, st)
+                : tg_budget_create(c->path_budget, &c->grid, c->lay.var, c->lay.n, st);
+    if (!c->bf)
+        return st->code;
+    /* Snapshots from the resumed time on are written again; with adaptive
+     * steps an earlier snapshot may lie closer than half a step. */
+    const double cut = c->steps.adaptive ? m->time_s - 1e-9 * fmax(m->time_s, 1.0)
+                                         : m->time_s - 0.5 * c->cfg->step_s;
+    c->ff = c->resume_here && access(c->path_fields, F_OK) == 0
+                ? tg_fields_continue(c->path_fields, &c->grid, &wn, cut, st)
+                : tg_fields_create(c->path_fields, &c->grid, &wn, st);
+    return c->ff ? TG_OK : st->code;
 }
 
 /* The state a run starts from must be finite and within max_cfl. */
@@ -390,7 +420,10 @@ static tg_code write_events(run_ctx *c, const tg_run_events *ev, long first, tg_
     if (ev->snapshot && ((rc = write_snapshot(c, c->ff, st)) != TG_OK ||
                          (rc = tg_budget_flush(c->bf, st)) != TG_OK))
         return rc;
-    if (ev->checkpoint && (rc = write_checkpoint(c, st)) != TG_OK)
+    /* budget.nc first: after a kill, it holds every step up to the
+     * checkpoint's, from which a resume continues it. */
+    if (ev->checkpoint &&
+        ((rc = tg_budget_flush(c->bf, st)) != TG_OK || (rc = write_checkpoint(c, st)) != TG_OK))
         return rc;
     if (ev->log) {
         log_summary(c);
@@ -450,6 +483,16 @@ static tg_code tear_down(run_ctx *c, tg_code rc, tg_status *st)
         if (rc == TG_OK)
             rc = r2;
     }
+    /* A run that fails during its set-up leaves no folder it made (the
+     * files it began are of no use); later, only an empty one goes. */
+    if (rc != TG_OK && c->made_dir) {
+        if (!c->stepping && rc != TG_ERR_BLOWUP) {
+            const char *mine[] = {c->path_fields, c->path_budget, c->path_ckpt};
+            for (int i = 0; i < 3; i++)
+                (void)remove(mine[i]);
+        }
+        (void)rmdir(c->cfg->out_directory); /* fails, as meant, when files remain */
+    }
     free(c->cfg_text);
     free(c->rec);
     free(c->psi_out);
@@ -471,9 +514,13 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
     snprintf(c.path_fields, sizeof c.path_fields, "%s/fields.nc", dir);
     snprintf(c.path_budget, sizeof c.path_budget, "%s/budget.nc", dir);
     snprintf(c.path_ckpt, sizeof c.path_ckpt, "%s/checkpoint.nc", dir);
-    tg_code rc = check_outputs_free(dir, &c, opt->overwrite, st);
-    if (rc != TG_OK)
+    /* Resumed from its own checkpoint (without --overwrite): the folder's
+     * files are continued, not replaced. */
+    c.resume_here = !opt->overwrite && resumes_here(cfg, &c);
+    tg_code rc;
+    if (!c.resume_here && (rc = check_outputs_free(dir, &c, opt->overwrite, st)) != TG_OK)
         return rc;
+    c.made_dir = access(dir, F_OK) != 0;
     if ((rc = set_up(&c, st)) != TG_OK || (rc = initial_state(&c, st)) != TG_OK ||
         (rc = open_outputs(&c, st)) != TG_OK)
         return tear_down(&c, rc, st);
@@ -487,7 +534,9 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
            "dx %.3f km",
            m->step, m->time_s / TG_SECONDS_PER_DAY, cfg->duration_days,
            c.steps.adaptive ? "adaptive" : "fixed", m->nl, m->nout, m->nout, m->geom->dx / 1e3);
-    if ((rc = check_start(&c, st)) == TG_OK)
+    if ((rc = check_start(&c, st)) == TG_OK) {
+        c.stepping = 1;
         rc = step_loop(&c, st);
+    }
     return tear_down(&c, rc, st);
 }
