@@ -32,7 +32,9 @@ struct tg_ar1 {
     uint32_t member;
     uint64_t key;
     double sigma;        /* stationary standard deviation */
-    double phi;          /* lag-one autocorrelation exp(-dt/tau) */
+    double tau;          /* decorrelation time, s (0: white in time) */
+    double phi_dt;       /* the step phi and innov were made for, s */
+    double phi;          /* lag-one autocorrelation exp(-dt/tau) of that step */
     double innov;        /* sqrt(1 - phi^2) sigma */
     double width;        /* Gaussian filter width, m */
     double gain;         /* 1 / standard deviation of the filtered white field */
@@ -102,6 +104,17 @@ static void combine(tg_ar1 *a, int f, double c_old, double c_new)
         }
 }
 
+/* phi = exp(-dt/tau) and the innovation amplitude sqrt(1 - phi^2) sigma of
+ * a step dt: the exact transition of the Ornstein-Uhlenbeck process over dt
+ * (Gardiner, Handbook of Stochastic Methods, section 4.4.4; from memory),
+ * so the stationary variance stays sigma^2 however the steps vary. */
+static void set_step(tg_ar1 *a, double dt)
+{
+    a->phi_dt = dt;
+    a->phi = a->tau > 0.0 ? exp(-dt / a->tau) : 0.0;
+    a->innov = sqrt(1.0 - a->phi * a->phi) * a->sigma;
+}
+
 void tg_ar1_destroy(tg_ar1 *a)
 {
     if (!a)
@@ -144,8 +157,8 @@ tg_code tg_ar1_create(const tg_closure_setup *s, int nfields, double sigma, doub
     a->member = (uint32_t)s->member;
     a->key = key;
     a->sigma = sigma;
-    a->phi = tau_s > 0.0 ? exp(-s->dt / tau_s) : 0.0;
-    a->innov = sqrt(1.0 - a->phi * a->phi) * sigma;
+    a->tau = tau_s;
+    set_step(a, s->dt);
     /* Transfer exp(-K^2 w^2/24) squared is exp(-K^2 w^2/12), the spectrum of
      * the filtered white noise; its 2-D inverse Fourier transform is
      * proportional to exp(-3 r^2/w^2) = exp(-r^2/(2 ell^2)) for w^2 = 6 ell^2. */
@@ -194,8 +207,10 @@ tg_code tg_ar1_create(const tg_closure_setup *s, int nfields, double sigma, doub
     return TG_OK;
 }
 
-void tg_ar1_advance(tg_ar1 *a, const tg_closure_tools *t, long step)
+void tg_ar1_advance(tg_ar1 *a, const tg_closure_tools *t, long step, double dt)
 {
+    if (dt != a->phi_dt)
+        set_step(a, dt);
     for (int f = 0; f < a->nf; f++) {
         draw_eta(a, t, a->key, step, f);
         combine(a, f, a->phi, a->innov);

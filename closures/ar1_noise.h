@@ -55,8 +55,10 @@ tg_code tg_ar1_create(const tg_closure_setup *s, int nfields, double sigma, doub
 void tg_ar1_destroy(tg_ar1 *a);
 
 /* The AR(1) update to step `step` (the number of completed steps), keyed by
- * that step; called from a scheme's advance(). Allocates nothing. */
-void tg_ar1_advance(tg_ar1 *a, const tg_closure_tools *t, long step);
+ * that step, over the step dt just taken (phi = exp(-dt/tau) of that step,
+ * so varying steps keep the stationary variance sigma^2); called from a
+ * scheme's advance() with the view's dt. Allocates nothing. */
+void tg_ar1_advance(tg_ar1 *a, const tg_closure_tools *t, long step, double dt);
 
 /* Makes sure the fields belong to step `step`. When they do not (a resumed
  * run whose checkpoint did not carry them), draws them afresh from the
@@ -67,7 +69,7 @@ int tg_ar1_sync(tg_ar1 *a, const tg_closure_tools *t, long step, const char *who
 /* Field f (ns x ns, active nodes). */
 const double *tg_ar1_field(const tg_ar1 *a, int f);
 
-/* The step the fields belong to, and phi. */
+/* The step the fields belong to, and phi of the latest step. */
 long tg_ar1_step(const tg_ar1 *a);
 double tg_ar1_phi(const tg_ar1 *a);
 

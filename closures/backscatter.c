@@ -72,6 +72,14 @@ static tg_code back_tendency(void *state, const tg_closure_view *view, double *t
     return TG_OK;
 }
 
+/* The damping rate A4 lambda^2 - nu_b lambda is below A4 lambda^2, so the
+ * biharmonic bound of closure.h holds (the growing large scales are slow). */
+static double back_stable_step(void *state, const tg_closure_view *view)
+{
+    const back_state *b = state;
+    return tg_stable_step_biharmonic(b->A4, view->dx);
+}
+
 static void back_destroy(void *state)
 {
     free(state);
@@ -88,4 +96,5 @@ const tg_closure_ops tg_scheme_backscatter = {
     .create = back_create,
     .tendency = back_tendency,
     .destroy = back_destroy,
+    .stable_step = back_stable_step,
 };

@@ -51,7 +51,8 @@
  * B dt > e) are set to zero, which adds at most that tiny energy. The
  * diffusion of e uses a zero-flux wall (EXTEND ring) and needs
  * kappa_e dt / dx^2 <= 1/4 (explicit five-point diffusion, common practice);
- * the damping needs dt <= tau; both are checked at set-up.
+ * the damping needs dt <= tau; both are checked at set-up (with adaptive
+ * steps for the smallest step) and bound adaptive steps (bb_stable_step).
  *
  * State: e on the active nodes of every layer (state_save/state_load for
  * checkpoints). Plain loops in fixed order: the result does not depend on
@@ -236,6 +237,20 @@ static tg_code bb_advance(void *state, const tg_closure_view *view, tg_status *s
     return TG_OK;
 }
 
+/* The explicit Euler update of e is stable for dt <= tau (damping) and
+ * kappa_e dt / dx^2 <= 1/4 (five-point diffusion, common practice); the
+ * biharmonic part of the tendency has the bound of closure.h. With
+ * adaptive steps these bound the step (set-up checks only the smallest). */
+static double bb_stable_step(void *state, const tg_closure_view *view)
+{
+    (void)view;
+    const budget_state *b = state;
+    double s = fmin(b->tau, tg_stable_step_biharmonic(b->A4, b->dx));
+    if (b->kappa_e > 0.0)
+        s = fmin(s, 0.25 * b->dx * b->dx / b->kappa_e);
+    return s;
+}
+
 static size_t bb_state_size(void *state)
 {
     const budget_state *b = state;
@@ -292,4 +307,5 @@ const tg_closure_ops tg_scheme_backscatter_budget = {
     .state_save = bb_state_save,
     .state_load = bb_state_load,
     .destroy = bb_destroy,
+    .stable_step = bb_stable_step,
 };

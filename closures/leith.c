@@ -113,6 +113,19 @@ static tg_code leith_tendency(void *state, const tg_closure_view *v, double *ten
     return TG_OK;
 }
 
+/* The largest nu of any layer now, in the harmonic bound of closure.h. */
+static double leith_stable_step(void *state, const tg_closure_view *v)
+{
+    leith_state *s = state;
+    s->gr.tools = v->tools;
+    double numax = 0.0;
+    for (int k = 0; k < s->nl; k++) {
+        tg_visc_leith_nu(&s->gr, s->C, v->zeta + k * s->npl, 0.0, s->gx, s->gy, s->nu);
+        numax = fmax(numax, tg_visc_active_max(&s->gr, s->nu));
+    }
+    return tg_stable_step_harmonic(numax, s->gr.dx);
+}
+
 const tg_closure_ops tg_scheme_leith = {
     .abi = TG_CLOSURE_ABI,
     .name = "leith",
@@ -125,4 +138,5 @@ const tg_closure_ops tg_scheme_leith = {
     .create = leith_create,
     .tendency = leith_tendency,
     .destroy = leith_destroy,
+    .stable_step = leith_stable_step,
 };

@@ -100,17 +100,13 @@ static tg_code lqg_create(const tg_closure_setup *su, void **state, tg_status *s
     return TG_OK;
 }
 
-static tg_code lqg_tendency(void *state, const tg_closure_view *v, double *tend, tg_status *st)
+/* q'_k = zeta_k + sum_j S_kj psi_j on every stored node: the view's rings
+ * are filled, so q' has its ring too (walls: wall vorticity plus stretching
+ * of the wall constants; periodic: the halo). */
+static void dynamic_pv(lqg_state *s, const tg_closure_view *v)
 {
-    (void)st;
-    lqg_state *s = state;
-    const tg_closure_tools *t = v->tools;
     const int nl = s->nl;
     const long npl = s->npl;
-    s->gr.tools = t;
-    /* q'_k = zeta_k + sum_j S_kj psi_j on every stored node: the view's
-     * rings are filled, so q' has its ring too (walls: wall vorticity plus
-     * stretching of the wall constants; periodic: the halo). */
     for (int k = 0; k < nl; k++) {
         double *o = s->qd + k * npl;
         const double *z = v->zeta + k * npl;
@@ -122,14 +118,37 @@ static tg_code lqg_tendency(void *state, const tg_closure_view *v, double *tend,
             o[p] = acc;
         }
     }
-    for (int k = 0; k < nl; k++) {
-        const long off = k * npl;
+}
+
+static tg_code lqg_tendency(void *state, const tg_closure_view *v, double *tend, tg_status *st)
+{
+    (void)st;
+    lqg_state *s = state;
+    const tg_closure_tools *t = v->tools;
+    s->gr.tools = t;
+    dynamic_pv(s, v);
+    for (int k = 0; k < s->nl; k++) {
+        const long off = k * s->npl;
         /* nu_k = (C dx)^3 |grad q'_k + beta y_hat| (or |grad q'_k|) */
         tg_visc_leith_nu(&s->gr, s->C, s->qd + off, s->beta, s->gx, s->gy, s->nu);
         /* dq_k/dt = div(nu_k grad q'_k), flux form */
         t->div_nu_grad(t->ctx, s->nu, s->qd + off, tend + off);
     }
     return TG_OK;
+}
+
+/* The largest nu of any layer now, in the harmonic bound of closure.h. */
+static double lqg_stable_step(void *state, const tg_closure_view *v)
+{
+    lqg_state *s = state;
+    s->gr.tools = v->tools;
+    dynamic_pv(s, v);
+    double numax = 0.0;
+    for (int k = 0; k < s->nl; k++) {
+        tg_visc_leith_nu(&s->gr, s->C, s->qd + k * s->npl, s->beta, s->gx, s->gy, s->nu);
+        numax = fmax(numax, tg_visc_active_max(&s->gr, s->nu));
+    }
+    return tg_stable_step_harmonic(numax, s->gr.dx);
 }
 
 const tg_closure_ops tg_scheme_leith_qg = {
@@ -145,4 +164,5 @@ const tg_closure_ops tg_scheme_leith_qg = {
     .create = lqg_create,
     .tendency = lqg_tendency,
     .destroy = lqg_destroy,
+    .stable_step = lqg_stable_step,
 };

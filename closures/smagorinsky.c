@@ -80,6 +80,17 @@ void tg_visc_smagorinsky_nu(const tg_visc_grid *gr, double C, const double *psi,
     gr->tools->fill_ring(gr->tools->ctx, nu, TG_RING_EXTEND);
 }
 
+double tg_visc_active_max(const tg_visc_grid *gr, const double *f)
+{
+    const int ns = gr->ns, a0 = gr->a0, a1 = gr->a1;
+    double m = 0.0;
+#pragma omp parallel for schedule(static) reduction(max : m)
+    for (int j = a0; j < a1; j++)
+        for (int i = a0; i < a1; i++)
+            m = fmax(m, f[(long)j * ns + i]);
+    return m;
+}
+
 typedef struct {
     double C;
     int nl;
@@ -135,6 +146,19 @@ static tg_code smag_tendency(void *state, const tg_closure_view *v, double *tend
     return TG_OK;
 }
 
+/* The largest nu of any layer now, in the harmonic bound of closure.h. */
+static double smag_stable_step(void *state, const tg_closure_view *v)
+{
+    smag_state *s = state;
+    s->gr.tools = v->tools;
+    double numax = 0.0;
+    for (int k = 0; k < s->nl; k++) {
+        tg_visc_smagorinsky_nu(&s->gr, s->C, v->psi + k * s->npl, s->work, s->nu);
+        numax = fmax(numax, tg_visc_active_max(&s->gr, s->nu));
+    }
+    return tg_stable_step_harmonic(numax, s->gr.dx);
+}
+
 const tg_closure_ops tg_scheme_smagorinsky = {
     .abi = TG_CLOSURE_ABI,
     .name = "smagorinsky",
@@ -147,4 +171,5 @@ const tg_closure_ops tg_scheme_smagorinsky = {
     .create = smag_create,
     .tendency = smag_tendency,
     .destroy = smag_destroy,
+    .stable_step = smag_stable_step,
 };

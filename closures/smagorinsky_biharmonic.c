@@ -121,6 +121,21 @@ static tg_code bsmag_tendency(void *state, const tg_closure_view *v, double *ten
     return TG_OK;
 }
 
+/* The largest A4 = C4 dx^4 |D| of any layer now, in the biharmonic bound of
+ * closure.h. */
+static double bsmag_stable_step(void *state, const tg_closure_view *v)
+{
+    bsmag_state *s = state;
+    s->gr.tools = v->tools;
+    const double dx2 = s->gr.dx * s->gr.dx;
+    double dmax = 0.0;
+    for (int k = 0; k < s->nl; k++) {
+        tg_visc_deformation_rate(&s->gr, v->psi + k * s->npl, s->work, s->a4);
+        dmax = fmax(dmax, tg_visc_active_max(&s->gr, s->a4));
+    }
+    return tg_stable_step_biharmonic(s->C4 * dx2 * dx2 * dmax, s->gr.dx);
+}
+
 const tg_closure_ops tg_scheme_smagorinsky_biharmonic = {
     .abi = TG_CLOSURE_ABI,
     .name = "smagorinsky_biharmonic",
@@ -133,4 +148,5 @@ const tg_closure_ops tg_scheme_smagorinsky_biharmonic = {
     .create = bsmag_create,
     .tendency = bsmag_tendency,
     .destroy = bsmag_destroy,
+    .stable_step = bsmag_stable_step,
 };

@@ -116,7 +116,7 @@ static tg_code additive_advance(void *state, const tg_closure_view *view, tg_sta
 {
     (void)st;
     additive_state *a = state;
-    tg_ar1_advance(a->noise, view->tools, view->step);
+    tg_ar1_advance(a->noise, view->tools, view->step, view->dt);
     return TG_OK;
 }
 

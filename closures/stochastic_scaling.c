@@ -143,7 +143,7 @@ static tg_code scaling_advance(void *state, const tg_closure_view *view, tg_stat
 {
     (void)st;
     scaling_state *a = state;
-    tg_ar1_advance(a->noise, view->tools, view->step);
+    tg_ar1_advance(a->noise, view->tools, view->step, view->dt);
     return TG_OK;
 }
 

@@ -129,6 +129,16 @@ static tg_code thick_tendency(void *state, const tg_closure_view *view, double *
     return TG_OK;
 }
 
+/* The tendency is kappa lap (S psi) = kappa lap (q - zeta) up to the
+ * planetary term; for a vertical mode of stretching eigenvalue -F and a
+ * horizontal wavenumber K its rate is kappa K^2 F / (K^2 + F) < kappa K^2,
+ * so the harmonic bound of closure.h with kappa bounds it from above. */
+static double thick_stable_step(void *state, const tg_closure_view *view)
+{
+    const thick_state *t = state;
+    return tg_stable_step_harmonic(t->kappa, view->dx);
+}
+
 const tg_closure_ops tg_scheme_thickness_diffusion = {
     .abi = TG_CLOSURE_ABI,
     .name = "thickness_diffusion",
@@ -140,4 +150,5 @@ const tg_closure_ops tg_scheme_thickness_diffusion = {
     .create = thick_create,
     .tendency = thick_tendency,
     .destroy = thick_destroy,
+    .stable_step = thick_stable_step,
 };

@@ -55,6 +55,14 @@ static tg_code visc_tendency(void *state, const tg_closure_view *view, double *t
     return TG_OK;
 }
 
+/* Constant coefficients: the smaller of the two bounds of closure.h. */
+static double visc_stable_step(void *state, const tg_closure_view *view)
+{
+    const visc_state *v = state;
+    return fmin(tg_stable_step_harmonic(v->A2, view->dx),
+                tg_stable_step_biharmonic(v->A4, view->dx));
+}
+
 static void visc_destroy(void *state)
 {
     free(state);
@@ -72,4 +80,5 @@ const tg_closure_ops tg_scheme_viscosity = {
     .create = visc_create,
     .tendency = visc_tendency,
     .destroy = visc_destroy,
+    .stable_step = visc_stable_step,
 };

@@ -44,4 +44,7 @@ void tg_visc_smagorinsky_nu(const tg_visc_grid *gr, double C, const double *psi,
 void tg_visc_leith_nu(const tg_visc_grid *gr, double C, const double *f, double extra_fy,
                       double *gx, double *gy, double *nu);
 
+/* Largest value of f on the active nodes (0 when all are negative). */
+double tg_visc_active_max(const tg_visc_grid *gr, const double *f);
+
 #endif

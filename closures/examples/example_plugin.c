@@ -103,6 +103,17 @@ static tg_code example_tendency(void *state, const tg_closure_view *view, double
     return TG_OK;
 }
 
+/* The largest stable step (optional): the smaller of the harmonic and the
+ * biharmonic bound of the explicit step (inline helpers of closure.h, no
+ * library call); adaptive steps stay below it. */
+static double example_stable_step(void *state, const tg_closure_view *view)
+{
+    const example_state *e = state;
+    const double a = tg_stable_step_harmonic(e->A2, view->dx);
+    const double b = tg_stable_step_biharmonic(e->A4, view->dx);
+    return a < b ? a : b;
+}
+
 static void example_destroy(void *state)
 {
     free(state);
@@ -124,6 +135,7 @@ static const tg_closure_ops example_ops = {
     .state_save = NULL,
     .state_load = NULL,
     .destroy = example_destroy,
+    .stable_step = example_stable_step, /* interface version 2 */
 };
 
 /* The one exported symbol (TG_CLOSURE_ENTRY). */

@@ -20,34 +20,49 @@
 #include "model.h"
 #include "ncio.h"
 #include "spectrum.h"
+#include "run_steps.h"
 #include "stepper.h"
 
 #ifndef PACKAGE_VERSION
 #define PACKAGE_VERSION "unknown"
 #endif
 
-static long steps_for(double days, double dt)
-{
-    return (long)llround(days * TG_SECONDS_PER_DAY / dt);
-}
+/* One extra array per closure with its own state, and one for the wanted
+ * adaptive step (run_steps.h). */
+#define RUN_MAX_EXTRA (TG_MAX_CLOSURES + 1)
 
 typedef struct {
     tg_model *m;
     const tg_config *cfg;
+    const tg_run_options *opt;
     tg_nc_grid grid;
     double *psi_out, *q_out;
     tg_spectrum *spec;   /* one layer's spectrum, made at set-up */
     double *spec_out;    /* nl*nbins, layer k at k*nbins: what a snapshot writes */
     char path_fields[TG_PATH_LEN + 16], path_budget[TG_PATH_LEN + 16], path_ckpt[TG_PATH_LEN + 16];
-    /* Closure components' own state, written to the checkpoint as extras. */
+    char *cfg_text;
+    tg_fields_file *ff;
+    tg_budget_file *bf;
+    tg_budget_layout lay;
+    double *rec;         /* one budget record */
+    tg_run_steps steps;
+    tg_diag before, after;
+    tg_term_rates rates;
+    double worst_e, worst_z; /* worst relative budget residuals since the last log line */
+    /* Closure components' own state, written to the checkpoint as extras;
+     * with adaptive steps the wanted step follows them (write_checkpoint). */
     int nextra;
-    char extra_name[TG_MAX_CLOSURES][96];
-    const char *extra_names[TG_MAX_CLOSURES];
-    double *extra_buf[TG_MAX_CLOSURES];
-    double *extra_start[TG_MAX_CLOSURES]; /* the state at the start of the step being taken */
-    const double *extra_data[TG_MAX_CLOSURES];
-    size_t extra_len[TG_MAX_CLOSURES];
-    int extra_comp[TG_MAX_CLOSURES];
+    char extra_name[RUN_MAX_EXTRA][96];
+    const char *extra_names[RUN_MAX_EXTRA];
+    double *extra_buf[RUN_MAX_EXTRA];
+    double *extra_start[RUN_MAX_EXTRA]; /* the state at the start of the step being taken */
+    const double *extra_data[RUN_MAX_EXTRA];
+    size_t extra_len[RUN_MAX_EXTRA];
+    int extra_comp[RUN_MAX_EXTRA];
+    double want_buf;     /* the wanted step as the checkpoint stores it */
+    int resume_here;     /* the initial state is this folder's checkpoint.nc: continue its files */
+    int made_dir;        /* the output folder did not exist before this run */
+    int stepping;        /* set once the set-up is done and steps begin */
 } run_ctx;
 
 /* Buffers for the closure components that keep their own state. */
@@ -99,14 +114,38 @@ static tg_code load_extras(run_ctx *c, const char *path, tg_status *st)
     return TG_OK;
 }
 
+/* The wanted adaptive step from a checkpoint; step_s when the checkpoint
+ * has none (it was written with fixed steps, or by an older version). */
+static void load_want(run_ctx *c, const char *path)
+{
+    tg_status rs;
+    tg_status_clear(&rs);
+    double want;
+    if (tg_checkpoint_read_extra(path, TG_RUN_STEPS_CHECKPOINT_NAME, &want, 1, &rs) == TG_OK &&
+        want > 0.0 && isfinite(want)) {
+        c->steps.want = want;
+        return;
+    }
+    tg_log(TG_LOG_INFO, "%s: no %s; adaptive steps start again from step_s = %g s", path,
+           TG_RUN_STEPS_CHECKPOINT_NAME, c->cfg->step_s);
+}
+
 static tg_code write_checkpoint(run_ctx *c, tg_status *st)
 {
     tg_model_pack(c->m, c->m->psi, c->psi_out);
     tg_model_pack(c->m, c->m->q, c->q_out);
     for (int e = 0; e < c->nextra; e++)
         tg_closure_host_state_save(c->m->closures, c->extra_comp[e], c->extra_buf[e]);
+    int n = c->nextra;
+    if (c->steps.adaptive) {
+        c->want_buf = c->steps.want;
+        c->extra_names[n] = TG_RUN_STEPS_CHECKPOINT_NAME;
+        c->extra_data[n] = &c->want_buf;
+        c->extra_len[n] = 1;
+        n++;
+    }
     tg_checkpoint ck = {.time_s = c->m->time_s, .step = c->m->step, .psi = c->psi_out,
-                        .q = c->q_out, .nextra = c->nextra, .extra_names = c->extra_names,
+                        .q = c->q_out, .nextra = n, .extra_names = c->extra_names,
                         .extra_data = c->extra_data, .extra_len = c->extra_len};
     return tg_checkpoint_write(c->path_ckpt, &c->grid, &ck, st);
 }
@@ -131,55 +170,65 @@ static tg_code write_snapshot(run_ctx *c, tg_fields_file *f, tg_status *st)
     return tg_fields_append(f, m->time_s, c->psi_out, c->q_out, c->spec_out, st);
 }
 
-static tg_code initial_state(run_ctx *c, long nsteps, int resume_here, tg_status *st)
+static tg_code initial_state(run_ctx *c, tg_status *st)
 {
     const tg_config *cfg = c->cfg;
     tg_model *m = c->m;
     tg_initial_info info;
     tg_code rc = tg_state_initial(m, cfg, &info, st);
-    if (rc == TG_OK && resume_here && !(info.has_q && info.has_time))
+    if (rc == TG_OK && c->resume_here && !(info.has_q && info.has_time))
         return tg_fail(st, TG_ERR_IO, "%s: not a checkpoint (no q, time and step), so the run "
                        "cannot resume from it in its own folder", cfg->initial_path);
     if (rc != TG_OK || !(info.has_q && info.has_time))
         return rc;
-    /* A checkpoint (initial.h took its PV): resume at its step, with the
-     * closures' own variables, bitwise. */
-    if (info.step < 0 || info.step > nsteps)
+    /* A checkpoint (initial.h took its PV): resume at its step and time,
+     * with the closures' own variables and the wanted step, bitwise. */
+    if (!tg_run_steps_inside(&c->steps, info.step, info.time_s))
         return tg_fail(st, TG_ERR_CONFIG,
                        "%s: the checkpoint is at step %ld (day %.6g), outside this "
-                       "experiment's %ld steps ([time] duration_days counts from day 0)",
-                       cfg->initial_path, info.step, info.time_s / TG_SECONDS_PER_DAY, nsteps);
-    /* With a fixed step, time = step * dt (as tg_model_invert sets it): a
+                       "experiment's %g days ([time] duration_days counts from day 0)",
+                       cfg->initial_path, info.step, info.time_s / TG_SECONDS_PER_DAY,
+                       cfg->duration_days);
+    /* With fixed steps, time = step * dt (as the stepper keeps it): a
      * checkpoint whose time says otherwise was written with another step
-     * size. (tg_initial_read already checked that step is whole and time
-     * finite and >= 0.) */
-    const double want = (double)info.step * m->dt;
-    if (fabs(info.time_s - want) > 1e-9 * fmax(want, m->dt))
+     * size or with adaptive steps. (tg_initial_read already checked that
+     * step is whole and time finite and >= 0.) */
+    const double want = (double)info.step * cfg->step_s;
+    if (!c->steps.adaptive && fabs(info.time_s - want) > 1e-9 * fmax(want, cfg->step_s))
         return tg_fail(st, TG_ERR_CONFIG,
                        "%s: the checkpoint is at step %ld and day %.9g, but step %ld of "
                        "[time] step_s = %g s is day %.9g: it was written with another step "
-                       "size",
+                       "size or with adaptive steps (resume those with [time] step_choice = "
+                       "adaptive)",
                        cfg->initial_path, info.step, info.time_s / TG_SECONDS_PER_DAY, info.step,
-                       m->dt, want / TG_SECONDS_PER_DAY);
+                       cfg->step_s, want / TG_SECONDS_PER_DAY);
     m->step = info.step;
-    m->time_s = m->step * m->dt; /* as tg_model_invert sets it */
+    /* Fixed steps: step * dt, as the stepper keeps it; adaptive: the time saved. */
+    m->time_s = c->steps.adaptive ? info.time_s : want;
+    if (c->steps.adaptive)
+        load_want(c, cfg->initial_path);
     return load_extras(c, cfg->initial_path, st);
 }
 
-static void log_summary(const tg_model *m, const tg_diag *d, const tg_term_rates *r, double eres,
-                        double zres)
+static void log_summary(const run_ctx *c)
 {
-    char z[256] = "";
+    const tg_model *m = c->m;
+    const tg_diag *d = &c->after;
+    const tg_term_rates *r = &c->rates;
+    char z[256] = "", how[96] = "";
     size_t len = 0;
     for (int k = 0; k < m->nl && len < sizeof z; k++)
         len += (size_t)snprintf(z + len, sizeof z - len, "%s%.4e", k ? " " : "", d->enstrophy[k]);
+    if (c->steps.adaptive)
+        snprintf(how, sizeof how, ", next step %.4g s (%s)", c->steps.want, c->steps.binding);
     tg_log(TG_LOG_INFO,
            "day %.2f step %ld: energy %.6e m2 s-2 (wind %+.3e, mean flow %+.3e, drag %+.3e, "
-           "viscosity %+.3e, closure %+.3e m2 s-3), enstrophy [%s] s-2, max CFL %.3f, worst "
+           "viscosity %+.3e, closure %+.3e m2 s-3), enstrophy [%s] s-2, max CFL %.3f%s, worst "
            "relative budget residual since last line: energy %.1e, enstrophy %.1e",
            m->time_s / TG_SECONDS_PER_DAY, m->step, d->energy, r->energy[TG_TERM_WIND],
            r->energy[TG_TERM_MEAN_FLOW], r->energy[TG_TERM_BOTTOM_DRAG],
-           r->energy[TG_TERM_VISCOSITY], r->energy[TG_TERM_CLOSURE], z, d->max_cfl, eres, zres);
+           r->energy[TG_TERM_VISCOSITY], r->energy[TG_TERM_CLOSURE], z, d->max_cfl, how,
+           c->worst_e, c->worst_z);
 }
 
 /* 1 when the initial state is this run's own checkpoint.nc (the same file):
@@ -205,260 +254,289 @@ static tg_code check_outputs_free(const char *dir, const run_ctx *c, int overwri
     return TG_OK;
 }
 
+/* The model and every buffer of the run, before anything is written. */
+static tg_code set_up(run_ctx *c, tg_status *st)
+{
+    c->m = tg_model_create(c->cfg, st);
+    if (!c->m)
+        return st->code ? st->code : TG_ERR_INTERNAL;
+    tg_model *m = c->m;
+    const long nout3 = (long)m->nl * m->nout * m->nout;
+    c->psi_out = malloc(sizeof(double) * nout3);
+    c->q_out = malloc(sizeof(double) * nout3);
+    c->rec = malloc(sizeof(double) * TG_BUDGET_MAX_VARS * TG_MAX_LAYERS);
+    c->cfg_text = tg_config_to_ini(c->cfg);
+    if (!c->psi_out || !c->q_out || !c->rec || !c->cfg_text)
+        return tg_fail(st, TG_ERR_NOMEM, "run: no memory for output buffers");
+    c->spec = tg_spectrum_create(m->geom, st);
+    if (!c->spec)
+        return st->code ? st->code : TG_ERR_INTERNAL;
+    c->spec_out = malloc(sizeof(double) * (size_t)m->nl * (size_t)c->spec->nbins);
+    if (!c->spec_out)
+        return tg_fail(st, TG_ERR_NOMEM, "run: no memory for %d layers of %d spectrum bins",
+                       m->nl, c->spec->nbins);
+    tg_run_steps_init(&c->steps, c->cfg, m);
+    return setup_extras(c, st);
+}
+
+/* fields.nc and budget.nc: only after every input has been checked. */
+static tg_code open_outputs(run_ctx *c, tg_status *st)
+{
+    tg_model *m = c->m;
+    tg_code rc = tg_make_dirs(c->cfg->out_directory, st);
+    if (rc != TG_OK)
+        return rc;
+    c->grid = (tg_nc_grid){.nx = m->nout, .ny = m->nout, .nlayers = m->nl,
+                           .x = tg_model_out_coord(m), .y = tg_model_out_coord(m),
+                           .config_text = c->cfg_text,
+                           .command_line = c->opt->command_line ? c->opt->command_line : "",
+                           .title = "twingyre layered quasi-geostrophic experiment"};
+    const tg_nc_wavenumbers wn = {.nbins = c->spec->nbins, .k = c->spec->k,
+                                  .bin_width = c->spec->dk};
+    tg_budget_layout_init(&c->lay, m->nl, m->term_active);
+    const char *labels[TG_MAX_CLOSURES];
+    int nc = tg_closure_host_count(m->closures);
+    for (int k = 0; k < nc; k++)
+        labels[k] = tg_closure_host_label(m->closures, k);
+    tg_budget_layout_components(&c->lay, nc, labels);
+    /* budget.nc first: a resume in place may refuse it (steps missing)
+     * before fields.nc is touched. */
+    c->bf = c->resume_here && access(c->path_budget, F_OK) == 0
+                ? tg_budget_continue(c->path_budget, &c->grid, c->lay.var, c->lay.n, m->step, st)
+                : tg_budget_create(c->path_budget, &c->grid, c->lay.var, c->lay.n, st);
+    if (!c->bf)
+        return st->code;
+    /* Snapshots from the resumed time on are written again; with adaptive
+     * steps an earlier snapshot may lie closer than half a step. */
+    const double cut = c->steps.adaptive ? m->time_s - 1e-9 * fmax(m->time_s, 1.0)
+                                         : m->time_s - 0.5 * c->cfg->step_s;
+    c->ff = c->resume_here && access(c->path_fields, F_OK) == 0
+                ? tg_fields_continue(c->path_fields, &c->grid, &wn, cut, st)
+                : tg_fields_create(c->path_fields, &c->grid, &wn, st);
+    return c->ff ? TG_OK : st->code;
+}
+
+/* The state a run starts from must be finite and within max_cfl. */
+static tg_code check_start(run_ctx *c, tg_status *st)
+{
+    tg_model *m = c->m;
+    const tg_diag *d = &c->before;
+    if (isfinite(d->energy) && d->max_cfl <= c->cfg->max_cfl)
+        return TG_OK;
+    int finite = isfinite(d->energy);
+    tg_status ck;
+    tg_status_clear(&ck);
+    tg_code crc = finite ? write_checkpoint(c, &ck) : TG_ERR_BLOWUP;
+    return tg_fail(st, TG_ERR_BLOWUP,
+                   "the initial state at step %ld (model day %.4f) has CFL %.3g (max_cfl %.3g) "
+                   "in layer %d at x = %.1f km, y = %.1f km%s; %s",
+                   m->step, m->time_s / TG_SECONDS_PER_DAY, d->max_cfl, c->cfg->max_cfl,
+                   d->cfl_layer + 1, d->cfl_x / 1e3, d->cfl_y / 1e3,
+                   finite ? "" : ", and a non-finite energy",
+                   crc == TG_OK ? "the state is in the checkpoint" : "no checkpoint was written");
+}
+
+/* A step ended in NaN/Inf at node `bad` of layer `layer` (bad < 0: only the
+ * energy): back to the finite state at its start, which goes to the
+ * checkpoint. */
+static tg_code rewind_bad_step(run_ctx *c, long bad, int layer, double time_before,
+                               tg_status *st)
+{
+    tg_model *m = c->m;
+    const double day = m->time_s / TG_SECONDS_PER_DAY;
+    const long at_step = m->step;
+    memcpy(m->q, m->q0, sizeof(double) * m->nl * m->npl);
+    m->step--;
+    m->time_s = time_before;
+    tg_model_derive(m);
+    tg_status ck;
+    tg_status_clear(&ck);
+    tg_code crc = TG_OK;
+    for (int e = 0; e < c->nextra && crc == TG_OK; e++)
+        crc = tg_closure_host_state_load(m->closures, c->extra_comp[e], c->extra_start[e],
+                                         c->extra_len[e], &ck);
+    if (crc == TG_OK)
+        crc = write_checkpoint(c, &ck);
+    const double x = bad >= 0 ? m->geom->coord[bad % m->geom->ns] : NAN;
+    const double y = bad >= 0 ? m->geom->coord[bad / m->geom->ns] : NAN;
+    return tg_fail(st, TG_ERR_BLOWUP,
+                   "non-finite PV at step %ld (model day %.4f) in layer %d at x = %.1f km, "
+                   "y = %.1f km; %s (step %ld)",
+                   at_step, day, layer + 1, x / 1e3, y / 1e3,
+                   crc == TG_OK ? "the last finite state is in the checkpoint"
+                                : "the last finite state could not be written",
+                   m->step);
+}
+
+/* One step with its faults and its budget record: the step to take, the
+ * closures' state at its start (a step that ends in NaN/Inf is undone), the
+ * step, then NaN/Inf, the budget record (rates weighted with the step
+ * actually taken) and the CFL limit. */
+static tg_code take_step(run_ctx *c, tg_run_events *ev, tg_status *st)
+{
+    tg_model *m = c->m;
+    tg_code rc;
+    const double time_before = m->time_s;
+    tg_run_steps_next(&c->steps, m);
+    for (int e = 0; e < c->nextra; e++)
+        tg_closure_host_state_save(m->closures, c->extra_comp[e], c->extra_start[e]);
+    if ((rc = tg_step(m, &c->rates, st)) != TG_OK)
+        return rc;
+    tg_diag_compute(m, &c->after);
+    const double dt = m->dt;
+    long bad = -1;
+    int bad_layer = 0;
+    for (int k = 0; k < m->nl && bad < 0; k++)
+        if ((bad = tg_find_nonfinite(m->geom, m->q + k * m->npl)) >= 0)
+            bad_layer = k;
+    if (bad >= 0 || !isfinite(c->after.energy))
+        return rewind_bad_step(c, bad, bad_layer, time_before, st);
+    *ev = tg_run_steps_after(&c->steps, m, c->after.max_cfl);
+    double eres, zres;
+    tg_budget_relative_residual(m->nl, dt, &c->before, &c->after, &c->rates, &eres, &zres);
+    c->worst_e = fmax(c->worst_e, eres);
+    c->worst_z = fmax(c->worst_z, zres);
+    tg_budget_pack(&c->lay, dt, &c->before, &c->after, &c->rates, c->rec);
+    if ((rc = tg_budget_append(c->bf, m->time_s, m->step, c->rec, st)) != TG_OK)
+        return rc;
+    if (c->after.max_cfl <= c->cfg->max_cfl)
+        return TG_OK;
+    const tg_diag *a = &c->after;
+    tg_code crc = write_checkpoint(c, st);
+    return tg_fail(st, TG_ERR_BLOWUP,
+                   "CFL %.3f exceeds max_cfl %.3g at step %ld (model day %.4f) in layer %d "
+                   "at x = %.1f km, y = %.1f km; %s",
+                   a->max_cfl, c->cfg->max_cfl, m->step, m->time_s / TG_SECONDS_PER_DAY,
+                   a->cfl_layer + 1, a->cfl_x / 1e3, a->cfl_y / 1e3,
+                   crc == TG_OK ? "the state is in the checkpoint"
+                                : "the checkpoint could not be written");
+}
+
+/* Snapshot, checkpoint, log line and progress report that fall after a step. */
+static tg_code write_events(run_ctx *c, const tg_run_events *ev, long first, tg_status *st)
+{
+    tg_model *m = c->m;
+    tg_code rc;
+    if (ev->snapshot && ((rc = write_snapshot(c, c->ff, st)) != TG_OK ||
+                         (rc = tg_budget_flush(c->bf, st)) != TG_OK))
+        return rc;
+    /* budget.nc first: after a kill, it holds every step up to the
+     * checkpoint's, from which a resume continues it. */
+    if (ev->checkpoint &&
+        ((rc = tg_budget_flush(c->bf, st)) != TG_OK || (rc = write_checkpoint(c, st)) != TG_OK))
+        return rc;
+    if (ev->log) {
+        log_summary(c);
+        c->worst_e = c->worst_z = 0.0;
+    }
+    if (c->opt->progress) {
+        double ke = 0.0;
+        for (int k = 0; k < m->nl; k++)
+            ke += c->cfg->thickness_m[k] * c->after.kinetic[k] / m->Htot;
+        tg_progress p = {.step = m->step, .step_first = first,
+                         .step_last = ev->end ? m->step : tg_run_steps_last(&c->steps, m),
+                         .day = m->time_s / TG_SECONDS_PER_DAY,
+                         .last_day = c->cfg->duration_days, .kinetic_energy = ke,
+                         .max_cfl = c->after.max_cfl};
+        c->opt->progress(&p, c->opt->progress_user);
+    }
+    return TG_OK;
+}
+
+/* Steps to the end, stopping cleanly on request (with a checkpoint). */
+static tg_code step_loop(run_ctx *c, tg_status *st)
+{
+    tg_model *m = c->m;
+    const long first = m->step;
+    tg_code rc;
+    c->worst_e = c->worst_z = 0.0;
+    while (!tg_run_steps_done(&c->steps, m)) {
+        if (c->opt->stop_requested && *c->opt->stop_requested) {
+            if ((rc = write_checkpoint(c, st)) != TG_OK)
+                return rc;
+            return tg_fail(st, TG_ERR_INTERRUPTED,
+                           "stopped on request at step %ld (day %.4g); checkpoint written to %s",
+                           m->step, m->time_s / TG_SECONDS_PER_DAY, c->path_ckpt);
+        }
+        tg_run_events ev;
+        if ((rc = take_step(c, &ev, st)) != TG_OK ||
+            (rc = write_events(c, &ev, first, st)) != TG_OK)
+            return rc;
+        c->before = c->after;
+    }
+    return write_checkpoint(c, st);
+}
+
+/* Closes the files (the first error wins) and frees everything. */
+static tg_code tear_down(run_ctx *c, tg_code rc, tg_status *st)
+{
+    tg_status s2;
+    if (c->bf) {
+        tg_status_clear(&s2);
+        tg_code r2 = tg_budget_close(c->bf, rc == TG_OK ? st : &s2);
+        if (rc == TG_OK)
+            rc = r2;
+    }
+    if (c->ff) {
+        tg_status_clear(&s2);
+        tg_code r2 = tg_fields_close(c->ff, rc == TG_OK ? st : &s2);
+        if (rc == TG_OK)
+            rc = r2;
+    }
+    /* A run that fails during its set-up leaves no folder it made (the
+     * files it began are of no use); later, only an empty one goes. */
+    if (rc != TG_OK && c->made_dir) {
+        if (!c->stepping && rc != TG_ERR_BLOWUP) {
+            const char *mine[] = {c->path_fields, c->path_budget, c->path_ckpt};
+            for (int i = 0; i < 3; i++)
+                (void)remove(mine[i]);
+        }
+        (void)rmdir(c->cfg->out_directory); /* fails, as meant, when files remain */
+    }
+    free(c->cfg_text);
+    free(c->rec);
+    free(c->psi_out);
+    free(c->q_out);
+    for (int e = 0; e < c->nextra; e++) {
+        free(c->extra_buf[e]);
+        free(c->extra_start[e]);
+    }
+    free(c->spec_out);
+    tg_spectrum_destroy(c->spec);
+    tg_model_destroy(c->m);
+    return rc;
+}
+
 tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
 {
-    tg_code rc = TG_OK;
-    run_ctx c = {0};
-    tg_fields_file *ff = NULL;
-    tg_budget_file *bf = NULL;
-    double *rec = NULL;
-    char *cfg_text = NULL;
-    tg_budget_layout lay;
-
-    c.cfg = cfg;
+    run_ctx c = {.cfg = cfg, .opt = opt};
     const char *dir = cfg->out_directory;
     snprintf(c.path_fields, sizeof c.path_fields, "%s/fields.nc", dir);
     snprintf(c.path_budget, sizeof c.path_budget, "%s/budget.nc", dir);
     snprintf(c.path_ckpt, sizeof c.path_ckpt, "%s/checkpoint.nc", dir);
     /* Resumed from its own checkpoint (without --overwrite): the folder's
      * files are continued, not replaced. */
-    const int resume_here = !opt->overwrite && resumes_here(cfg, &c);
-    if (!resume_here && (rc = check_outputs_free(dir, &c, opt->overwrite, st)) != TG_OK)
+    c.resume_here = !opt->overwrite && resumes_here(cfg, &c);
+    tg_code rc;
+    if (!c.resume_here && (rc = check_outputs_free(dir, &c, opt->overwrite, st)) != TG_OK)
         return rc;
-    const int made_dir = access(dir, F_OK) != 0;
-    int stepping = 0; /* set once the set-up is done and steps begin */
-
-    c.m = tg_model_create(cfg, st);
-    if (!c.m)
-        return st->code ? st->code : TG_ERR_INTERNAL;
+    c.made_dir = access(dir, F_OK) != 0;
+    if ((rc = set_up(&c, st)) != TG_OK || (rc = initial_state(&c, st)) != TG_OK ||
+        (rc = open_outputs(&c, st)) != TG_OK)
+        return tear_down(&c, rc, st);
     tg_model *m = c.m;
-    const long nout3 = (long)m->nl * m->nout * m->nout;
-    c.psi_out = malloc(sizeof(double) * nout3);
-    c.q_out = malloc(sizeof(double) * nout3);
-    rec = malloc(sizeof(double) * TG_BUDGET_MAX_VARS * TG_MAX_LAYERS);
-    cfg_text = tg_config_to_ini(cfg);
-    if (!c.psi_out || !c.q_out || !rec || !cfg_text) {
-        rc = tg_fail(st, TG_ERR_NOMEM, "run: no memory for output buffers");
-        goto done;
+    memset(&c.rates, 0, sizeof c.rates);
+    tg_diag_compute(m, &c.before);
+    if (tg_run_steps_snapshot_now(&c.steps, m) && (rc = write_snapshot(&c, c.ff, st)) != TG_OK)
+        return tear_down(&c, rc, st);
+    tg_log(TG_LOG_INFO,
+           "start at step %ld (day %.2f) of %.2f days, %s steps; %d layers, %d x %d points, "
+           "dx %.3f km",
+           m->step, m->time_s / TG_SECONDS_PER_DAY, cfg->duration_days,
+           c.steps.adaptive ? "adaptive" : "fixed", m->nl, m->nout, m->nout, m->geom->dx / 1e3);
+    if ((rc = check_start(&c, st)) == TG_OK) {
+        c.stepping = 1;
+        rc = step_loop(&c, st);
     }
-    c.spec = tg_spectrum_create(m->geom, st);
-    if (!c.spec) {
-        rc = st->code ? st->code : TG_ERR_INTERNAL;
-        goto done;
-    }
-    c.spec_out = malloc(sizeof(double) * (size_t)m->nl * (size_t)c.spec->nbins);
-    if (!c.spec_out) {
-        rc = tg_fail(st, TG_ERR_NOMEM, "run: no memory for %d layers of %d spectrum bins",
-                     m->nl, c.spec->nbins);
-        goto done;
-    }
-
-    const double dt = cfg->step_s;
-    const long nsteps = steps_for(cfg->duration_days, dt);
-    const long snap_every = steps_for(cfg->snapshot_every_days, dt) > 0
-                                ? steps_for(cfg->snapshot_every_days, dt) : 1;
-    const long log_every = steps_for(cfg->log_every_days, dt) > 0
-                               ? steps_for(cfg->log_every_days, dt) : 1;
-    const long ckpt_every = steps_for(cfg->checkpoint_every_days, dt);
-
-    if ((rc = setup_extras(&c, st)) != TG_OK)
-        goto done;
-    if ((rc = initial_state(&c, nsteps, resume_here, st)) != TG_OK)
-        goto done;
-
-    /* Output files: only now, after every input has been checked. */
-    if ((rc = tg_make_dirs(dir, st)) != TG_OK)
-        goto done;
-    c.grid = (tg_nc_grid){.nx = m->nout, .ny = m->nout, .nlayers = m->nl,
-                          .x = tg_model_out_coord(m), .y = tg_model_out_coord(m),
-                          .config_text = cfg_text,
-                          .command_line = opt->command_line ? opt->command_line : "",
-                          .title = "twingyre layered quasi-geostrophic experiment"};
-    const tg_nc_wavenumbers wn = {.nbins = c.spec->nbins, .k = c.spec->k,
-                                  .bin_width = c.spec->dk};
-    tg_budget_layout_init(&lay, m->nl, m->term_active);
-    {
-        const char *labels[TG_MAX_CLOSURES];
-        int nc = tg_closure_host_count(m->closures);
-        for (int k = 0; k < nc; k++)
-            labels[k] = tg_closure_host_label(m->closures, k);
-        tg_budget_layout_components(&lay, nc, labels);
-    }
-    /* budget.nc first: a resume in place may refuse it (steps missing)
-     * before fields.nc is touched. */
-    bf = resume_here && access(c.path_budget, F_OK) == 0
-             ? tg_budget_continue(c.path_budget, &c.grid, lay.var, lay.n, m->step, st)
-             : tg_budget_create(c.path_budget, &c.grid, lay.var, lay.n, st);
-    if (!bf) {
-        rc = st->code;
-        goto done;
-    }
-    ff = resume_here && access(c.path_fields, F_OK) == 0
-             ? tg_fields_continue(c.path_fields, &c.grid, &wn, m->time_s - 0.5 * dt, st)
-             : tg_fields_create(c.path_fields, &c.grid, &wn, st);
-    if (!ff) {
-        rc = st->code;
-        goto done;
-    }
-
-    tg_diag before, after;
-    tg_term_rates rates;
-    memset(&rates, 0, sizeof rates);
-    tg_diag_compute(m, &before);
-    if (m->step % snap_every == 0 && (rc = write_snapshot(&c, ff, st)) != TG_OK)
-        goto done;
-    tg_log(TG_LOG_INFO, "start at step %ld (day %.2f) of %ld; %d layers, %d x %d points, dx %.3f km",
-           m->step, m->time_s / TG_SECONDS_PER_DAY, nsteps, m->nl, m->nout, m->nout,
-           m->geom->dx / 1e3);
-    if (!isfinite(before.energy) || before.max_cfl > cfg->max_cfl) {
-        int finite = isfinite(before.energy);
-        tg_status ck;
-        tg_status_clear(&ck);
-        tg_code crc = finite ? write_checkpoint(&c, &ck) : TG_ERR_BLOWUP;
-        rc = tg_fail(st, TG_ERR_BLOWUP,
-                     "the initial state at step %ld (model day %.4f) has CFL %.3g (max_cfl %.3g) "
-                     "in layer %d at x = %.1f km, y = %.1f km%s; %s",
-                     m->step, m->time_s / TG_SECONDS_PER_DAY, before.max_cfl, cfg->max_cfl,
-                     before.cfl_layer + 1, before.cfl_x / 1e3, before.cfl_y / 1e3,
-                     finite ? "" : ", and a non-finite energy",
-                     crc == TG_OK ? "the state is in the checkpoint" : "no checkpoint was written");
-        goto done;
-    }
-
-    const long first = m->step;
-    double worst_e = 0.0, worst_z = 0.0;
-    stepping = 1;
-    while (m->step < nsteps) {
-        if (opt->stop_requested && *opt->stop_requested) {
-            if ((rc = write_checkpoint(&c, st)) != TG_OK)
-                goto done;
-            rc = tg_fail(st, TG_ERR_INTERRUPTED,
-                         "stopped on request at step %ld (day %.4g); checkpoint written to %s",
-                         m->step, m->time_s / TG_SECONDS_PER_DAY, c.path_ckpt);
-            goto done;
-        }
-        /* The closures' own state at the start of the step: tg_step advances
-         * it, and a step that ends in NaN/Inf is undone below. */
-        for (int e = 0; e < c.nextra; e++)
-            tg_closure_host_state_save(m->closures, c.extra_comp[e], c.extra_start[e]);
-        if ((rc = tg_step(m, &rates, st)) != TG_OK)
-            goto done;
-        tg_diag_compute(m, &after);
-
-        /* Faults: NaN/Inf anywhere, or CFL above the limit. */
-        long bad = -1;
-        int bad_layer = 0;
-        for (int k = 0; k < m->nl && bad < 0; k++)
-            if ((bad = tg_find_nonfinite(m->geom, m->q + k * m->npl)) >= 0)
-                bad_layer = k;
-        if (bad >= 0 || !isfinite(after.energy)) {
-            double day = m->time_s / TG_SECONDS_PER_DAY;
-            long at_step = m->step;
-            /* The state at the start of the step was finite: write it. */
-            memcpy(m->q, m->q0, sizeof(double) * m->nl * m->npl);
-            m->step--;
-            tg_model_derive(m);
-            tg_status ck;
-            tg_status_clear(&ck);
-            tg_code crc = TG_OK;
-            for (int e = 0; e < c.nextra && crc == TG_OK; e++)
-                crc = tg_closure_host_state_load(m->closures, c.extra_comp[e], c.extra_start[e],
-                                                 c.extra_len[e], &ck);
-            if (crc == TG_OK)
-                crc = write_checkpoint(&c, &ck);
-            double x = bad >= 0 ? m->geom->coord[bad % m->geom->ns] : NAN;
-            double y = bad >= 0 ? m->geom->coord[bad / m->geom->ns] : NAN;
-            rc = tg_fail(st, TG_ERR_BLOWUP,
-                         "non-finite PV at step %ld (model day %.4f) in layer %d at x = %.1f km, "
-                         "y = %.1f km; %s (step %ld)",
-                         at_step, day, bad_layer + 1, x / 1e3, y / 1e3,
-                         crc == TG_OK ? "the last finite state is in the checkpoint"
-                                      : "the last finite state could not be written",
-                         m->step);
-            goto done;
-        }
-        double eres, zres;
-        tg_budget_relative_residual(m->nl, dt, &before, &after, &rates, &eres, &zres);
-        worst_e = fmax(worst_e, eres);
-        worst_z = fmax(worst_z, zres);
-        int n = tg_budget_pack(&lay, dt, &before, &after, &rates, rec);
-        (void)n;
-        if ((rc = tg_budget_append(bf, m->time_s, m->step, rec, st)) != TG_OK)
-            goto done;
-        if (after.max_cfl > cfg->max_cfl) {
-            tg_code crc = write_checkpoint(&c, st);
-            rc = tg_fail(st, TG_ERR_BLOWUP,
-                         "CFL %.3f exceeds max_cfl %.3g at step %ld (model day %.4f) in layer %d "
-                         "at x = %.1f km, y = %.1f km; %s",
-                         after.max_cfl, cfg->max_cfl, m->step, m->time_s / TG_SECONDS_PER_DAY,
-                         after.cfl_layer + 1, after.cfl_x / 1e3, after.cfl_y / 1e3,
-                         crc == TG_OK ? "the state is in the checkpoint"
-                                      : "the checkpoint could not be written");
-            goto done;
-        }
-        if (m->step % snap_every == 0) {
-            if ((rc = write_snapshot(&c, ff, st)) != TG_OK ||
-                (rc = tg_budget_flush(bf, st)) != TG_OK)
-                goto done;
-        }
-        /* budget.nc first: after a kill, it holds every step up to the
-         * checkpoint's, from which a resume continues it. */
-        if (ckpt_every > 0 && m->step % ckpt_every == 0 && m->step < nsteps &&
-            ((rc = tg_budget_flush(bf, st)) != TG_OK || (rc = write_checkpoint(&c, st)) != TG_OK))
-            goto done;
-        if (m->step % log_every == 0 || m->step == nsteps) {
-            log_summary(m, &after, &rates, worst_e, worst_z);
-            worst_e = worst_z = 0.0;
-        }
-        if (opt->progress) {
-            double ke = 0.0;
-            for (int k = 0; k < m->nl; k++)
-                ke += cfg->thickness_m[k] * after.kinetic[k] / m->Htot;
-            tg_progress p = {.step = m->step, .step_first = first, .step_last = nsteps,
-                             .day = m->time_s / TG_SECONDS_PER_DAY,
-                             .last_day = nsteps * dt / TG_SECONDS_PER_DAY, .kinetic_energy = ke,
-                             .max_cfl = after.max_cfl};
-            opt->progress(&p, opt->progress_user);
-        }
-        before = after;
-    }
-    rc = write_checkpoint(&c, st);
-
-done:
-    if (bf) {
-        tg_status s2;
-        tg_status_clear(&s2);
-        tg_code r2 = tg_budget_close(bf, rc == TG_OK ? st : &s2);
-        if (rc == TG_OK)
-            rc = r2;
-    }
-    if (ff) {
-        tg_status s2;
-        tg_status_clear(&s2);
-        tg_code r2 = tg_fields_close(ff, rc == TG_OK ? st : &s2);
-        if (rc == TG_OK)
-            rc = r2;
-    }
-    /* A run that fails during its set-up leaves no folder it made (the
-     * files it began are of no use); later, only an empty one goes. */
-    if (rc != TG_OK && made_dir) {
-        if (!stepping && rc != TG_ERR_BLOWUP) {
-            const char *mine[] = {c.path_fields, c.path_budget, c.path_ckpt};
-            for (int i = 0; i < 3; i++)
-                (void)remove(mine[i]);
-        }
-        (void)rmdir(dir); /* fails, as meant, when files remain */
-    }
-    free(cfg_text);
-    free(rec);
-    free(c.psi_out);
-    free(c.q_out);
-    for (int e = 0; e < c.nextra; e++) {
-        free(c.extra_buf[e]);
-        free(c.extra_start[e]);
-    }
-    free(c.spec_out);
-    tg_spectrum_destroy(c.spec);
-    tg_model_destroy(c.m);
-    return rc;
+    return tear_down(&c, rc, st);
 }

@@ -1,9 +1,9 @@
 /* run.h - one experiment from a resolved config to its output directory.
  *
  * tg_run sets up the model, takes the initial state (rest, noise or a file;
- * a checkpoint resumes at its step), steps to duration_days, and writes
- * DIR/fields.nc (snapshots), DIR/budget.nc (one record per step) and
- * DIR/checkpoint.nc. It stops cleanly on a stop request (the caller's
+ * a checkpoint resumes at its step), steps to duration_days with fixed or
+ * adaptive steps (run_steps.h), and writes DIR/fields.nc (snapshots),
+ * DIR/budget.nc (one record per step) and DIR/checkpoint.nc. It stops cleanly on a stop request (the caller's
  * signal flag), on NaN/Inf and on a CFL above max_cfl, writing the last
  * finite state to the checkpoint each time.
  *

@@ -118,6 +118,10 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
     if ((rc = tg_config_twin_reference(cfg, origin, &c->ref, st)) != TG_OK ||
         (rc = tg_config_twin_coarse(cfg, origin, &c->coarse, st)) != TG_OK)
         return rc;
+    if (cfg->step_choice == TG_STEP_ADAPTIVE)
+        tg_log(TG_LOG_INFO, "twin: the reference run takes fixed steps of step_s = %g s; "
+                            "adaptive steps apply to the coarse runs",
+               cfg->step_s);
     char used[TG_MAX_CLOSURES][TG_SECTION_LEN];
     int nused = 0;
     if ((rc = tg_closure_keep_used(&c->ref, origin, used, TG_MAX_CLOSURES, &nused, st)) != TG_OK)

@@ -78,8 +78,9 @@ static void start_phase(vet_ctx *c, const char *fmt, ...)
 /* Config variants                                                     */
 /* ------------------------------------------------------------------ */
 
-/* A copy of cfg (malloc'ed) with the step scaled and, when `closure` is 0,
- * no closure at all (every closure section dropped, so nothing warns). */
+/* A copy of cfg (malloc'ed) with fixed steps of the step scaled and, when
+ * `closure` is 0, no closure at all (every closure section dropped, so
+ * nothing warns). */
 static tg_config *variant(const tg_config *cfg, double step_factor, int closure, tg_status *st)
 {
     tg_config *v = malloc(sizeof *v);
@@ -89,6 +90,7 @@ static tg_config *variant(const tg_config *cfg, double step_factor, int closure,
     }
     *v = *cfg;
     v->step_s = cfg->step_s * step_factor;
+    v->step_choice = TG_STEP_FIXED; /* vet measures stability at given steps */
     if (!closure)
         v->nraw = 0;
     return v;
@@ -815,10 +817,14 @@ tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_repor
     c.nphases = (strcmp(cfg->vet_reference_state, "spinup") == 0) + 3 +
                 r->nfactors * (1 + r->nmultipliers) + (finer ? 1 + r->nmultipliers : 0);
 
+    if (cfg->step_choice == TG_STEP_ADAPTIVE)
+        tg_log(TG_LOG_INFO, "vet: every run takes fixed steps (step_s times each step factor); "
+                            "[time] step_choice = adaptive does not apply");
     if (!(m = tg_model_create(cfg, st))) {
         rc = st->code;
         goto done;
     }
+    m->cfg.step_choice = TG_STEP_FIXED; /* time is step * dt, as in the variants */
     c.nl = m->nl;
     c.npl = m->npl;
     c.nout = m->nout;

@@ -35,6 +35,7 @@ typedef enum { TG_WALL_FREE_SLIP = 0, TG_WALL_PARTIAL_SLIP = 1, TG_WALL_NO_SLIP 
 typedef enum { TG_WIND_DOUBLE_GYRE = 0, TG_WIND_SINGLE_GYRE = 1, TG_WIND_NONE = 2 } tg_wind_kind;
 typedef enum { TG_INIT_REST = 0, TG_INIT_NOISE = 1, TG_INIT_FILE = 2 } tg_init_kind;
 typedef enum { TG_TWIN_FILTER_SHARP = 0, TG_TWIN_FILTER_GAUSSIAN = 1 } tg_twin_filter;
+typedef enum { TG_STEP_FIXED = 0, TG_STEP_ADAPTIVE = 1 } tg_step_choice;
 
 /* Where a key's value came from (tg_config.set_by_user[]). */
 typedef enum { TG_SET_DEFAULT = 0, TG_SET_FILE = 1, TG_SET_OPTION = 2 } tg_set_origin;
@@ -91,9 +92,14 @@ typedef struct tg_config {
     double hyperviscosity_m4_per_s; /* A4, m4 s-1 */
 
     /* [time] */
-    double step_s;                  /* fixed time step, s */
+    double step_s;                  /* fixed time step (adaptive: the first step), s */
     double duration_days;           /* length of the experiment from day 0, days */
     double max_cfl;                 /* a step with a larger advective CFL stops the run */
+    tg_step_choice step_choice;     /* fixed | adaptive (run_steps.h) */
+    double target_cfl;              /* adaptive: advective CFL number each step aims at */
+    double largest_step_s;          /* adaptive: bounds of the step, s */
+    double smallest_step_s;
+    double step_growth;             /* adaptive: largest ratio of a step to the one before */
 
     /* [initial] */
     tg_init_kind initial_kind;      /* state = rest | noise | PATH.nc */

@@ -292,6 +292,28 @@ static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *s
                         "%g s is longer than the whole run: duration_days%s = %g, i.e. %g s",
                         cfg->step_s, note, cfg->duration_days, run_s);
     }
+    /* Adaptive steps: the first step lies within the bounds, and the target
+     * leaves room below the CFL number that stops the run. */
+    if (cfg->step_choice == TG_STEP_ADAPTIVE) {
+        if (cfg->target_cfl >= cfg->max_cfl) {
+            tg_cfg_key_note(cfg, K_MAX_CFL, note, sizeof note);
+            return tg_cfg_key_fail(cfg, K_TARGET_CFL, origin, st,
+                                   "%g is not below max_cfl%s = %g, which stops the run",
+                                   cfg->target_cfl, note, cfg->max_cfl);
+        }
+        if (cfg->smallest_step_s > cfg->step_s) {
+            tg_cfg_key_note(cfg, K_STEP, note, sizeof note);
+            return tg_cfg_key_fail(cfg, K_SMALLEST_STEP, origin, st,
+                                   "%g s is longer than the first step step_s%s = %g s",
+                                   cfg->smallest_step_s, note, cfg->step_s);
+        }
+        if (cfg->largest_step_s < cfg->step_s) {
+            tg_cfg_key_note(cfg, K_STEP, note, sizeof note);
+            return tg_cfg_key_fail(cfg, K_LARGEST_STEP, origin, st,
+                                   "%g s is shorter than the first step step_s%s = %g s",
+                                   cfg->largest_step_s, note, cfg->step_s);
+        }
+    }
     const int intervals[] = {K_SNAPSHOT_EVERY, K_CHECKPOINT_EVERY, K_LOG_EVERY};
     for (size_t k = 0; k < sizeof intervals / sizeof intervals[0]; k++) {
         double days;

@@ -66,6 +66,10 @@ static void put_wind(tg_config *c, int v) { c->wind_profile = (tg_wind_kind)v; }
 static const char *const yes_no_names[] = {"no", "yes", NULL};
 static int get_vet_finer(const tg_config *c) { return c->vet_finer_grid != 0; }
 static void put_vet_finer(tg_config *c, int v) { c->vet_finer_grid = v; }
+static const char *const step_choice_names[] = {
+    [TG_STEP_FIXED] = "fixed", [TG_STEP_ADAPTIVE] = "adaptive", NULL};
+static int get_step_choice(const tg_config *c) { return (int)c->step_choice; }
+static void put_step_choice(tg_config *c, int v) { c->step_choice = (tg_step_choice)v; }
 static int get_twin_filter(const tg_config *c) { return (int)c->twin_filter; }
 static void put_twin_filter(tg_config *c, int v) { c->twin_filter = (tg_twin_filter)v; }
 
@@ -194,7 +198,7 @@ const key_row tg_cfg_rows[K_COUNT] = {
     /* [time] */
     [K_STEP] = {
         .info = {"time", "step_s", "s", "real", "1800", "1e-3 to 1e7, at most the duration",
-                 "fixed time step"},
+                 "time step; with step_choice = adaptive the first step"},
         .off = OFF(step_s), REAL_GT0("a real number > 0"), .sane = "from 1e-3 to 1e7",
         .sane_lo = 1e-3, .sane_hi = 1e7},
     [K_DURATION] = {
@@ -205,6 +209,34 @@ const key_row tg_cfg_rows[K_COUNT] = {
         .info = {"time", "max_cfl", "", "real", "1.0", "> 0",
                  "largest advective CFL number (|u|+|v|)Δt/Δ allowed; a step above it stops the run"},
         .off = OFF(max_cfl), REAL_GT0("a real number > 0")},
+    [K_STEP_CHOICE] = {
+        .info = {"time", "step_choice", "", "choice", "fixed", "fixed, adaptive",
+                 "fixed: every step is step_s; adaptive: each step aims at target_cfl within "
+                 "the diffusive and closure limits (README, \"Adaptive steps\")"},
+        .kind = V_CHOICE, .choices = step_choice_names, .get = get_step_choice,
+        .put = put_step_choice, .expect = "one of fixed, adaptive"},
+    [K_TARGET_CFL] = {
+        .info = {"time", "target_cfl", "", "real", "0.5", "> 0, at most 10, below max_cfl",
+                 "adaptive: advective CFL number (|u|+|v|)Δt/Δ each step aims at; also the phase a "
+                 "Rossby wave may turn per step"},
+        .off = OFF(target_cfl), REAL_GT0_TO(10)},
+    [K_LARGEST_STEP] = {
+        .info = {"time", "largest_step_s", "s", "real", "86400", "1e-3 to 1e7, at least step_s",
+                 "adaptive: largest step"},
+        .off = OFF(largest_step_s), REAL_GT0("a real number > 0"), .sane = "from 1e-3 to 1e7",
+        .sane_lo = 1e-3, .sane_hi = 1e7},
+    [K_SMALLEST_STEP] = {
+        .info = {"time", "smallest_step_s", "s", "real", "60", "1e-3 to 1e7, at most step_s",
+                 "adaptive: smallest step the limits may ask for (steps shortened to land on an "
+                 "output time may be shorter)"},
+        .off = OFF(smallest_step_s), REAL_GT0("a real number > 0"), .sane = "from 1e-3 to 1e7",
+        .sane_lo = 1e-3, .sane_hi = 1e7},
+    [K_STEP_GROWTH] = {
+        .info = {"time", "step_growth", "", "real", "1.2", "> 1, at most 10",
+                 "adaptive: largest ratio of a step to the one before (a step shrinks as far "
+                 "as the limits ask at once)"},
+        .kind = V_REAL, .lo_kind = B_EXCL, .lo = 1.0, .hi_kind = B_INCL, .hi = 10.0,
+        .expect = "a real number > 1 and at most 10", .off = OFF(step_growth)},
 
     /* [initial] */
     [K_INITIAL_STATE] = {

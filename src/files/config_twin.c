@@ -120,6 +120,11 @@ tg_code tg_config_twin_reference(const tg_config *base, const char *origin, tg_c
     if (rc != TG_OK)
         return rc;
     out->duration_days = base->twin_spinup_days + base->twin_analysis_days;
+    /* The reference steps its own loop (twin.c, run_reference) with fixed
+     * steps of step_s, so its samples fall on whole steps; [time]
+     * step_choice = adaptive applies to the coarse runs only (README,
+     * "Adaptive steps"). */
+    out->step_choice = TG_STEP_FIXED;
     if (snprintf(out->out_directory, sizeof out->out_directory, "%s/reference",
                  base->out_directory) >= (int)sizeof out->out_directory)
         return tg_fail(st, TG_ERR_CONFIG, "output directory path too long: %s",

@@ -73,6 +73,7 @@ void tg_budget_layout_init(tg_budget_layout *lay, int nl, const int *active)
     ADD("enstrophy_residual", "s-3", "enstrophy tendency minus the sum of its terms", 1);
     ADD("kinetic_energy", "m2 s-2", "layer kinetic energy per unit mass, domain mean", 1);
     ADD("max_cfl", "1", "largest advective CFL number (|u|+|v|) dt/dx", 0);
+    ADD("time_step", "s", "length of the step that ends at this record", 0);
     if (nl > 1)
         ADD("mass_error", "1",
             "domain integral of psi_i - psi_(i+1) over the integral of its absolute value", 2);
@@ -130,6 +131,7 @@ int tg_budget_pack(const tg_budget_layout *lay, double dt, const tg_diag *b, con
     for (int k = 0; k < nl; k++)
         v[n++] = a->kinetic[k];
     v[n++] = a->max_cfl;
+    v[n++] = dt;
     for (int i = 0; i + 1 < nl; i++)
         v[n++] = a->mass_error[i];
     for (int c = 0; c < lay->ncomp; c++) {

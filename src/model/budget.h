@@ -5,7 +5,8 @@
  * Potential enstrophy per layer: Z_k = (1/A) int q_k^2/2 dA (planetary term included).
  * Every step writes one record: the values at the end of the step, the
  * tendency (X^{n+1} - X^n)/dt, each term's contribution over the step
- * (positive = source), and the residual = tendency - sum of the terms.
+ * (positive = source), the residual = tendency - sum of the terms, and the
+ * length of the step (time_step: adaptive steps vary).
  *
  * Part of twingyre. GPL-3.0-or-later.
  */

@@ -25,13 +25,35 @@
 #ifndef TG_CLOSURE_H
 #define TG_CLOSURE_H
 
+#include <math.h>
 #include <stddef.h>
 #include <stdint.h>
 
 #include "status.h"
 
-/* Bumped when this header changes incompatibly; plugins are checked against it. */
-#define TG_CLOSURE_ABI 1
+/* Bumped when this header changes; plugins are checked against it. Version
+ * 2 added stable_step at the end of tg_closure_ops; a plugin built for
+ * version 1 still loads and has no stable_step (closure_host.c never reads
+ * past the end of its ops). */
+#define TG_CLOSURE_ABI 2
+
+/* The stability bound of the explicit SSP-RK3 step on the negative real
+ * axis, |lambda| dt <= 2.51 (Shu & Osher 1988; the root of
+ * 1 - x + x^2/2 - x^3/6 = 1 near x = -2.51), rounded down to 2.5. With the
+ * five-point Laplacian (largest eigenvalue 8/dx^2) a harmonic diffusivity
+ * nu is stable while 8 nu dt / dx^2 <= 2.5 and a biharmonic one A4 while
+ * 64 A4 dt / dx^4 <= 2.5. Schemes answer stable_step with these. */
+#define TG_RK3_REAL_AXIS 2.5
+
+/* Those two bounds, s; INFINITY for a zero coefficient. */
+static inline double tg_stable_step_harmonic(double nu, double dx)
+{
+    return nu > 0.0 ? TG_RK3_REAL_AXIS * dx * dx / (8.0 * nu) : INFINITY;
+}
+static inline double tg_stable_step_biharmonic(double a4, double dx)
+{
+    return a4 > 0.0 ? TG_RK3_REAL_AXIS * dx * dx * dx * dx / (64.0 * a4) : INFINITY;
+}
 
 /* Most components one run may combine, and most parameters one scheme has. */
 #define TG_MAX_CLOSURES 8
@@ -86,7 +108,10 @@ typedef struct {
     int nlayers, ns, a0, a1;
     double dx;                     /* grid spacing, m */
     double length;                 /* side of the domain, m */
-    double dt;                     /* time step, s */
+    double dt;                     /* fixed time step, s; with adaptive steps the smallest
+                                      step: the steps vary, so dt-dependent constants are
+                                      made from each view's dt, and a scheme bounds the
+                                      step through stable_step */
     const double *thickness_m;     /* H_k, nlayers */
     const double *reduced_gravity; /* g'_i, nlayers - 1 */
     double f0, beta;               /* s-1, m-1 s-1 */
@@ -102,7 +127,7 @@ typedef struct {
 /* Read-only view of the resolved state at one Runge-Kutta stage. */
 typedef struct {
     int nlayers, ns, a0, a1;
-    double dx, dt;
+    double dx, dt;                 /* dt: the step being taken (advance: the step just taken) */
     long step;                     /* index of the step being taken (0 = first) */
     int stage;                     /* Runge-Kutta stage 0, 1, 2 */
     const double *psi;             /* streamfunction, m2 s-1 */
@@ -140,6 +165,13 @@ typedef struct tg_closure_ops {
     void (*state_save)(void *state, double *buf);
     tg_code (*state_load)(void *state, const double *buf, size_t n, tg_status *st);
     void (*destroy)(void *state);
+    /* Optional (ABI 2): the largest step, s, for which the scheme's explicit
+     * update is stable at the state in the view (stage 0 of the step to be
+     * taken); INFINITY when it sets no bound. Must not allocate. A scheme
+     * without it sets no bound of its own: the core's limits, [time]
+     * largest_step_s and the max_cfl check bound the step (README,
+     * "Adaptive steps"). */
+    double (*stable_step)(void *state, const tg_closure_view *v);
 } tg_closure_ops;
 
 /* The registry (closures/registry.c). */

@@ -35,7 +35,8 @@ const tg_closure_ops *tg_closure_load_plugin(const char *path, tg_status *st)
     const tg_closure_ops *(*entry)(void);
     memcpy(&entry, &sym, sizeof entry); /* object to function pointer, POSIX-sanctioned */
     const tg_closure_ops *ops = entry();
-    if (!ops || ops->abi != TG_CLOSURE_ABI || !ops->name || !ops->create || !ops->tendency) {
+    if (!ops || ops->abi < 1 || ops->abi > TG_CLOSURE_ABI || !ops->name || !ops->create ||
+        !ops->tendency) {
         tg_fail(st, TG_ERR_CONFIG,
                 "closure plugin %s: its table is incomplete or built for interface version %d "
                 "(this program has %d); rebuild it against this closure.h",
@@ -389,7 +390,7 @@ struct tg_closure_host {
     tg_geometry *g;
     int nl;
     long npl;
-    double dt;
+    double dt;                         /* the step being taken (tg_closure_host_set_step) */
     int n;
     tg_closure_spec spec;
     void *state[TG_MAX_CLOSURES];
@@ -432,6 +433,7 @@ tg_closure_host *tg_closure_host_create(const tg_config *cfg, tg_geometry *g, co
     h->g = g;
     h->nl = cfg->nlayers;
     h->npl = (long)g->ns * g->ns;
+    const int adaptive = cfg->step_choice == TG_STEP_ADAPTIVE;
     h->dt = cfg->step_s;
     h->scale = 1.0;
     for (int k = 0; k < h->nl; k++)
@@ -467,7 +469,8 @@ tg_closure_host *tg_closure_host_create(const tg_config *cfg, tg_geometry *g, co
         for (int p = 0; p < TG_CLOSURE_MAX_PARAMS; p++)
             texts[p] = ch->texts[p];
         tg_closure_setup s = {.nlayers = h->nl, .ns = g->ns, .a0 = g->a0, .a1 = g->a1,
-                              .dx = g->dx, .length = g->length, .dt = h->dt,
+                              .dx = g->dx, .length = g->length,
+                              .dt = adaptive ? cfg->smallest_step_s : h->dt,
                               .thickness_m = cfg->thickness_m,
                               .reduced_gravity = cfg->reduced_gravity_m_s2,
                               .f0 = cfg->coriolis_f0_per_s, .beta = cfg->beta_per_m_per_s,
@@ -603,4 +606,49 @@ tg_code tg_closure_host_state_load(tg_closure_host *h, int c, const double *buf,
     if (!o->state_load)
         return TG_OK;
     return o->state_load(h->state[c], buf, n, st);
+}
+
+void tg_closure_host_set_step(tg_closure_host *h, double dt)
+{
+    if (h)
+        h->dt = dt;
+}
+
+/* A plugin built for interface version 1 has no stable_step member. */
+static double (*stable_step_of(const tg_closure_ops *o))(void *, const tg_closure_view *)
+{
+    return o->abi >= 2 ? o->stable_step : NULL;
+}
+
+double tg_closure_host_stable_step(tg_closure_host *h, const tg_closure_input *in,
+                                   double *rate_sum, int *which)
+{
+    double best = INFINITY;
+    if (rate_sum)
+        *rate_sum = 0.0;
+    if (which)
+        *which = -1;
+    if (!h || h->n == 0)
+        return best;
+    int any = 0;
+    for (int c = 0; c < h->n; c++)
+        any |= stable_step_of(h->spec.c[c].ops) != NULL;
+    if (!any)
+        return best;
+    velocities(h, in->psi);
+    for (int c = 0; c < h->n; c++) {
+        double (*f)(void *, const tg_closure_view *) = stable_step_of(h->spec.c[c].ops);
+        if (!f)
+            continue;
+        tg_closure_view v = make_view(h, in, c);
+        double s = f(h->state[c], &v);
+        if (rate_sum)
+            *rate_sum += 1.0 / s;
+        if (s < best) {
+            best = s;
+            if (which)
+                *which = c;
+        }
+    }
+    return best;
 }

@@ -86,6 +86,17 @@ void tg_closure_host_set_scale(tg_closure_host *h, double scale);
 /* Calls every component's per-step hook with the state after a step. */
 tg_code tg_closure_host_advance(tg_closure_host *h, const tg_closure_input *in, tg_status *st);
 
+/* The step the views report as dt (the step being taken); tg_step sets it. */
+void tg_closure_host_set_step(tg_closure_host *h, double dt);
+
+/* The smallest of the components' stable_step answers (closure.h) at the
+ * state in `in`, s; INFINITY when none sets a bound. *rate_sum (may be
+ * NULL) gets the sum of 1/answer over the components (their damping rates
+ * add), *which (may be NULL) the component that binds, -1 for none.
+ * Allocates nothing. */
+double tg_closure_host_stable_step(tg_closure_host *h, const tg_closure_input *in,
+                                   double *rate_sum, int *which);
+
 /* Checkpoint support: component c's own state (0 doubles when it has none). */
 size_t tg_closure_host_state_size(const tg_closure_host *h, int c);
 void tg_closure_host_state_save(const tg_closure_host *h, int c, double *buf);

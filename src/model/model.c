@@ -304,7 +304,6 @@ void tg_model_invert(tg_model *m)
             qk[p] = zk[p] + s + m->beta_y[p];
         });
     }
-    m->time_s = m->step * m->dt;
 }
 
 void tg_model_derive(tg_model *m)

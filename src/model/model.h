@@ -61,7 +61,8 @@ typedef struct tg_model {
     tg_modes modes;
     int nl;                 /* layers */
     long npl;               /* stored values per layer, ns*ns */
-    double dt;              /* time step, s */
+    double dt;              /* the step being taken (or just taken), s; the run driver
+                               sets it before each step with adaptive steps */
     double Htot;            /* total depth, m */
 
     /* Current state; each is nl*npl, layer k at k*npl. q is prognostic on
@@ -69,7 +70,8 @@ typedef struct tg_model {
     double *q, *psi, *zeta;
     double wall[TG_MAX_LAYERS];   /* value of psi_k on the walls (0 when periodic) */
     long step;                    /* steps since day 0 */
-    double time_s;                /* step * dt */
+    double time_s;                /* model time, s: step * dt with fixed steps, the sum
+                                     of the steps taken with adaptive ones (tg_step) */
 
     /* Background (periodic geometry): uniform zonal flow and PV gradient. */
     double U[TG_MAX_LAYERS];      /* m s-1 */

@@ -36,6 +36,7 @@ tg_code tg_step(tg_model *m, tg_term_rates *rates, tg_status *st)
     tg_term_rates stage_rates;
     if (rates)
         memset(rates, 0, sizeof *rates);
+    tg_closure_host_set_step(m->closures, m->dt);
     for (int s = 0; s < 3; s++) {
         /* In the first stage the state at the start of the step is m->q itself. */
         const double *q0 = s == 0 ? m->q : m->q0;
@@ -57,8 +58,14 @@ tg_code tg_step(tg_model *m, tg_term_rates *rates, tg_status *st)
         m->qnext = s == 0 ? m->q0 : done;
         if (s == 0)
             m->q0 = done;
-        if (s == 2)
+        if (s == 2) {
             m->step++;
+            /* Fixed steps: time is step * dt exactly; adaptive: the sum. */
+            if (m->cfg.step_choice == TG_STEP_FIXED)
+                m->time_s = m->step * m->dt;
+            else
+                m->time_s += m->dt;
+        }
         tg_model_invert(m);
     }
     /* Closures advance their own variables once per completed step. */

@@ -426,6 +426,34 @@ else
         "got '$got' days, expected $want days"
 fi
 
+# Step limits (src/model/step_limits.h). SSP-RK3 is stable on the negative
+# real axis to |lambda| dt = 2.51 (Shu & Osher 1988, J. Comput. Phys. 77,
+# 439-471, eq. 2.18's stability polynomial), rounded to 2.5; the five-point
+# Laplacian's largest eigenvalue is 8/dx^2 (common practice), so harmonic
+# viscosity allows 2.5 dx^2 / (8 A2) and linear drag 2.5 / r; the advective
+# limit is target_cfl dx / (1 m/s) (common practice: Courant number).
+want=$(calc "2.5 * ($DX_KM * 1000)^2 / (8 * $A2)")
+got=$(scale "harmonic viscosity (stability)")
+if close_to "$got" "$want" 1e-3; then
+    ok "describe: harmonic-viscosity step limit $got s = 2.5 dx^2/(8 A2) (Shu & Osher 1988)"
+else
+    notok "describe: harmonic-viscosity step limit = 2.5 dx^2/(8 A2) (Shu & Osher 1988)" "got '$got', expected $want"
+fi
+want=$(calc "2.5 / $RDRAG")
+got=$(scale "bottom drag (stability)")
+if close_to "$got" "$want" 1e-3; then
+    ok "describe: drag step limit $got s = 2.5/r (Shu & Osher 1988)"
+else
+    notok "describe: drag step limit = 2.5/r (Shu & Osher 1988)" "got '$got', expected $want"
+fi
+want=$(calc "0.5 * $DX_KM * 1000")
+got=$(scale "at |u|+|v| = 1 m/s")
+if close_to "$got" "$want" 1e-3 && grep -q "<- binds" "$T/describe.out"; then
+    ok "describe: advective step limit $got s = 0.5 dx / (1 m/s), one limit marked as binding"
+else
+    notok "describe: advective step limit = 0.5 dx / (1 m/s), one marked binding" "got '$got', expected $want"
+fi
+
 got=$(scale "memory estimate")
 if [ -n "$got" ] && grep -F "memory estimate" "$T/describe.out" | grep -q "MB"; then
     ok "describe: memory estimate printed in MB ($got MB)"

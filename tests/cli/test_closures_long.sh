@@ -21,7 +21,7 @@ export OMP_WAIT_POLICY=passive
 tg_scratch closures-long
 
 CFG=$TG_SRCDIR/configs/gyre-129.ini
-COMMON=(--set time.step_s=10800 --set time.duration_days=730 --set output.snapshot_every_days=365
+COMMON=(--set time.step_choice=fixed --set time.step_s=10800 --set time.duration_days=730 --set output.snapshot_every_days=365
         --set output.log_every_days=365 --set output.checkpoint_every_days=0 --quiet)
 
 # name | extra --set options (the scheme at its defaults)

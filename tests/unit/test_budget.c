@@ -89,6 +89,7 @@ START_TEST(layout_names_and_count)
     WANT("enstrophy_residual", 1);
     WANT("kinetic_energy", 1);
     WANT("max_cfl", 0);
+    WANT("time_step", 0);
     if (nl > 1)
         WANT("mass_error", 2);
 #undef WANT
@@ -97,7 +98,7 @@ START_TEST(layout_names_and_count)
     memset(&lay, 0, sizeof lay);
     tg_budget_layout_init(&lay, nl, NULL);
     ck_assert_int_eq(lay.n, n);
-    ck_assert_int_eq(lay.n, nl > 1 ? 19 : 18);
+    ck_assert_int_eq(lay.n, nl > 1 ? 20 : 19);
     int values = 0;
     for (int v = 0; v < lay.n; v++) {
         ck_assert_str_eq(lay.var[v].name, expect[v]);
@@ -211,7 +212,8 @@ START_TEST(budget_closes)
         tg_budget_layout lay;
         tg_budget_layout_init(&lay, nl, NULL);
         int n = tg_budget_pack(&lay, m->dt, &b, &a, &r, rec);
-        ck_assert_int_eq(n, 8 + 8 * nl + nl + 1 + (nl - 1));
+        ck_assert_int_eq(n, 8 + 8 * nl + nl + 2 + (nl - 1));
+        ck_assert(rec[8 + 8 * nl + nl + 1] == m->dt); /* time_step, after max_cfl */
         ck_assert(rec[0] == a.energy);
         ck_assert(fabs(rec[7] - (tend - sum)) <= 1e-9 * big); /* energy_residual */
     }

@@ -152,6 +152,18 @@ START_TEST(threads_bitwise_periodic)
 }
 END_TEST
 
+/* The set-up of (b) and (b2): additive noise alone, periodic 64 x 64. */
+static const char *const AR1_PERIODIC[] = {"grid.geometry=periodic",
+                                           "grid.points=64",
+                                           "grid.size_km=1000",
+                                           "wind.profile=none",
+                                           "time.step_s=3600",
+                                           "closure.use=stochastic_additive",
+                                           "stochastic_additive.noise_amplitude_per_s2=3e-12",
+                                           "stochastic_additive.decorrelation_time_days=0.1",
+                                           "stochastic_additive.correlation_length_km=31.25",
+                                           NULL};
+
 /* ---------------------------------------------------------------------- */
 /* (b) Statistics of the AR(1) field xi^{n+1} = phi xi^n + sqrt(1-phi^2)
  * sigma eta^{n+1} in the periodic domain (64 x 64, dx = 15.625 km), with
@@ -183,17 +195,7 @@ END_TEST
 START_TEST(ar1_statistics)
 {
     const double sigma = 3e-12, tau_days = 0.1, dt = 3600.0;
-    const char *sets[] = {"grid.geometry=periodic",
-                          "grid.points=64",
-                          "grid.size_km=1000",
-                          "wind.profile=none",
-                          "time.step_s=3600",
-                          "closure.use=stochastic_additive",
-                          "stochastic_additive.noise_amplitude_per_s2=3e-12",
-                          "stochastic_additive.decorrelation_time_days=0.1",
-                          "stochastic_additive.correlation_length_km=31.25",
-                          NULL};
-    tg_model *m = make_model(sets);
+    tg_model *m = make_model(AR1_PERIODIC);
     const int n = m->geom->a1 - m->geom->a0, nl = m->nl;
     ck_assert_int_eq(n, 64);
     const double phi = exp(-dt / (tau_days * 86400.0));
@@ -250,6 +252,74 @@ START_TEST(ar1_statistics)
                   cx / c0, rho);
     ck_assert_msg(fabs(cy / c0 - rho) < 0.03, "correlation at r = ell along y %g, expected %g",
                   cy / c0, rho);
+    free(prev);
+    free(b);
+    tg_model_destroy(m);
+}
+END_TEST
+
+/* ---------------------------------------------------------------------- */
+/* (b2) Varying steps (adaptive stepping): the field of (b) advanced with
+ * steps cycling through dt = tau/4, tau and 3 tau (tau = 0.1 day). Each
+ * update is the exact transition of the Ornstein-Uhlenbeck process over its
+ * own step, phi = exp(-dt/tau) with innovation sqrt(1 - phi^2) sigma
+ * (Gardiner, Handbook of Stochastic Methods, section 4.4.4; from memory),
+ * so the variance stays sigma^2 at every step and the lag-one correlation
+ * across a step of length dt is exp(-dt/tau) (AR(1) theory as in (b)).
+ * Variance: pooled over the N M samples, standard error from (b) with the
+ * largest phi (exp(-1/4) = 0.78; conservative); lag-one correlation: per
+ * step class, standard error sqrt((1 - phi^2) / (N_c M)) as in (b);
+ * tolerance 4 standard errors each. */
+START_TEST(ar1_varying_steps)
+{
+    const double sigma = 3e-12, tau = 0.1 * 86400.0;
+    const double dts[3] = {0.25 * tau, tau, 3.0 * tau};
+    tg_model *m = make_model(AR1_PERIODIC);
+    const int n = m->geom->a1 - m->geom->a0, nl = m->nl;
+    const int N = 1500, LAT = 8, SP = 8, M = LAT * LAT * nl;
+    size_t len;
+    double *b = saved(m, 0, &len);
+    double *prev = malloc(sizeof(double) * M);
+    ck_assert_ptr_nonnull(prev);
+    double s2 = 0.0, c11[3] = {0}, c00[3] = {0};
+    long cnt = 0, nc[3] = {0};
+    for (int t = 0; t <= N; t++) {
+        const int c = t % 3;
+        if (t > 0) {
+            tg_status st;
+            tg_closure_input in = input_of(m, t);
+            tg_closure_host_set_step(m->closures, dts[c]);
+            ck_assert_msg(tg_closure_host_advance(m->closures, &in, &st) == TG_OK, "advance: %s",
+                          st.msg);
+            tg_closure_host_state_save(m->closures, 0, b);
+            nc[c]++;
+        }
+        int k = 0;
+        for (int l = 0; l < nl; l++)
+            for (int a = 0; a < LAT; a++)
+                for (int e = 0; e < LAT; e++, k++) {
+                    const double x = b[HEADER + ((long)l * n + a * SP) * n + e * SP] / sigma;
+                    s2 += x * x;
+                    cnt++;
+                    if (t > 0) {
+                        c11[c] += prev[k] * x;
+                        c00[c] += prev[k] * prev[k];
+                    }
+                    prev[k] = x;
+                }
+    }
+    const double phimax = exp(-0.25);
+    const double se_var =
+        sqrt(2.0 * (1.0 + phimax * phimax) / ((1.0 - phimax * phimax) * N * M));
+    ck_assert_msg(fabs(s2 / cnt - 1.0) < 4.0 * se_var, "variance %g sigma^2, expected 1 +- %g",
+                  s2 / cnt, 4.0 * se_var);
+    for (int c = 0; c < 3; c++) {
+        const double phi = exp(-dts[c] / tau), r1 = c11[c] / c00[c];
+        const double se = sqrt((1.0 - phi * phi) / ((double)nc[c] * M));
+        ck_assert_msg(fabs(r1 - phi) < 4.0 * se,
+                      "lag-one correlation over a step of %g tau: %g, expected %g +- %g",
+                      dts[c] / tau, r1, phi, 4.0 * se);
+    }
     free(prev);
     free(b);
     tg_model_destroy(m);
@@ -547,6 +617,7 @@ int main(void)
     tcase_add_test(tc, threads_bitwise_basin);
     tcase_add_test(tc, threads_bitwise_periodic);
     tcase_add_test(tc, ar1_statistics);
+    tcase_add_test(tc, ar1_varying_steps);
     tcase_add_test(tc, members);
     tcase_add_test(tc, checkpoint_round_trip);
     tcase_add_test(tc, additive_tendency);

@@ -460,6 +460,69 @@ START_TEST(test_threads_bitwise)
 }
 END_TEST
 
+/* ---------------------------------------------------------------------- */
+/* The largest stable step (closure.h stable_step)                          */
+/* ---------------------------------------------------------------------- */
+
+/* Energy after n steps of dt from a copy of the state in q (non-finite when
+ * the run blew up). */
+static double energy_after(tg_model *m, const double *q, double dt, int n)
+{
+    tg_status st;
+    memcpy(m->q, q, sizeof(double) * m->nl * m->npl);
+    tg_model_derive(m);
+    m->dt = dt;
+    for (int s = 0; s < n; s++)
+        if (tg_step(m, NULL, &st) != TG_OK)
+            return NAN;
+    return tg_model_energy(m);
+}
+
+/* Each viscous scheme, with its largest coefficient so that it alone limits
+ * the step (core viscosity off), answers a step s that is a stability bound
+ * of the explicit SSP-RK3 update (Shu & Osher 1988; bound 2.5 on the
+ * negative real axis, closure.h) and not a needlessly small one: 20 steps
+ * of s/2 keep the energy below its start (a damping scheme), 20 steps of
+ * 8 s blow up (energy up 100-fold or non-finite). The bound rests on the
+ * largest coefficient anywhere, so the true limit lies between (measured
+ * when the test was written: between 2.8 s and 5.7 s for the four
+ * schemes). The advective CFL number stays below 1 at 8 s. */
+START_TEST(test_stable_step_is_a_bound)
+{
+    const char *coef[NSCHEMES] = {"smagorinsky.smagorinsky_coefficient=2",
+                                  "smagorinsky_biharmonic.biharmonic_coefficient=0.5",
+                                  "leith.leith_coefficient=2", "leith_qg.leith_coefficient=2"};
+    for (int k = 0; k < NSCHEMES; k++) {
+        const char *more[] = {coef[k], "dissipation.viscosity_m2_per_s=0",
+                              "wind.stress_amplitude_pa=0", NULL};
+        tg_model *m = make_model(schemes[k], 0, more);
+        tg_model_set_noise(m, 2.0e4, 3);
+        tg_closure_input in = {m->psi, m->q, m->zeta, m->wall, 0, 0};
+        double rate = 0.0;
+        int which = -2;
+        const double s = tg_closure_host_stable_step(m->closures, &in, &rate, &which);
+        ck_assert_int_eq(which, 0);
+        ck_assert_msg(isfinite(s) && s > 0.0 && fabs(rate * s - 1.0) < 1e-12, "%s: answer %g s",
+                      schemes[k], s);
+        m->dt = 8.0 * s;
+        const double cfl = tg_model_max_cfl(m, NULL, NULL, NULL);
+        ck_assert_msg(cfl < 1.0, "%s: CFL %.3f at 8 s", schemes[k], cfl);
+        const size_t n = (size_t)m->nl * m->npl;
+        double *q = alloc0(n);
+        memcpy(q, m->q, n * sizeof(double));
+        const double e0 = tg_model_energy(m);
+        const double e_half = energy_after(m, q, 0.5 * s, 20);
+        const double e_eight = energy_after(m, q, 8.0 * s, 20);
+        ck_assert_msg(e_half < e0, "%s: energy grew at half the stable step", schemes[k]);
+        ck_assert_msg(!(e_eight < 100.0 * e0),
+                      "%s: 8 times the stable step %g s stayed stable (energy x %g; x %g at s/2)",
+                      schemes[k], s, e_eight / e0, e_half / e0);
+        free(q);
+        tg_model_destroy(m);
+    }
+}
+END_TEST
+
 static Suite *suite(void)
 {
     Suite *s = suite_create("closure_viscous");
@@ -474,6 +537,7 @@ static Suite *suite(void)
     tcase_add_test(tc, test_energy_eddying_periodic);
     tcase_add_test(tc, test_enstrophy_harmonic);
     tcase_add_test(tc, test_threads_bitwise);
+    tcase_add_test(tc, test_stable_step_is_a_bound);
     suite_add_tcase(s, tc);
     return s;
 }

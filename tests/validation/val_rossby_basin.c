@@ -43,6 +43,7 @@
 #include "config.h"
 #include "model.h"
 #include "status.h"
+#include "run_steps.h"
 #include "stepper.h"
 #include "../unit/unit_util.h"
 
@@ -56,15 +57,23 @@ typedef struct {
     int m, n;       /* mode numbers in x and y */
     double periods; /* length of the run in periods */
     int steps_per_period;
+    int adaptive;   /* 1: [time] step_choice = adaptive, first step period/steps_per_period */
 } basin_case;
 
 static const basin_case cases[] = {
     /* One layer, L = 3840 km, beta = 1.75e-11: period of (1,1) ~ 9.6 days. */
-    {"one layer, mode (1,1)", 1, 3840.0, 0.0, 1, 1, 2.5, 400},
-    {"one layer, mode (2,1)", 1, 3840.0, 0.0, 2, 1, 2.5, 400},
+    {"one layer, mode (1,1)", 1, 3840.0, 0.0, 1, 1, 2.5, 400, 0},
+    {"one layer, mode (2,1)", 1, 3840.0, 0.0, 2, 1, 2.5, 400, 0},
     /* Two layers, R_d ~ 83 km in a 2000 km basin: k0 ~ 1/R_d is resolved
      * by ~30 points per wavelength at 129 points; period ~ 100 days. */
-    {"two layers, baroclinic mode 1, (1,2)", 2, 2000.0, 0.08, 1, 2, 2.5, 400},
+    {"two layers, baroclinic mode 1, (1,2)", 2, 2000.0, 0.08, 1, 2, 2.5, 400, 0},
+    /* Adaptive steps (run_steps.h): from period/400 the step grows by 1.2 per
+     * step to the wave limit target_cfl / omega_max (step_limits.h; the flow
+     * is far too slow for the advective one), omega_max = beta L / pi, about
+     * 27 steps per period; sampled at output times every period/16, which
+     * are no multiples of that step (one full step and two equal shorter
+     * ones land on each). */
+    {"one layer, mode (1,1), adaptive steps", 1, 3840.0, 0.0, 1, 1, 2.5, 400, 1},
 };
 
 static double wall_seconds(void)
@@ -79,6 +88,53 @@ static double mode_frequency(double beta, double L, int m, int n, double F)
 {
     double K2 = pow(m * PI / L, 2) + pow(n * PI / L, 2);
     return beta / (2.0 * sqrt(K2 + F));
+}
+
+/* Sums of the least-squares line through the unwrapped phase of the mode. */
+typedef struct {
+    double prev, unwrap, t, tt, th, tth, thth, amp_min, amp_max;
+    long count;
+} phase_fit;
+
+/* Projects the state on the two quadrature components and adds its phase
+ * at time t to the fit. psi: output-layout scratch. */
+static void add_sample(phase_fit *f, tg_model *m, int vmode, const double *pc, const double *ps,
+                       double g11, double g12, double g22, double *psi, double t)
+{
+    const int no = m->nout, nl = m->nl;
+    const double det = g11 * g22 - g12 * g12;
+    tg_model_pack(m, m->psi, psi);
+    /* Modal amplitude of the excited vertical mode. */
+    double r1 = 0, r2 = 0;
+    for (long p = 0; p < (long)no * no; p++) {
+        double v = 0.0;
+        for (int k = 0; k < nl; k++)
+            v += m->modes.Pinv[vmode][k] * psi[(long)k * no * no + p];
+        r1 += v * pc[p];
+        r2 += v * ps[p];
+    }
+    double c = (g22 * r1 - g12 * r2) / det, sn = (g11 * r2 - g12 * r1) / det;
+    double a = hypot(c, sn);
+    f->amp_min = fmin(f->amp_min, a);
+    f->amp_max = fmax(f->amp_max, a);
+    double th = atan2(-sn, c);
+    if (f->count > 0) {
+        double d = th - f->prev;
+        while (d > PI)
+            d -= 2.0 * PI;
+        while (d < -PI)
+            d += 2.0 * PI;
+        f->unwrap += d;
+    } else {
+        f->unwrap = th;
+    }
+    f->prev = th;
+    f->t += t;
+    f->tt += t * t;
+    f->th += f->unwrap;
+    f->tth += t * f->unwrap;
+    f->thth += f->unwrap * f->unwrap;
+    f->count++;
 }
 
 START_TEST(basin_mode_frequency)
@@ -125,6 +181,13 @@ START_TEST(basin_mode_frequency)
     const long nsteps = (long)ceil(bc->periods * bc->steps_per_period);
     cfg.step_s = period / bc->steps_per_period;
     cfg.duration_days = nsteps * cfg.step_s / 86400.0;
+    if (bc->adaptive) {
+        cfg.step_choice = TG_STEP_ADAPTIVE;
+        cfg.smallest_step_s = cfg.step_s;
+        cfg.largest_step_s = period;
+        cfg.snapshot_every_days = cfg.log_every_days = period / 16.0 / 86400.0;
+        cfg.checkpoint_every_days = 0.0;
+    }
     ck_assert_msg(tg_config_check(&cfg, NULL, &st) == TG_OK, "config: %s", st.msg);
     tg_model *m = tg_model_create(&cfg, &st);
     ck_assert_msg(m != NULL, "model: %s", st.msg);
@@ -159,50 +222,40 @@ START_TEST(basin_mode_frequency)
         g12 += pc[p] * ps[p];
         g22 += ps[p] * ps[p];
     }
-    const double det = g11 * g22 - g12 * g12;
 
     /* Phase time series and least-squares line theta = a + omega t. */
-    double prev = 0.0, unwrap = 0.0;
-    double st_t = 0, st_tt = 0, st_th = 0, st_tth = 0, st_thth = 0;
-    long count = 0;
-    double amp_min = INFINITY, amp_max = 0.0;
-    for (long s = 0; s <= nsteps; s++) {
-        if (s > 0)
-            ck_assert_msg(tg_step(m, NULL, &st) == TG_OK, "step %ld: %s", s, st.msg);
-        tg_model_pack(m, m->psi, psi);
-        /* Modal amplitude of the excited vertical mode. */
-        double r1 = 0, r2 = 0;
-        for (long p = 0; p < (long)no * no; p++) {
-            double v = 0.0;
-            for (int k = 0; k < nl; k++)
-                v += m->modes.Pinv[vmode][k] * psi[(long)k * no * no + p];
-            r1 += v * pc[p];
-            r2 += v * ps[p];
+    phase_fit f = {.amp_min = INFINITY};
+    long steps = 0;
+    if (!bc->adaptive) {
+        for (long s = 0; s <= nsteps; s++) {
+            if (s > 0)
+                ck_assert_msg(tg_step(m, NULL, &st) == TG_OK, "step %ld: %s", s, st.msg);
+            add_sample(&f, m, vmode, pc, ps, g11, g12, g22, psi, s * m->dt);
         }
-        double c = (g22 * r1 - g12 * r2) / det, sn = (g11 * r2 - g12 * r1) / det;
-        double a = hypot(c, sn);
-        amp_min = fmin(amp_min, a);
-        amp_max = fmax(amp_max, a);
-        double th = atan2(-sn, c);
-        if (s > 0) {
-            double d = th - prev;
-            while (d > PI)
-                d -= 2.0 * PI;
-            while (d < -PI)
-                d += 2.0 * PI;
-            unwrap += d;
-        } else {
-            unwrap = th;
+        steps = nsteps;
+    } else {
+        tg_run_steps rs;
+        tg_run_steps_init(&rs, &cfg, m);
+        double dt_min = INFINITY, dt_max = 0.0;
+        add_sample(&f, m, vmode, pc, ps, g11, g12, g22, psi, 0.0);
+        while (!tg_run_steps_done(&rs, m)) {
+            tg_run_steps_next(&rs, m);
+            dt_min = fmin(dt_min, m->dt);
+            dt_max = fmax(dt_max, m->dt);
+            ck_assert_msg(tg_step(m, NULL, &st) == TG_OK, "step %ld: %s", m->step, st.msg);
+            tg_run_events ev = tg_run_steps_after(&rs, m, tg_model_max_cfl(m, NULL, NULL, NULL));
+            if (ev.snapshot)
+                add_sample(&f, m, vmode, pc, ps, g11, g12, g22, psi, m->time_s);
         }
-        prev = th;
-        double t = s * m->dt;
-        st_t += t;
-        st_tt += t * t;
-        st_th += unwrap;
-        st_tth += t * unwrap;
-        st_thth += unwrap * unwrap;
-        count++;
+        steps = m->step;
+        printf("val_rossby_basin %s: steps from %.0f to %.0f s, last chosen by the %s limit\n",
+               bc->name, dt_min, dt_max, rs.binding);
+        ck_assert_msg(dt_max > 2.0 * dt_min, "the steps did not vary (%g..%g s)", dt_min, dt_max);
+        ck_assert_int_eq(f.count, 41); /* day 0 and 40 output times, each landed on */
     }
+    double st_t = f.t, st_tt = f.tt, st_th = f.th, st_tth = f.tth, st_thth = f.thth;
+    long count = f.count;
+    double amp_min = f.amp_min, amp_max = f.amp_max;
     const double nn = (double)count;
     const double slope = (nn * st_tth - st_t * st_th) / (nn * st_tt - st_t * st_t);
     const double icpt = (st_th - slope * st_t) / nn;
@@ -217,7 +270,7 @@ START_TEST(basin_mode_frequency)
            "measured %.6e s-1, rel. error %.3e (tolerance 1e-2); phase misfit %.2e rad; "
            "projected amplitude %.4f..%.4f of %.4f; %ld steps of %.0f s; %.1f s\n",
            bc->name, F, omega, period / 86400.0, slope, rel, rms_phase, amp_min, amp_max, amp,
-           nsteps, m->dt, runtime);
+           steps, m->dt, runtime);
     fflush(stdout);
 
     /* Longuet-Higgins 1964 / Pedlosky 1987 section 3.26: omega = beta/(2 sqrt(K^2 + F)). */

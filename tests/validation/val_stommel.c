@@ -47,6 +47,7 @@
 #include "config.h"
 #include "model.h"
 #include "status.h"
+#include "run_steps.h"
 #include "stepper.h"
 #include "../unit/unit_util.h"
 
@@ -65,14 +66,15 @@ typedef struct {
     double psi_max, exact_max;
     double x_max_km, exact_x_max_km;
     double runtime;
+    double dt_min, dt_max; /* the steps taken */
 } stommel_result;
 
 static const double L_KM = 2000.0, R_DRAG = 1e-6, BETA = 1.75e-11, TAU0 = 1e-5, RHO0 = 1030.0,
                     H = 4000.0;
 
-static stommel_result run_stommel(int points)
+static stommel_result run_stommel(int points, int adaptive)
 {
-    stommel_result res = {0};
+    stommel_result res = {.dt_min = INFINITY};
     double t0 = wall_seconds();
     tg_status st;
     tg_status_clear(&st);
@@ -95,6 +97,16 @@ static stommel_result run_stommel(int points)
      * step resolves it (omega dt ~ 0.09); 25/r is 290 days. */
     cfg.step_s = 21600.0;
     cfg.duration_days = 25.0 / R_DRAG / 86400.0;
+    if (adaptive) {
+        /* From 1 h the step grows to the wave limit (step_limits.h),
+         * 0.5 pi / (beta L) = 12.5 h here; outputs every 1/r, so the state
+         * 1/r before the end is an output time that a step lands on. */
+        cfg.step_choice = TG_STEP_ADAPTIVE;
+        cfg.step_s = 3600.0;
+        cfg.smallest_step_s = 600.0;
+        cfg.snapshot_every_days = cfg.log_every_days = 1.0 / R_DRAG / 86400.0;
+        cfg.checkpoint_every_days = 0.0;
+    }
     ck_assert_msg(tg_config_check(&cfg, NULL, &st) == TG_OK, "config: %s", st.msg);
     tg_model *m = tg_model_create(&cfg, &st);
     ck_assert_msg(m != NULL, "model: %s", st.msg);
@@ -107,12 +119,28 @@ static stommel_result run_stommel(int points)
     ck_assert(psi && prev);
     tg_model_set_psi(m, psi);
 
-    const long nsteps = (long)ceil(cfg.duration_days * 86400.0 / cfg.step_s);
+    long nsteps = (long)ceil(cfg.duration_days * 86400.0 / cfg.step_s);
     const long last_efold = (long)ceil(1.0 / R_DRAG / cfg.step_s);
-    for (long s = 1; s <= nsteps; s++) {
-        ck_assert_msg(tg_step(m, NULL, &st) == TG_OK, "step %ld: %s", s, st.msg);
-        if (s == nsteps - last_efold)
-            tg_model_pack(m, m->psi, prev);
+    if (!adaptive) {
+        for (long s = 1; s <= nsteps; s++) {
+            ck_assert_msg(tg_step(m, NULL, &st) == TG_OK, "step %ld: %s", s, st.msg);
+            if (s == nsteps - last_efold)
+                tg_model_pack(m, m->psi, prev);
+        }
+        res.dt_min = res.dt_max = m->dt;
+    } else {
+        tg_run_steps rs;
+        tg_run_steps_init(&rs, &cfg, m);
+        while (!tg_run_steps_done(&rs, m)) {
+            tg_run_steps_next(&rs, m);
+            res.dt_min = fmin(res.dt_min, m->dt);
+            res.dt_max = fmax(res.dt_max, m->dt);
+            ck_assert_msg(tg_step(m, NULL, &st) == TG_OK, "step %ld: %s", m->step, st.msg);
+            tg_run_events ev = tg_run_steps_after(&rs, m, tg_model_max_cfl(m, NULL, NULL, NULL));
+            if (ev.snapshot && !ev.end)
+                tg_model_pack(m, m->psi, prev); /* last at 24/r, 1/r before the end */
+        }
+        nsteps = m->step;
     }
     tg_model_pack(m, m->psi, psi);
 
@@ -149,10 +177,10 @@ static stommel_result run_stommel(int points)
     res.runtime = wall_seconds() - t0;
     printf("val_stommel %d points (dx %.1f km, r/beta %.1f km = %.2f dx): relative L2 error %.3e; "
            "max psi %.5g m2/s at x = %.0f km (exact %.5g at %.0f km); change over the last 1/r "
-           "%.1e; %ld steps, %.1f s\n",
+           "%.1e; %ld steps of %.0f..%.0f s, %.1f s\n",
            points, L / (points - 1) / 1e3, R_DRAG / BETA / 1e3, R_DRAG / BETA / (L / (points - 1)),
            res.l2, res.psi_max, res.x_max_km, res.exact_max, res.exact_x_max_km, res.steady, nsteps,
-           res.runtime);
+           res.dt_min, res.dt_max, res.runtime);
     fflush(stdout);
     free(psi);
     free(prev);
@@ -162,8 +190,8 @@ static stommel_result run_stommel(int points)
 
 START_TEST(stommel_exact_solution)
 {
-    stommel_result fine = run_stommel(129);
-    stommel_result coarse = run_stommel(65);
+    stommel_result fine = run_stommel(129, 0);
+    stommel_result coarse = run_stommel(65, 0);
     /* Steady: the change over the last e-folding time is negligible. */
     ck_assert_msg(fine.steady < 1e-6, "not steady: relative change %.3e over the last 1/r",
                   fine.steady);
@@ -175,6 +203,19 @@ START_TEST(stommel_exact_solution)
     ck_assert_msg(coarse.l2 > 2.0 * fine.l2,
                   "error does not shrink with resolution: %.4f at 65 points, %.4f at 129",
                   coarse.l2, fine.l2);
+}
+END_TEST
+
+/* Adaptive steps ([time] step_choice = adaptive, run_steps.h) keep the
+ * Stommel 1948 solution within the same 2 % while the step varies. */
+START_TEST(stommel_adaptive_steps)
+{
+    stommel_result r = run_stommel(129, 1);
+    ck_assert_msg(r.dt_max > 4.0 * r.dt_min, "the steps did not vary: %g..%g s", r.dt_min,
+                  r.dt_max);
+    ck_assert_msg(r.steady < 1e-6, "not steady: relative change %.3e over the last 1/r", r.steady);
+    ck_assert_msg(r.l2 < 0.02, "relative L2 error %.4f against Stommel's solution exceeds 0.02",
+                  r.l2);
 }
 END_TEST
 
@@ -214,6 +255,7 @@ static Suite *stommel_suite(void)
     TCase *tc = tcase_create("steady_gyre");
     tcase_set_timeout(tc, 120);
     tcase_add_test(tc, stommel_exact_solution);
+    tcase_add_test(tc, stommel_adaptive_steps);
     suite_add_tcase(s, tc);
     tc = tcase_create("rest_state");
     tcase_add_test(tc, create_leaves_rest);
