@@ -16,7 +16,11 @@
  *     s in its unit (dimensional analysis, common practice);
  *   - the flux-form terms have zero domain sum in a basin (no circulation
  *     from the walls; telescoping sums, common practice);
- *   - the same values for 1 and 3 OpenMP threads (bitwise).
+ *   - the same values for 1 and 3 OpenMP threads (bitwise);
+ *   - curl_div_zeta_deform equals twice curl_div_gradu_gradu up to the
+ *     discretisation error (second order): in two-dimensional non-divergent
+ *     flow the vorticity-deformation tensor is twice the trace-free part of
+ *     G_ij = d_k u_i d_k u_j (tensor algebra, derived here; basis.c).
  * A Check suite with its own main().
  *
  * Part of twingyre. GPL-3.0-or-later.
@@ -505,6 +509,40 @@ START_TEST(test_threads)
 }
 END_TEST
 
+/* Max |deform - 2 gradu_gradu| relative to max |deform| on a periodic grid. */
+static double deform_mismatch(int points)
+{
+    init_fields(1e6);
+    grid r = make_grid(1, points, 1000.0);
+    set_analytic(&r, 1.0, 1.0);
+    const size_t n = (size_t)r.g->ns * r.g->ns;
+    double *deform = malloc(n * sizeof(double));
+    ck_assert_ptr_nonnull(deform);
+    eval(&r, tg_basis_find("curl_div_zeta_deform"));
+    memcpy(deform, r.out, n * sizeof(double));
+    eval(&r, tg_basis_find("curl_div_gradu_gradu"));
+    double emax = 0.0, dmax = 0.0;
+    for (int j = r.g->a0; j < r.g->a1; j++)
+        for (int i = r.g->a0; i < r.g->a1; i++) {
+            const long p = (long)j * r.g->ns + i;
+            emax = fmax(emax, fabs(deform[p] - 2.0 * r.out[p]));
+            dmax = fmax(dmax, fabs(deform[p]));
+        }
+    free(deform);
+    free_grid(&r);
+    ck_assert(dmax > 0.0);
+    return emax / dmax;
+}
+
+START_TEST(test_deform_twice_gradient_model)
+{
+    const double e64 = deform_mismatch(64), e128 = deform_mismatch(128);
+    ck_assert_msg(e64 < 0.15, "deform vs 2 x gradient model: %.3g on 64^2", e64);
+    ck_assert_msg(e64 / e128 > 3.0, "mismatch %.3g (64^2) -> %.3g (128^2): not discretisation error",
+                  e64, e128);
+}
+END_TEST
+
 START_TEST(test_bad_term)
 {
     grid r = make_grid(1, 16, 1000.0);
@@ -530,6 +568,7 @@ static Suite *suite(void)
     tcase_add_test(tc, test_basin_conservation);
     tcase_add_test(tc, test_basin_finite);
     tcase_add_test(tc, test_threads);
+    tcase_add_test(tc, test_deform_twice_gradient_model);
     tcase_add_test(tc, test_bad_term);
     suite_add_tcase(s, tc);
     return s;
