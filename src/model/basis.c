@@ -25,9 +25,9 @@
  *     memory). In
  *     two-dimensional non-divergent flow it is twice the trace-free part of
  *     the gradient-model tensor G_ij = d_k u_i d_k u_j (the isotropic part
- *     of G has no curl), so in the continuum this term is exactly twice
- *     curl_div_gradu_gradu; the two differ on the grid only by their
- *     discretisation error (tests/unit/test_basis.c);
+ *     of G has no curl), so this term is twice curl_div_gradu_gradu; with
+ *     the compact differences below the identity holds on the grid to
+ *     round-off (tests/unit/test_basis.c), so a fit should offer only one;
  *   - div_absgradzeta_gradzeta: diffusion of vorticity with a diffusivity
  *     proportional to |grad zeta| (Leith 1996, Physica D 98, 481-491);
  *   - div_strain_gradzeta: diffusion of vorticity with a diffusivity
