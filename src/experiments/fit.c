@@ -273,8 +273,8 @@ static tg_code fit_ls(const std_problem *sp, double lambda, tg_fit_result *r, tg
     return TG_OK;
 }
 
-static tg_code fit_seq_threshold(const std_problem *sp, const tg_fit_settings *s, tg_fit_result *r,
-                         tg_status *st)
+static tg_code fit_seq_threshold(const std_problem *sp, const tg_fit_settings *s,
+                                 tg_fit_result *r, tg_status *st)
 {
     tg_code rc;
     for (int it = 0; it < s->max_iter; it++) {
@@ -300,7 +300,8 @@ static tg_code fit_seq_threshold(const std_problem *sp, const tg_fit_settings *s
         if (!changed)
             return TG_OK;
     }
-    return tg_fail(st, TG_ERR_NUMERIC, "fit: sequential thresholding did not settle in %d iterations", s->max_iter);
+    return tg_fail(st, TG_ERR_NUMERIC,
+                   "fit: sequential thresholding did not settle in %d iterations", s->max_iter);
 }
 
 /* The posterior of the kept terms idx[0..m) (Tipping 2001): Sigma =

@@ -25,9 +25,9 @@
  *   sequential-threshold  sequentially thresholded least squares
  *          (Brunton, Proctor & Kutz 2016, Proc. Natl. Acad. Sci. 113,
  *          3932-3937, the algorithm of their Methods section): solve, set
- *          every |chat_j| < threshold (--drop-below) to zero, solve again on the remaining
- *          columns, until the set stops changing (ridge lambda is used in
- *          the inner solves when given).
+ *          every |chat_j| < threshold (--drop-below) to zero, solve again
+ *          on the remaining columns, until the set stops changing (ridge
+ *          lambda is used in the inner solves when given).
  *   rvm    sparse Bayesian regression, the relevance vector machine
  *          (Tipping 2001, J. Mach. Learn. Res. 1, 211-244, section 2;
  *          the section from memory): prior w_j ~ N(0, 1/alpha_j), noise precision beta;
@@ -96,7 +96,7 @@ typedef struct {
     int max_iter;       /* sequential-threshold and rvm iterations */
 } tg_fit_settings;
 
-/* Defaults: ols, ridge 1e-6 (used only by ridge), threshold 0.05,
+/* Defaults: ols, ridge 1e-6 (used only by ridge), threshold (--drop-below) 0.05,
  * alpha_max 1e8, max_iter 1000. */
 void tg_fit_settings_default(tg_fit_settings *s);
 
