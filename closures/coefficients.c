@@ -5,12 +5,14 @@
  * with T_t the named terms of the basis library (src/model/basis.h: Laplacians
  * and bi-Laplacians of zeta and q, Jacobians, divergences of products of
  * velocity gradients), c_{k,t} read from a coefficients file and s the
- * parameter coefficient_scale. The form is that of equation-discovery
- * closures, where sparse regression of the sub-grid forcing on a library of
- * candidate terms selects the terms and fits the coefficients (Zanna &
- * Bolton 2020, Geophys. Res. Lett. 47, e2020GL088376, eqs. 5-6; Brunton,
- * Proctor & Kutz 2016, Proc. Natl. Acad. Sci. 113, 3932-3937, for the
- * sparse regression). The file format is described in src/model/basis.h.
+ * parameter coefficient_scale. The form is that of model discovery by
+ * sparse regression: the sub-grid forcing is regressed on a library of
+ * candidate terms, which selects the terms and fits the coefficients
+ * (Brunton, Proctor & Kutz 2016, Proc. Natl. Acad. Sci. 113, 3932-3937).
+ * The velocity-gradient terms of the library are those of the gradient
+ * (tensor-diffusivity) model of sub-filter fluxes (Leonard 1974, Adv.
+ * Geophys. 18A, 237-248; Clark, Ferziger & Reynolds 1979, J. Fluid Mech.
+ * 91, 1-16). The file format is described in src/model/basis.h.
  *
  * Uncertain coefficients: with `sample = true`, each file line that gives
  * a standard deviation draws its coefficient once per ensemble member,
@@ -198,8 +200,9 @@ const tg_closure_ops tg_scheme_coefficients = {
     .name = "coefficients",
     .summary = "learned coefficients times named basis terms (Laplacians, Jacobians, "
                "gradient-model divergences) read from a file",
-    .source = "Zanna & Bolton 2020, Geophys. Res. Lett. 47, e2020GL088376 (equation discovery); "
-              "Clark, Ferziger & Reynolds 1979, J. Fluid Mech. 91, 1-16 (gradient model)",
+    .source = "Brunton, Proctor & Kutz 2016, Proc. Natl. Acad. Sci. 113, 3932-3937 (sparse "
+              "regression on a term library); Clark, Ferziger & Reynolds 1979, J. Fluid Mech. 91, "
+              "1-16 (gradient model)",
     .dissipative = 0,
     .nparams = P_N,
     .params = params,

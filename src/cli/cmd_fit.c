@@ -170,19 +170,21 @@ static int fit_option(const char *a, const char *v, tg_fit_options *o, int *thre
             o->set.method = TG_FIT_OLS;
         else if (!strcmp(v, "ridge"))
             o->set.method = TG_FIT_RIDGE;
-        else if (!strcmp(v, "stlsq"))
-            o->set.method = TG_FIT_STLSQ;
+        else if (!strcmp(v, "sequential-threshold"))
+            o->set.method = TG_FIT_SEQ_THRESHOLD;
         else if (!strcmp(v, "rvm"))
             o->set.method = TG_FIT_RVM;
         else
-            return usage_error("--method: expected ols, ridge, stlsq or rvm, got '%s'", v);
+            return usage_error("--method: expected ols, ridge, sequential-threshold or rvm, "
+                               "got '%s'%s", v, strcmp(v, "stlsq") ? ""
+                                             : "; did you mean sequential-threshold?");
     } else if (!strcmp(a, "--ridge")) {
         if (parse_real(v, 0.0, &o->set.ridge))
             return usage_error("--ridge: expected a real number >= 0, got '%s'", v);
         *have_ridge = 1;
-    } else if (!strcmp(a, "--threshold")) {
+    } else if (!strcmp(a, "--drop-below")) {
         if (parse_real(v, 0.0, &o->set.threshold))
-            return usage_error("--threshold: expected a real number >= 0, got '%s'", v);
+            return usage_error("--drop-below: expected a real number >= 0, got '%s'", v);
     } else if (!strcmp(a, "--prune-alpha")) {
         if (parse_real(v, 1.0, &o->set.alpha_max))
             return usage_error("--prune-alpha: expected a real number >= 1, got '%s'", v);
@@ -240,11 +242,13 @@ int cmd_fit(int argc, char **argv)
             continue;
         }
         static const char *const with_value[] = {
-            "--out", "--terms", "--layers", "--method", "--ridge", "--threshold", "--prune-alpha",
+            "--out", "--terms", "--layers", "--method", "--ridge", "--drop-below", "--prune-alpha",
             "--train", "--test", "--target", "--chunk-samples", "--dump-design", "--threads"};
         int known = 0;
         for (size_t w = 0; w < sizeof with_value / sizeof with_value[0]; w++)
             known |= !strcmp(a, with_value[w]);
+        if (!known && !strcmp(a, "--threshold"))
+            return usage_error("unknown option '%s'; did you mean --drop-below?", a);
         if (!known)
             return usage_error("unknown option '%s'", a);
         if (!v)
@@ -258,10 +262,10 @@ int cmd_fit(int argc, char **argv)
         return usage_error("missing SUBGRID.nc (a twin's subgrid.nc)");
     if (!o.output)
         return usage_error("missing --out COEFFS (the coefficients file to write)");
-    if (have_ridge && o.set.method != TG_FIT_RIDGE && o.set.method != TG_FIT_STLSQ)
-        return usage_error("--ridge applies to --method ridge or stlsq, not %s",
+    if (have_ridge && o.set.method != TG_FIT_RIDGE && o.set.method != TG_FIT_SEQ_THRESHOLD)
+        return usage_error("--ridge applies to --method ridge or sequential-threshold, not %s",
                            tg_fit_method_name(o.set.method));
-    if (o.set.method == TG_FIT_STLSQ && !have_ridge)
+    if (o.set.method == TG_FIT_SEQ_THRESHOLD && !have_ridge)
         o.set.ridge = 0.0;
 #ifdef _OPENMP
     if (threads > 0)

@@ -120,7 +120,7 @@ const char *tg_fit_method_name(tg_fit_method m)
     switch (m) {
     case TG_FIT_OLS: return "ols";
     case TG_FIT_RIDGE: return "ridge";
-    case TG_FIT_STLSQ: return "stlsq";
+    case TG_FIT_SEQ_THRESHOLD: return "sequential-threshold";
     case TG_FIT_RVM: return "rvm";
     }
     return "?";
@@ -273,8 +273,8 @@ static tg_code fit_ls(const std_problem *sp, double lambda, tg_fit_result *r, tg
     return TG_OK;
 }
 
-static tg_code fit_stlsq(const std_problem *sp, const tg_fit_settings *s, tg_fit_result *r,
-                         tg_status *st)
+static tg_code fit_seq_threshold(const std_problem *sp, const tg_fit_settings *s,
+                                 tg_fit_result *r, tg_status *st)
 {
     tg_code rc;
     for (int it = 0; it < s->max_iter; it++) {
@@ -295,12 +295,13 @@ static tg_code fit_stlsq(const std_problem *sp, const tg_fit_settings *s, tg_fit
         }
         if (left == 0)
             return tg_fail(st, TG_ERR_CONFIG,
-                           "fit: the threshold %g removes every term (largest standardized "
-                           "coefficients are below it); lower --threshold", s->threshold);
+                           "fit: --drop-below %g removes every term (the largest standardized "
+                           "coefficients are below it); lower --drop-below", s->threshold);
         if (!changed)
             return TG_OK;
     }
-    return tg_fail(st, TG_ERR_NUMERIC, "fit: stlsq did not settle in %d iterations", s->max_iter);
+    return tg_fail(st, TG_ERR_NUMERIC,
+                   "fit: sequential thresholding did not settle in %d iterations", s->max_iter);
 }
 
 /* The posterior of the kept terms idx[0..m) (Tipping 2001): Sigma =
@@ -430,7 +431,7 @@ tg_code tg_fit_solve(const tg_fit_acc *a, const unsigned char *use, const char *
         switch (s->method) {
         case TG_FIT_OLS: rc = fit_ls(sp, 0.0, r, st); break;
         case TG_FIT_RIDGE: rc = fit_ls(sp, s->ridge, r, st); break;
-        case TG_FIT_STLSQ: rc = fit_stlsq(sp, s, r, st); break;
+        case TG_FIT_SEQ_THRESHOLD: rc = fit_seq_threshold(sp, s, r, st); break;
         case TG_FIT_RVM: rc = fit_rvm(sp, s, r, st); break;
         }
     }

@@ -22,12 +22,12 @@
  *          1e-12 of the largest dropped).
  *   ridge  (Ghat + lambda I) chat = bhat (Hoerl & Kennard 1970,
  *          Technometrics 12, 55-67), lambda dimensionless.
- *   stlsq  sequentially thresholded least squares (Brunton, Proctor &
- *          Kutz 2016, Proc. Natl. Acad. Sci. 113, 3932-3937, the
- *          algorithm of their Methods section): solve, set every
- *          |chat_j| < threshold to zero, solve again on the remaining
- *          columns, until the set stops changing (ridge lambda is used in
- *          the inner solves when given).
+ *   sequential-threshold  sequentially thresholded least squares
+ *          (Brunton, Proctor & Kutz 2016, Proc. Natl. Acad. Sci. 113,
+ *          3932-3937, the algorithm of their Methods section): solve, set
+ *          every |chat_j| < threshold (--drop-below) to zero, solve again
+ *          on the remaining columns, until the set stops changing (ridge
+ *          lambda is used in the inner solves when given).
  *   rvm    sparse Bayesian regression, the relevance vector machine
  *          (Tipping 2001, J. Mach. Learn. Res. 1, 211-244, section 2;
  *          the section from memory): prior w_j ~ N(0, 1/alpha_j), noise precision beta;
@@ -84,19 +84,19 @@ void tg_fit_acc_add_rows(tg_fit_acc *a, const double *X, const double *t, long n
 /* dst += src (same p). */
 void tg_fit_acc_merge(tg_fit_acc *dst, const tg_fit_acc *src);
 
-typedef enum { TG_FIT_OLS = 0, TG_FIT_RIDGE, TG_FIT_STLSQ, TG_FIT_RVM } tg_fit_method;
+typedef enum { TG_FIT_OLS = 0, TG_FIT_RIDGE, TG_FIT_SEQ_THRESHOLD, TG_FIT_RVM } tg_fit_method;
 
 const char *tg_fit_method_name(tg_fit_method m);
 
 typedef struct {
     tg_fit_method method;
-    double ridge;       /* lambda >= 0 (ridge; stlsq's inner solves) */
-    double threshold;   /* stlsq: on |chat| */
+    double ridge;       /* lambda >= 0 (ridge; the inner solves of sequential-threshold) */
+    double threshold;   /* sequential-threshold: --drop-below, on |chat| */
     double alpha_max;   /* rvm: prune bound on alpha (standardized units) */
-    int max_iter;       /* stlsq and rvm iterations */
+    int max_iter;       /* sequential-threshold and rvm iterations */
 } tg_fit_settings;
 
-/* Defaults: ols, ridge 1e-6 (used only by ridge), threshold 0.05,
+/* Defaults: ols, ridge 1e-6 (used only by ridge), threshold (--drop-below) 0.05,
  * alpha_max 1e8, max_iter 1000. */
 void tg_fit_settings_default(tg_fit_settings *s);
 
@@ -111,7 +111,7 @@ typedef struct {
     int nkept;
     int rank;                         /* rank of the final Gram block */
     double cond;                      /* its condition number (eigenvalue ratio) */
-    int iterations;                   /* stlsq / rvm */
+    int iterations;                   /* sequential-threshold / rvm */
     double noise_std;                 /* rvm: 1/sqrt(beta), physical units of t */
     /* When rank < nkept: the eigenvector of the smallest eigenvalue of the
      * standardized Gram block over all p columns (0 off the kept ones), the

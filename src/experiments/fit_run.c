@@ -270,7 +270,7 @@ static const char *method_source(tg_fit_method m)
     switch (m) {
     case TG_FIT_OLS: return "ordinary least squares (normal equations, Cholesky)";
     case TG_FIT_RIDGE: return "ridge regression (Hoerl & Kennard 1970, Technometrics 12, 55-67)";
-    case TG_FIT_STLSQ:
+    case TG_FIT_SEQ_THRESHOLD:
         return "sequentially thresholded least squares (Brunton, Proctor & Kutz 2016, "
                "Proc. Natl. Acad. Sci. 113, 3932-3937)";
     case TG_FIT_RVM:
@@ -287,8 +287,8 @@ static void settings_line(const tg_fit_settings *set, tg_strbuf *b)
     case TG_FIT_RIDGE:
         tg_sb_printf(b, "# settings: ridge %.6g (on the standardized Gram matrix)\n", set->ridge);
         break;
-    case TG_FIT_STLSQ:
-        tg_sb_printf(b, "# settings: threshold %.6g on standardized coefficients, ridge %.6g\n",
+    case TG_FIT_SEQ_THRESHOLD:
+        tg_sb_printf(b, "# settings: drop below %.6g (standardized coefficients), ridge %.6g\n",
                      set->threshold, set->ridge);
         break;
     case TG_FIT_RVM:
@@ -347,7 +347,7 @@ static char *file_text(const fit_ctx *k)
             tg_sb_printf(&b, "# fit, layer %d:", f + 1);
         tg_sb_printf(&b, " %d of %d terms kept, rank %d, condition number %.3g", r->nkept, k->p,
                      r->rank, r->cond);
-        if (o->set.method == TG_FIT_STLSQ || o->set.method == TG_FIT_RVM)
+        if (o->set.method == TG_FIT_SEQ_THRESHOLD || o->set.method == TG_FIT_RVM)
             tg_sb_printf(&b, ", %d iterations", r->iterations);
         if (o->set.method == TG_FIT_RVM)
             tg_sb_printf(&b, ", noise std %.6g s-2", r->noise_std);

@@ -18,9 +18,16 @@
  *     the model tendency is the term times -Delta^2/12;
  *   - curl_div_zeta_deform: the curl of the divergence of the trace-free
  *     vorticity-deformation tensor [[-zeta Ds, zeta Dt], [zeta Dt, zeta Ds]]
- *     found by equation discovery (Zanna & Bolton 2020, Geophys. Res. Lett.
- *     47, e2020GL088376, eq. 6, from memory; the isotropic zeta^2 part has
- *     no curl and is left out);
+ *     = 2 (W S - S W), with S and W the symmetric and antisymmetric parts
+ *     of the velocity gradient d_j u_i: the commutator of the rotation-rate
+ *     and strain-rate tensors, one of the basis tensors of nonlinear
+ *     eddy-viscosity models (Pope 1975, J. Fluid Mech. 72, 331-340, from
+ *     memory). In two-dimensional non-divergent flow it is twice the
+ *     trace-free part of the gradient-model tensor G_ij = d_k u_i d_k u_j
+ *     (the isotropic part of G has no curl), so this term is twice
+ *     curl_div_gradu_gradu; with the compact differences below the identity
+ *     holds on the grid to round-off (tests/unit/test_basis.c), so a fit
+ *     should offer only one;
  *   - div_absgradzeta_gradzeta: diffusion of vorticity with a diffusivity
  *     proportional to |grad zeta| (Leith 1996, Physica D 98, 481-491);
  *   - div_strain_gradzeta: diffusion of vorticity with a diffusivity

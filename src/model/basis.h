@@ -4,8 +4,9 @@
  * A learned closure writes the PV tendency of layer k as
  *     dq_k/dt = sum_t c_{k,t} T_t(psi_k, q_k, zeta_k)
  * with T_t a term of the table below and c_{k,t} a fitted coefficient
- * (equation-discovery regression of sub-grid forcing; Zanna & Bolton 2020,
- * Geophys. Res. Lett. 47, e2020GL088376). The unit of c_{k,t} is s-2
+ * (sparse regression of the sub-grid forcing on a library of candidate
+ * terms; Brunton, Proctor & Kutz 2016, Proc. Natl. Acad. Sci. 113,
+ * 3932-3937). The unit of c_{k,t} is s-2
  * divided by the unit of T_t, so that every product is a PV tendency.
  * The closure closures/coefficients.c evaluates the sum; a fitting command
  * evaluates the same terms on coarse-grained data with tools built for its

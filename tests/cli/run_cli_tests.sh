@@ -492,14 +492,14 @@ fi
 # Periodic domain: no wall scales; with an imposed shear, the background PV
 # gradients and the two-layer critical shear beta g' H2 / f0^2 (Phillips 1954,
 # Tellus 6, 273-286; Pedlosky 1987, Geophysical Fluid Dynamics, section 7.11).
-JETS="$TG_SRCDIR/configs/jets-64.ini"
-tg describe "$JETS"
+TARROW="$TG_SRCDIR/configs/tarrow-32.ini"
+tg describe "$TARROW"
 cp "$T/out" "$T/describe-periodic.out"
-BETA_J=$(ini_get "$JETS" planet beta_per_m_per_s)
-F0_J=$(ini_get "$JETS" planet coriolis_f0_per_s)
-GP_J=$(ini_get "$JETS" layers reduced_gravity_m_s2)
-H_J=$(ini_get "$JETS" layers thickness_m)
-U_J=$(ini_get "$JETS" background zonal_velocity_m_s)
+BETA_J=$(ini_get "$TARROW" planet beta_per_m_per_s)
+F0_J=$(ini_get "$TARROW" planet coriolis_f0_per_s)
+GP_J=$(ini_get "$TARROW" layers reduced_gravity_m_s2)
+H_J=$(ini_get "$TARROW" layers thickness_m)
+U_J=$(ini_get "$TARROW" background zonal_velocity_m_s)
 want=$(calc "$BETA_J * $GP_J * ${H_J##*,} / ($F0_J * $F0_J)")
 want_ratio=$(calc "(${U_J%%,*} - (${U_J##*,})) / $want")
 got=$(grep -F "critical shear" "$T/out" | sed 's/^.*f0^2//' | grep -oE '[0-9]+\.[0-9]+' | head -n 1)

@@ -73,10 +73,10 @@ check "a tiny twin (65 -> 33 points, 9 samples) writes subgrid.nc" $([ "$rc" -eq
 S=$T/tw/subgrid.nc
 
 # ---------------------------------------------------------------- every method
-for m in ols ridge stlsq rvm; do
+for m in ols ridge sequential-threshold rvm; do
     extra=()
     [ "$m" = ridge ] && extra=(--ridge 1e-4)
-    [ "$m" = stlsq ] && extra=(--threshold 0.05)
+    [ "$m" = sequential-threshold ] && extra=(--drop-below 0.05)
     tg fit "$S" --out "$T/$m.txt" --method "$m" --train 0:5 --test 6:8 "${extra[@]}"
     good=1
     [ "$rc" -eq 0 ] || good=0
@@ -100,11 +100,21 @@ nall=$(grep -v '^#' "$T/rvm.txt" | awk 'NF >= 3' | wc -l)
 n3=$(grep -v '^#' "$T/ols.txt" | awk 'NF == 3' | wc -l)
 check "rvm lines carry a std column ($n4 of $nall), ols lines none ($n3 lines of 3 fields)" \
     $([ "$n4" -eq "$nall" ] && [ "$nall" -gt 0 ] && [ "$n3" -eq 28 ]; echo $?)
-# STLSQ with a large threshold keeps fewer terms than OLS.
-tg fit "$S" --out "$T/sparse.txt" --method stlsq --threshold 0.3 --quiet
+# Sequential thresholding with a large cut-off keeps fewer terms than OLS,
+# and its file says which cut-off it used.
+tg fit "$S" --out "$T/sparse.txt" --method sequential-threshold --drop-below 0.3 --quiet
 ns=$(grep -v '^#' "$T/sparse.txt" | awk 'NF >= 3' | wc -l)
-check "stlsq --threshold 0.3 keeps fewer terms ($ns) than the 28 of ols" \
-    $([ "$rc" -eq 0 ] && [ "$ns" -lt 28 ] && [ "$ns" -gt 0 ]; echo $?) "$(err_tail)"
+check "sequential-threshold --drop-below 0.3 keeps fewer terms ($ns) than the 28 of ols" \
+    $([ "$rc" -eq 0 ] && [ "$ns" -lt 28 ] && [ "$ns" -gt 0 ] && has "# settings: drop below 0.3 (standardized coefficients)" "$T/sparse.txt"; echo $?) "$(err_tail)"
+# A file written under the method's old name (the header is comments) still
+# runs: rename the method and settings lines the way older versions wrote them.
+sed -e 's/^# method: sequential-threshold:/# method: stlsq:/' \
+    -e 's/^# settings: drop below \([^ ]*\) (standardized coefficients)/# settings: threshold \1 on standardized coefficients/' \
+    "$T/sparse.txt" >"$T/old-name.txt"
+tg run "$T/coarse.ini" --out "$T/run-old-name" --quiet --set closure.use=coefficients \
+    --set "coefficients.file=$T/old-name.txt"
+check "a coefficients file with the old method name in its header still runs" \
+    $([ "$rc" -eq 0 ] && has "# method: stlsq:" "$T/old-name.txt" && [ -s "$T/run-old-name/fields.nc" ]; echo $?) "$(err_tail)"
 
 # ---------------------------------------------------------------- options
 tg fit "$S" --out "$T/flux.txt" --target flux --layers shared --terms lap_zeta,div_gradu_gradzeta,jac_psi_lapzeta --chunk-samples 2 --quiet
@@ -171,7 +181,7 @@ check "--set coefficients.file=fitted.txt is taken from the current directory" \
 tg fit "$S" --out "$T/x.txt" --bogus
 check "an unknown option: exit 1 naming it" $([ "$rc" -eq 1 ] && has "--bogus" "$T/err"; echo $?) "$(err_tail)"
 tg fit "$S" --out "$T/x.txt" --method lasso
-check "--method lasso: exit 1 naming --method and the choices" $([ "$rc" -eq 1 ] && has "--method: expected ols, ridge, stlsq or rvm" "$T/err"; echo $?) "$(err_tail)"
+check "--method lasso: exit 1 naming --method and the choices" $([ "$rc" -eq 1 ] && has "--method: expected ols, ridge, sequential-threshold or rvm" "$T/err"; echo $?) "$(err_tail)"
 tg fit "$S" --out "$T/x.txt" --terms lap_zeta,lap_zetta
 check "--terms with a misspelt term: exit 1 with 'did you mean lap_zeta?'" $([ "$rc" -eq 1 ] && has "did you mean lap_zeta?" "$T/err"; echo $?) "$(err_tail)"
 tg fit "$S" --out "$T/x.txt" --train 0:99
@@ -184,8 +194,12 @@ tg fit "$T/nothing.nc" --out "$T/x.txt"
 check "a missing input file: exit 3 naming it" $([ "$rc" -eq 3 ] && has "$T/nothing.nc" "$T/err"; echo $?) "$(err_tail)"
 tg fit "$T/run-ols/fields.nc" --out "$T/x.txt"
 check "a file that is not subgrid.nc: exit 3 naming the missing variable" $([ "$rc" -eq 3 ] && has "no variable subgrid_forcing" "$T/err"; echo $?) "$(err_tail)"
-tg fit "$S" --out "$T/x.txt" --terms zeta --method stlsq --threshold 1e6
-check "a threshold that removes every term: exit 2 with advice" $([ "$rc" -eq 2 ] && has "lower --threshold" "$T/err"; echo $?) "$(err_tail)"
+tg fit "$S" --out "$T/x.txt" --method stlsq
+check "--method stlsq (the old spelling): exit 1 with 'did you mean sequential-threshold?'" $([ "$rc" -eq 1 ] && has "did you mean sequential-threshold?" "$T/err"; echo $?) "$(err_tail)"
+tg fit "$S" --out "$T/x.txt" --method sequential-threshold --threshold 0.1
+check "--threshold (the old spelling): exit 1 with 'did you mean --drop-below?'" $([ "$rc" -eq 1 ] && has "'--threshold'; did you mean --drop-below?" "$T/err"; echo $?) "$(err_tail)"
+tg fit "$S" --out "$T/x.txt" --terms zeta --method sequential-threshold --drop-below 1e6
+check "a cut-off that removes every term: exit 2 with advice" $([ "$rc" -eq 2 ] && has "lower --drop-below" "$T/err"; echo $?) "$(err_tail)"
 [ -e "$T/x.txt" ]
 check "failed fits wrote no output file" $([ ! -e "$T/x.txt" ]; echo $?)
 before=$(md5sum <"$T/ols.txt")

@@ -16,7 +16,14 @@
  *     s in its unit (dimensional analysis, common practice);
  *   - the flux-form terms have zero domain sum in a basin (no circulation
  *     from the walls; telescoping sums, common practice);
- *   - the same values for 1 and 3 OpenMP threads (bitwise).
+ *   - the same values for 1 and 3 OpenMP threads (bitwise);
+ *   - curl_div_zeta_deform equals twice curl_div_gradu_gradu to round-off
+ *     when zeta is the five-point Laplacian of psi, as in a model view: in
+ *     two-dimensional non-divergent flow the vorticity-deformation tensor
+ *     is twice the trace-free part of G_ij = d_k u_i d_k u_j, the tensor of
+ *     the gradient model (Clark, Ferziger & Reynolds 1979, J. Fluid Mech.
+ *     91, 1-16; the identity is tensor algebra, derived in basis.c), and
+ *     the compact differences keep it on the grid (tolerance: round-off).
  * A Check suite with its own main().
  *
  * Part of twingyre. GPL-3.0-or-later.
@@ -505,6 +512,47 @@ START_TEST(test_threads)
 }
 END_TEST
 
+/* Max |deform - 2 gradu_gradu| relative to max |deform| on a periodic 64^2 grid,
+ * with zeta the five-point Laplacian of psi on every stored node. */
+static double deform_mismatch(void)
+{
+    init_fields(1e6);
+    grid r = make_grid(1, 64, 1000.0);
+    set_analytic(&r, 1.0, 1.0);
+    const double d = r.g->dx;
+    for (int j = 0; j < r.g->ns; j++)
+        for (int i = 0; i < r.g->ns; i++) {
+            const double x = r.g->coord[i], y = r.g->coord[j];
+            r.zeta[(long)j * r.g->ns + i] =
+                (D(&PSI, 0, 0, x + d, y) + D(&PSI, 0, 0, x - d, y) + D(&PSI, 0, 0, x, y + d) +
+                 D(&PSI, 0, 0, x, y - d) - 4.0 * D(&PSI, 0, 0, x, y)) / (d * d);
+        }
+    const size_t n = (size_t)r.g->ns * r.g->ns;
+    double *deform = malloc(n * sizeof(double));
+    ck_assert_ptr_nonnull(deform);
+    eval(&r, tg_basis_find("curl_div_zeta_deform"));
+    memcpy(deform, r.out, n * sizeof(double));
+    eval(&r, tg_basis_find("curl_div_gradu_gradu"));
+    double emax = 0.0, dmax = 0.0;
+    for (int j = r.g->a0; j < r.g->a1; j++)
+        for (int i = r.g->a0; i < r.g->a1; i++) {
+            const long p = (long)j * r.g->ns + i;
+            emax = fmax(emax, fabs(deform[p] - 2.0 * r.out[p]));
+            dmax = fmax(dmax, fabs(deform[p]));
+        }
+    free(deform);
+    free_grid(&r);
+    ck_assert(dmax > 0.0);
+    return emax / dmax;
+}
+
+START_TEST(test_deform_twice_gradient_model)
+{
+    const double e = deform_mismatch();
+    ck_assert_msg(e < 1e-11, "curl_div_zeta_deform - 2 curl_div_gradu_gradu: %.3g of the term", e);
+}
+END_TEST
+
 START_TEST(test_bad_term)
 {
     grid r = make_grid(1, 16, 1000.0);
@@ -530,6 +578,7 @@ static Suite *suite(void)
     tcase_add_test(tc, test_basin_conservation);
     tcase_add_test(tc, test_basin_finite);
     tcase_add_test(tc, test_threads);
+    tcase_add_test(tc, test_deform_twice_gradient_model);
     tcase_add_test(tc, test_bad_term);
     suite_add_tcase(s, tc);
     return s;

@@ -5,7 +5,7 @@
  *   - recovery of known coefficients: a target built from basis terms of
  *     smooth random coarse states (read back through subgrid.nc files the
  *     test writes) plus 1 % Gaussian noise; ols, ridge (small lambda),
- *     stlsq (Brunton, Proctor & Kutz 2016, PNAS 113, 3932-3937: the
+ *     sequential-threshold (Brunton, Proctor & Kutz 2016, PNAS 113, 3932-3937: the
  *     thresholded fit keeps the active terms and drops the others) and the
  *     relevance vector machine (Tipping 2001, J. Mach. Learn. Res. 1,
  *     211-244: irrelevant weights pruned; posterior N(mu, Sigma)) recover
@@ -268,14 +268,14 @@ START_TEST(test_recovery)
         const double err = fabs(res.coef[c] - truth[c]) * rms[c];
         ck_assert_msg(err < 3e-3, "%s: term %s: fitted %.6g, truth %.6g (standardized error %.3g)",
                       tg_fit_method_name(method), rec_terms[c], res.coef[c], truth[c], err);
-        /* STLSQ drops every zero term (threshold 0.05 far above the noise);
+        /* Sequential thresholding drops every zero term (threshold 0.05 far above the noise);
          * the RVM keeps every active term, and prunes a zero term unless a
          * chance correlation with the noise gives it a finite optimal alpha
          * (Tipping & Faul 2003, "Fast marginal likelihood maximisation for
          * sparse Bayesian models", section 3: q_i^2 > s_i; the section from
          * memory), in
          * which case its credible interval must hold 0 (checked below). */
-        if (method == TG_FIT_STLSQ)
+        if (method == TG_FIT_SEQ_THRESHOLD)
             ck_assert_msg(res.kept[c] == (rec_w[c] != 0.0), "%s: term %s kept = %d",
                           tg_fit_method_name(method), rec_terms[c], res.kept[c]);
         if (method == TG_FIT_RVM && rec_w[c] != 0.0)
@@ -648,9 +648,9 @@ START_TEST(test_fail_prefixes_own_message)
 {
     tg_status st;
     tg_status_clear(&st);
-    tg_fail(&st, TG_ERR_NUMERIC, "fit: stlsq did not settle in %d iterations", 7);
+    tg_fail(&st, TG_ERR_NUMERIC, "fit: sequential thresholding did not settle in %d iterations", 7);
     ck_assert_int_eq(tg_fail(&st, st.code, "layer %d: %s", 2, st.msg), TG_ERR_NUMERIC);
-    ck_assert_str_eq(st.msg, "layer 2: fit: stlsq did not settle in 7 iterations");
+    ck_assert_str_eq(st.msg, "layer 2: fit: sequential thresholding did not settle in 7 iterations");
 }
 END_TEST
 
