@@ -303,7 +303,7 @@ START_TEST(third_order_in_the_target)
 }
 END_TEST
 
-/* (f) The periodic eddy set-up (configs/eddies-64.ini, stronger noise). */
+/* (f) The periodic baroclinic set-up of val_periodic_equilibrium.c (stronger noise). */
 static const char *const eddy_sets[] = {
     "grid.geometry=periodic", "grid.points=64", "grid.size_km=1000",
     "layers.thickness_m=1000, 3000", "layers.reduced_gravity_m_s2=0.02",
