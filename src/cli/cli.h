@@ -109,6 +109,14 @@ void cli_phase_end(cli_phase_line *d);
  * without its newline), so that a log line clears it first. */
 void cli_set_line_open(int open);
 
+/* Help texts (help.c): the global help (one line per command), one
+ * command's help (synopsis, options with defaults, exit statuses, example;
+ * -1 when there is no such command) and the man page in troff. */
+void cli_help_global(FILE *f);
+int cli_help_command(const char *command, FILE *f);
+int cli_help_known(const char *command);
+void cli_help_man(FILE *f);
+
 int cmd_run(int argc, char **argv);
 int cmd_describe(int argc, char **argv);
 int cmd_closures(int argc, char **argv);
