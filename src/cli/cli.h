@@ -61,6 +61,15 @@ void cli_format_duration(double s, double longest, char *buf, size_t n);
 /* Log sink writing "twingyre: ..." lines to stderr, aware of the progress line. */
 void cli_log_to_stderr(tg_log_level level, const char *line, void *user);
 
+/* Log sink that passes each distinct line once (then as cli_log_to_stderr):
+ * for commands that set up the same closures or configs many times (sweep,
+ * vet), whose set-up lines would otherwise repeat. user = cli_seen_lines*. */
+typedef struct {
+    int n;
+    unsigned long hash[256];
+} cli_seen_lines;
+void cli_log_once(tg_log_level level, const char *line, void *user);
+
 /* Quiet: the log sink drops information lines (warnings and errors stay).
  * cli_progress_init sets it too. */
 void cli_log_set_quiet(int quiet);

@@ -39,27 +39,6 @@ static void follow_parent(void)
         raise(SIGTERM);
 }
 
-/* Log sink that passes each distinct line once: checking every member's
- * config would otherwise repeat the base config's warnings per member. */
-typedef struct {
-    int n;
-    unsigned long hash[256];
-} seen_lines;
-
-static void log_once(tg_log_level level, const char *line, void *user)
-{
-    seen_lines *s = user;
-    unsigned long h = 5381;
-    for (const char *p = line; *p; p++)
-        h = h * 33 + (unsigned char)*p;
-    for (int i = 0; i < s->n; i++)
-        if (s->hash[i] == h)
-            return;
-    if (s->n < 256)
-        s->hash[s->n++] = h;
-    cli_log_to_stderr(level, line, NULL);
-}
-
 /* The options of sweep (cli_parse_for) and their defaults and exclusions;
  * 0 when the command line is usable, else the exit status. */
 static int parse(int argc, char **argv, cli_opts *o)
@@ -143,8 +122,8 @@ static int slurm_script(tg_sweep *sw, const cli_opts *a)
 
 int cmd_sweep(int argc, char **argv)
 {
-    seen_lines seen = {0};
-    tg_set_log(log_once, &seen);
+    cli_seen_lines seen = {0};
+    tg_set_log(cli_log_once, &seen); /* each member's checks would repeat the base's warnings */
     cli_opts a;
     int prc = parse(argc, argv, &a);
     if (prc != 0)

@@ -144,6 +144,20 @@ tg_code cli_begin(int argc, char **argv, const char *allow, cli_opts *o, tg_conf
     return rc;
 }
 
+void cli_log_once(tg_log_level level, const char *line, void *user)
+{
+    cli_seen_lines *s = user;
+    unsigned long h = 5381;
+    for (const char *p = line; *p; p++)
+        h = h * 33 + (unsigned char)*p;
+    for (int i = 0; i < s->n; i++)
+        if (s->hash[i] == h)
+            return;
+    if (s->n < (int)(sizeof s->hash / sizeof s->hash[0]))
+        s->hash[s->n++] = h;
+    cli_log_to_stderr(level, line, NULL);
+}
+
 char *cli_command_line(int argc, char **argv)
 {
     size_t n = 1;

@@ -788,6 +788,19 @@ void tg_vet_report_free(tg_vet_report *r)
     free(r);
 }
 
+/* Whether the closure draws noise; only a component with its own
+ * variables (an advance) can. On a model of its own, since the test
+ * advances the closures and overwrites the state. */
+static tg_code stochastic(const tg_config *cfg, int *flag, tg_status *st)
+{
+    tg_model *m = tg_model_create(cfg, st);
+    if (!m)
+        return st->code ? st->code : TG_ERR_INTERNAL;
+    tg_code rc = tg_model_closures_stochastic(m, cfg, flag, st);
+    tg_model_destroy(m);
+    return rc;
+}
+
 tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_report **rep,
                    tg_status *st)
 {
@@ -831,8 +844,13 @@ tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_repor
         goto done;
     }
     r->dissipative = 1;
-    for (int i = 0; i < tg_closure_host_count(m->closures); i++)
+    int advances = 0;
+    for (int i = 0; i < tg_closure_host_count(m->closures); i++) {
         r->dissipative &= tg_closure_host_ops(m->closures, i)->dissipative != 0;
+        advances |= tg_closure_host_ops(m->closures, i)->advance != NULL;
+    }
+    if (advances && (rc = stochastic(cfg, &r->stochastic, st)) != TG_OK)
+        goto done;
     memcpy(c.q_rest, m->q, sizeof(double) * (size_t)(m->nl * m->npl));
 
     /* The reference state. */

@@ -109,6 +109,7 @@ typedef struct {
     /* what was vetted */
     char closure[TG_RAW_TEXT];  /* [closure] use as written */
     int dissipative;            /* every component declared dissipative */
+    int stochastic;             /* some component draws noise (tg_model_closures_stochastic) */
     int points, nlayers;
     double step_s, window_days;
     char reference[TG_PATH_LEN + 64]; /* how the reference state was made */

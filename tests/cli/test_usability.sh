@@ -69,4 +69,103 @@ cols=$(grep -E '^  \[' "$T/out" | awk '{ print index($0, " default ") }' | sort 
 check "the closures table's columns line up" $? "$cols different columns" \
     "$(grep -E '^  \[' "$T/out" | head -5)"
 
+# ---------------------------------------------------------------- logs
+# One layer, 33 points over 1280 km (dx = 40 km), short spin-up and window.
+base() {
+    cat <<'EOC'
+[grid]
+geometry = basin
+size_km = 1280
+points = 33
+
+[layers]
+thickness_m = 4000
+reduced_gravity_m_s2 =
+
+[wind]
+stress_amplitude_pa = 0.05
+
+[dissipation]
+viscosity_m2_per_s = 200
+
+[time]
+step_s = 3600
+max_cfl = 0.8
+duration_days = 2
+
+[initial]
+state = noise
+noise_amplitude_m2_per_s = 100
+seed = 5
+
+[output]
+log_every_days = 1
+EOC
+}
+cat >coef.txt <<'EOC'
+# units: coefficient in s-2 per term unit
+1 lap_zeta 50
+1 lap2_zeta -1e9
+EOC
+{
+    base
+    cat <<'EOC'
+
+[closure]
+use = coefficients
+
+[coefficients]
+file = coef.txt
+
+[vet]
+spinup_days = 4
+window_days = 2
+step_factors = 2
+multipliers = 2
+finer_grid = no
+EOC
+} >coef.ini
+tg vet coef.ini --out vc
+n=$(grep -c "coefficients: layer 1 lap_zeta" "$T/err")
+[ "$rc" -eq 0 ] && [ "$n" -eq 1 ]
+check "vet says a coefficients file's lines once, not once per online run" $? \
+    "$n times" "$(err_tail)"
+! has "noise frozen" "$T/out" && ! grep -q stochastic_noise vc/vet.json
+check "vet of a closure without noise says nothing about frozen noise" $? "$(tail -5 "$T/out")"
+{
+    base
+    cat <<'EOC'
+
+[closure]
+use = stochastic_additive
+
+[vet]
+spinup_days = 4
+window_days = 2
+step_factors = 2
+multipliers = 2
+finer_grid = no
+EOC
+} >stoch.ini
+tg vet stoch.ini --out vs
+has "noise frozen" "$T/out" && grep -q stochastic_noise vs/vet.json
+check "vet of a stochastic closure says its noise was frozen" $? "$(err_tail)"
+base >basin.ini
+tg run basin.ini --out rb
+[ "$rc" -eq 0 ] && has "energy" "$T/err" && ! has "mean flow" "$T/err" && has "wind " "$T/err"
+check "a basin run's summary line has no mean flow term" $? "$(err_tail)"
+
+# scripts/demo keeps the build's output out of its own: a build that fails
+# (make -j with a bad count) is reported with the log's path. Only where the
+# source tree is configured and writable (not in distcheck's read-only copy).
+if [ -f "$TG_SRCDIR/config.status" ] && [ -w "$TG_SRCDIR" ]; then
+    TG_SKIP_DEPS=1 TG_MAKE_JOBS=bogus TMPDIR=$T bash "$TG_SRCDIR/scripts/demo" >demo.out 2>demo.err
+    drc=$?
+    log=$(ls "$T"/twingyre-demo-build.*.log 2>/dev/null | head -1)
+    [ "$drc" -ne 0 ] && [ -n "$log" ] && has "$log" demo.err && has "make" "$log" &&
+        ! grep -q "^deps:" demo.out
+    check "scripts/demo sends the build's output to a log and names it on failure" $? \
+        "exit $drc" "$(cat demo.out demo.err | tail -8)"
+fi
+
 finish
