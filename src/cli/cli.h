@@ -25,6 +25,7 @@ typedef struct {
     int member_given;      /* --member was given */
     int jobs;              /* --jobs N (sweep); 0 when not given */
     int collect, mpi;      /* --collect, --mpi (sweep) */
+    int list;              /* --list (sweep) */
     const char *slurm_script; /* --slurm-script FILE (sweep), NULL when not given */
 } cli_opts;
 

@@ -94,6 +94,8 @@ tg_code cli_parse_for(int argc, char **argv, int first, const char *allow, const
             o->collect = 1;
         } else if (!strcmp(key, "mpi")) {
             o->mpi = 1;
+        } else if (!strcmp(key, "list")) {
+            o->list = 1;
         }
         if (rc != TG_OK)
             return rc;

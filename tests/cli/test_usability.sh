@@ -155,6 +155,43 @@ tg run basin.ini --out rb
 [ "$rc" -eq 0 ] && has "energy" "$T/err" && ! has "mean flow" "$T/err" && has "wind " "$T/err"
 check "a basin run's summary line has no mean flow term" $? "$(err_tail)"
 
+# ---------------------------------------------------------------- sweeps
+# [common] overrides every member without entering its name; --list shows
+# the members without running them; sweep.lock goes after a clean finish.
+cat >sw.ini <<'EOC'
+[sweep]
+base = basin.ini
+directory = swout
+
+[common]
+time.duration_days = 1
+output.snapshot_every_days = 1
+
+[vary]
+dissipation.viscosity_m2_per_s = 300, 600
+EOC
+tg sweep sw.ini --list
+[ "$rc" -eq 0 ] && has "0 viscosity_m2_per_s-300 dissipation.viscosity_m2_per_s=300" "$T/out" &&
+    has "1 viscosity_m2_per_s-600" "$T/out" && has "common: time.duration_days=1" "$T/out" &&
+    [ ! -e swout ]
+check "sweep --list prints the members and their values and runs nothing" $? \
+    "$(cat "$T/out")" "$(err_tail)"
+tg sweep sw.ini --quiet
+[ "$rc" -eq 0 ] && [ -d swout/viscosity_m2_per_s-300 ] &&
+    grep -qE '^duration_days = 1 ' swout/viscosity_m2_per_s-600/config.ini
+check "[common] keys reach every member and stay out of the names" $? "$(err_tail)" \
+    "$(ls swout 2>&1)"
+[ ! -e swout/sweep.lock ] && [ -s swout/sweep.csv ]
+check "sweep.lock is removed after a clean finish" $? "$(ls swout)"
+printf '[sweep]\nbase = basin.ini\n\n[common]\ntime.duration_days = -4\n\n[vary]\nseeds_x.y = 1\n' >swbad.ini
+tg sweep swbad.ini --list
+[ "$rc" -eq 2 ] && has "swbad.ini:5: [common]" "$T/err"
+check "a refused [common] value names the sweep file's line (exit 2)" $? "$(err_tail)"
+printf '[sweep]\nbase = basin.ini\n\n[common]\ndissipation.viscosity_m2_per_s = 5\n\n[vary]\ndissipation.viscosity_m2_per_s = 1, 2\n' >swtwice.ini
+tg sweep swtwice.ini --list
+[ "$rc" -eq 2 ] && has "is varied too" "$T/err"
+check "a key both [common] and varied is refused" $? "$(err_tail)"
+
 # scripts/demo keeps the build's output out of its own: a build that fails
 # (make -j with a bad count) is reported with the log's path. Only where the
 # source tree is configured and writable (not in distcheck's read-only copy).
