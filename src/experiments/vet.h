@@ -98,6 +98,7 @@ typedef struct {
     char name[48];             /* key in vet.json, e.g. "linear_growth_reference" */
     char title[96];            /* words for the table */
     double figure;             /* NAN: not measured */
+    char figure_text[16];      /* shown in the table instead of a NAN figure, e.g. "<0.5" */
     char unit[16];
     char relation[4];          /* "<=", ">=" or "" (information) */
     double limit;              /* NAN: no limit */

@@ -77,7 +77,10 @@ void tg_vet_table(const tg_vet_report *r, tg_strbuf *b)
     for (int i = 0; i < r->nchecks; i++) {
         const tg_vet_check *k = &r->checks[i];
         char fig[32], lim[40];
-        fmt_fig(k->figure, fig, sizeof fig);
+        if (isnan(k->figure) && k->figure_text[0])
+            snprintf(fig, sizeof fig, "%s", k->figure_text);
+        else
+            fmt_fig(k->figure, fig, sizeof fig);
         if (k->relation[0] && !isnan(k->limit)) {
             char l[32];
             fmt_fig(k->limit, l, sizeof l);

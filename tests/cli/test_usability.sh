@@ -57,8 +57,10 @@ for t in zeta lap_zeta lap2_zeta lap_q lap2_q jac_psi_lapzeta jac_psi_lapq jac_z
     div_strain_gradzeta; do
     grep -qE "^    $t " "$T/out" && n=$((n + 1))
 done
-[ "$n" -eq 13 ]
-check "closures coefficients lists the 13 basis terms" $? "$n found" "$(cat "$T/out")"
+nall=$(sed -n '/basis terms (/,/^$/p' "$T/out" | grep -cE '^    [a-z]')
+[ "$n" -eq 13 ] && [ "$nall" -eq 14 ] && ! has "curl_div_gradu_gradu" "$T/out"
+check "closures coefficients lists the 13 basis terms (no two equal on the grid)" $? \
+    "$n found, $nall lines" "$(cat "$T/out")"
 tg closures leit
 [ "$rc" -eq 1 ] && has "did you mean leith?" "$T/err"
 check "closures leit suggests leith" $? "$(err_tail)"
@@ -150,6 +152,19 @@ EOC
 tg vet stoch.ini --out vs
 has "noise frozen" "$T/out" && grep -q stochastic_noise vs/vet.json
 check "vet of a stochastic closure says its noise was frozen" $? "$(err_tail)"
+# A closure unstable at every multiplier (negative viscosity): the margin
+# says "below the smallest multiplier tried", the online rows give the day.
+printf '%s\n1 lap_zeta -20000\n' "# units: coefficient in s-2 per term unit" >antivisc.txt
+sed -e 's/^file = coef.txt/file = antivisc.txt/' -e 's/^multipliers = 2/multipliers = 0.5, 2/' \
+    coef.ini >antivisc.ini
+tg vet antivisc.ini --out va
+row=$(grep "largest stable coefficient multiplier" "$T/out")
+online=$(grep "online run at the configured step" "$T/out")
+[ "$rc" -eq 9 ] && has "below the smallest multiplier tried, x0.5" "$T/out" &&
+    echo "$row" | grep -q " <0.5 " && echo "$online" | grep -qE " [0-9.]+ (day|-) " &&
+    ! sed -n '/^verdicts/,$p' "$T/out" | grep -qE " (0|-) [-a-z]"
+check "vet of a closure unstable even at x0.5 says so, with figures in every failed row" $? \
+    "exit $rc" "$row" "$online"
 base >basin.ini
 tg run basin.ini --out rb
 [ "$rc" -eq 0 ] && has "energy" "$T/err" && ! has "mean flow" "$T/err" && has "wind " "$T/err"
