@@ -237,6 +237,12 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
 
     const double dt = cfg->step_s;
     const long nsteps = steps_for(cfg->duration_days, dt);
+    if (nsteps > TG_NC_STEP_MAX) {
+        rc = tg_fail(st, TG_ERR_CONFIG, "[time] duration_days = %g at step_s = %g gives %ld "
+                     "steps; the output files count at most %ld", cfg->duration_days, dt, nsteps,
+                     TG_NC_STEP_MAX);
+        goto done;
+    }
     const long snap_every = steps_for(cfg->snapshot_every_days, dt) > 0
                                 ? steps_for(cfg->snapshot_every_days, dt) : 1;
     const long log_every = steps_for(cfg->log_every_days, dt) > 0

@@ -593,6 +593,10 @@ static tg_code run_reference(twin_ctx *c, const tg_twin_options *opt, int nphase
     const long nwin = (long)llround(c->base.twin_analysis_days * TG_SECONDS_PER_DAY / dt);
     const long every = (long)llround(c->base.twin_sample_every_days * TG_SECONDS_PER_DAY / dt);
     char path[TG_PATH_LEN + 64];
+    if (nspin + nwin > TG_NC_STEP_MAX)
+        return tg_fail(st, TG_ERR_CONFIG, "[twin] spinup_days + analysis_days give %ld steps of "
+                       "the reference; the output files count at most %ld", nspin + nwin,
+                       TG_NC_STEP_MAX);
 
     r.m = tg_model_create(cfg, st);
     if (!r.m)

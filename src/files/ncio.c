@@ -149,6 +149,9 @@ static tg_code def_index_coord(int ncid, const char *path, const char *name, int
     if ((code = tg_nc_check(nc_def_var(ncid, name, NC_INT, 1, dimid, varid), path,
                          "defining the variable", name, st)))
         return code;
+    /* A count: CF's unit "1" (dimensionless). */
+    if ((code = tg_nc_put_text(ncid, *varid, "units", "1", path, name, st)))
+        return code;
     return tg_nc_put_text(ncid, *varid, "long_name", long_name, path, name, st);
 }
 
@@ -418,7 +421,7 @@ struct tg_budget_file {
     size_t nbuf;    /* records waiting in the buffer */
     size_t nrec;    /* records written to the file */
     double *buf_time; /* cap, days */
-    double *buf_step; /* cap */
+    int *buf_step;    /* cap */
     double *buf_vals; /* cap*reclen, variable-major: variable v at cap*offset[v],
                          record r of it at + r*width[v] (a ready nc_put_vara block) */
 };
@@ -446,7 +449,7 @@ static tg_code budget_alloc_buffer(tg_budget_file *b, size_t cap, tg_status *st)
 {
     size_t nvals = cap * (size_t)b->reclen;
     double *t = malloc(cap * sizeof *t);
-    double *s = malloc(cap * sizeof *s);
+    int *s = malloc(cap * sizeof *s);
     double *v = malloc((nvals ? nvals : 1) * sizeof *v);
     if (!t || !s || !v) {
         free(t);
@@ -541,9 +544,8 @@ tg_budget_file *tg_budget_create(const char *path, const tg_nc_grid *g, const tg
            "time");
     if ((code = tg_nc_time_atts(ncid, b->v_time, path, st)))
         goto fail;
-    /* Classic files have no 64-bit integer type; a double holds step counts
-     * exactly up to 2^53. */
-    NC_TRY(nc_def_var(ncid, "step", NC_DOUBLE, 1, &d_time, &b->v_step), "defining the variable",
+    /* Classic files have no 64-bit integer type: NC_INT, up to TG_NC_STEP_MAX. */
+    NC_TRY(nc_def_var(ncid, "step", NC_INT, 1, &d_time, &b->v_step), "defining the variable",
            "step");
     if ((code = tg_nc_put_text(ncid, b->v_step, "long_name", "steps taken since day 0", path, "step",
                          st)) ||
@@ -612,7 +614,7 @@ tg_code tg_budget_flush(tg_budget_file *b, tg_status *st)
     size_t count[2] = {b->nbuf, 0};
     NC_TRY(nc_put_vara_double(b->ncid, b->v_time, start, count, b->buf_time), "writing records",
            "time");
-    NC_TRY(nc_put_vara_double(b->ncid, b->v_step, start, count, b->buf_step), "writing records",
+    NC_TRY(nc_put_vara_int(b->ncid, b->v_step, start, count, b->buf_step), "writing records",
            "step");
     for (int v = 0; v < b->nvars; v++) {
         count[1] = (size_t)b->width[v];
@@ -633,12 +635,15 @@ tg_code tg_budget_append(tg_budget_file *b, double time_s, long step, const doub
 {
     if (!b || (b->reclen > 0 && !values))
         return tg_fail(st, TG_ERR_INTERNAL, "budget append: missing file handle or values");
+    if (step < 0 || step > TG_NC_STEP_MAX)
+        return tg_fail(st, TG_ERR_INTERNAL, "%s: step %ld does not fit the file's step variable "
+                       "(at most %ld)", b->path, step, TG_NC_STEP_MAX);
     tg_code code;
     if (b->nbuf == b->cap && (code = tg_budget_flush(b, st))) /* an earlier flush failed */
         return code;
     size_t r = b->nbuf;
     b->buf_time[r] = time_s / TG_SECONDS_PER_DAY;
-    b->buf_step[r] = (double)step;
+    b->buf_step[r] = (int)step;
     for (int v = 0; v < b->nvars; v++) {
         double *dst = b->buf_vals + b->cap * (size_t)b->offset[v] + r * (size_t)b->width[v];
         memcpy(dst, values + b->offset[v], (size_t)b->width[v] * sizeof *dst);
@@ -697,6 +702,9 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
     memcpy(path, final_path, plen);
     memcpy(path + plen, ".tmp", 5);
 
+    if (c->step < 0 || c->step > TG_NC_STEP_MAX)
+        return tg_fail(st, TG_ERR_INTERNAL, "%s: step %ld does not fit the file's step variable "
+                       "(at most %ld)", final_path, c->step, TG_NC_STEP_MAX);
     int ncid = -1, created = 0;
     tg_nc_grid_ids ids;
     int v_time, v_secs, v_step, v_psi, v_q;
@@ -717,7 +725,7 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
         (code = tg_nc_put_text(ncid, v_secs, "long_name", "model time in seconds since day 0", path,
                          "time_seconds", st)))
         goto fail;
-    NC_TRY(nc_def_var(ncid, "step", NC_DOUBLE, 0, NULL, &v_step), "defining the variable", "step");
+    NC_TRY(nc_def_var(ncid, "step", NC_INT, 0, NULL, &v_step), "defining the variable", "step");
     if ((code = tg_nc_put_text(ncid, v_step, "long_name", "steps taken since day 0", path, "step", st)) ||
         (code = tg_nc_put_text(ncid, v_step, "units", "1", path, "step", st)))
         goto fail;
@@ -743,10 +751,10 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
     if ((code = tg_nc_put_grid(ncid, path, g, &ids, st)))
         goto fail;
     double days = c->time_s / TG_SECONDS_PER_DAY;
-    double step = (double)c->step;
+    const int step = (int)c->step;
     NC_TRY(nc_put_var_double(ncid, v_time, &days), "writing the data", "time");
     NC_TRY(nc_put_var_double(ncid, v_secs, &c->time_s), "writing the data", "time_seconds");
-    NC_TRY(nc_put_var_double(ncid, v_step, &step), "writing the data", "step");
+    NC_TRY(nc_put_var_int(ncid, v_step, &step), "writing the data", "step");
     NC_TRY(nc_put_var_double(ncid, v_psi, c->psi), "writing the data", "psi");
     NC_TRY(nc_put_var_double(ncid, v_q, c->q), "writing the data", "q");
     for (int e = 0; e < c->nextra; e++)

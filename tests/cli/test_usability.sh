@@ -170,6 +170,32 @@ tg run basin.ini --out rb
 [ "$rc" -eq 0 ] && has "energy" "$T/err" && ! has "mean flow" "$T/err" && has "wind " "$T/err"
 check "a basin run's summary line has no mean flow term" $? "$(err_tail)"
 
+# NetCDF: the index coordinates have units "1" (CF), step is an integer.
+tg run "$TG_SRCDIR/tests/cli/configs/small33.ini" --out r2 --set time.duration_days=1 --quiet
+cat >nc.py <<'EOP'
+import sys, netCDF4
+bad = []
+for f in ("fields.nc", "budget.nc", "checkpoint.nc"):
+    with netCDF4.Dataset(sys.argv[1] + "/" + f) as d:
+        for c in ("layer", "interface"):
+            if c in d.variables and getattr(d.variables[c], "units", None) != "1":
+                bad.append(f"{f}: {c} has units {getattr(d.variables[c], 'units', None)!r}")
+        if "step" in d.variables and d.variables["step"].dtype.kind != "i":
+            bad.append(f"{f}: step is {d.variables['step'].dtype}")
+        if f == "budget.nc" and int(d.variables["step"][-1]) != 24:
+            bad.append(f"{f}: last step {d.variables['step'][-1]}, not 24")
+print("; ".join(bad) if bad else "fine")
+sys.exit(1 if bad else 0)
+EOP
+[ "$rc" -eq 0 ] && py nc.py r2
+check "layer and interface have units 1; step is an integer (fields, budget, checkpoint)" $? \
+    "$(cat "$T/py" 2>/dev/null)" "$(err_tail)"
+tg run "$TG_SRCDIR/tests/cli/configs/small33.ini" --out r3 --set time.duration_days=1e6 \
+    --set time.step_s=10
+[ "$rc" -eq 2 ] && has "the output files count at most 2147483647" "$T/err" && [ ! -e r3 ]
+check "a run longer than the files' step count is a config error, nothing written" $? \
+    "$(err_tail)"
+
 # ---------------------------------------------------------------- sweeps
 # [common] overrides every member without entering its name; --list shows
 # the members without running them; sweep.lock goes after a clean finish.
