@@ -10,6 +10,7 @@
 
 #include "config.h"
 #include "run.h"
+#include "scales.h"
 #include "status.h"
 
 /* Options every command that takes a config accepts. */
@@ -126,6 +127,13 @@ void cli_help_global(FILE *f);
 int cli_help_command(const char *command, FILE *f);
 int cli_help_known(const char *command);
 void cli_help_man(FILE *f);
+
+/* describe_twin.c: warnings about risky settings of one grid (stdout,
+ * "; warning (GRID): ..."), and a twin config's phases and both grids'
+ * scales (print_scales prints one grid's; returns the exit status). */
+void describe_warnings(const tg_config *cfg, const tg_scales *s, const char *grid);
+int describe_twin(const tg_config *cfg, const char *origin,
+                  void (*print_scales)(const tg_config *, const tg_scales *));
 
 int cmd_run(int argc, char **argv);
 int cmd_describe(int argc, char **argv);

@@ -455,48 +455,6 @@ tg_code tg_sweep_member_config(const tg_sweep *sw, int k, tg_config *cfg, tg_sta
 
 /* ---------------------------------------------------------------- loading */
 
-/* The [twin] section of a resolved config (its lines up to the next
- * section), malloc'ed; NULL when out of memory. */
-static char *twin_section_text(const tg_config *cfg)
-{
-    char *ini = tg_config_to_ini(cfg);
-    if (!ini)
-        return NULL;
-    char *b = strstr(ini, "\n[twin]\n");
-    if (!b) {
-        ini[0] = '\0';
-        return ini;
-    }
-    b += 1;
-    char *e = strstr(b + 1, "\n[");
-    size_t n = e ? (size_t)(e - b) : strlen(b);
-    memmove(ini, b, n);
-    ini[n] = '\0';
-    return ini;
-}
-
-/* kind = auto: a twin when the base config has [twin.reference] or
- * [twin.coarse] entries, or a [twin] key whose value differs from its
- * default. A key merely present with its default value does not count:
- * every resolved config (a member's config.ini, the resolved_config of
- * fields.nc) lists the whole [twin] section. 1: twin, 0: run, -1: no
- * memory. */
-static int base_is_twin(const tg_config *cfg)
-{
-    if (cfg->ntwin_raw > 0)
-        return 1;
-    tg_config *def = malloc(sizeof *def);
-    if (!def)
-        return -1;
-    tg_config_defaults(def);
-    char *a = twin_section_text(cfg), *b = twin_section_text(def);
-    int r = (!a || !b) ? -1 : strcmp(a, b) != 0;
-    free(a);
-    free(b);
-    free(def);
-    return r;
-}
-
 /* Every [vary] key must take at least one of its values; base is the base
  * config as loaded (defaults -> base file). */
 static tg_code check_keys(const tg_sweep *sw, const tg_config *base, tg_status *st)
@@ -701,7 +659,7 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
         }
     if (rc == TG_OK) {
         if (c->kind[0] == '\0' || !strcmp(c->kind, "auto")) {
-            int twin = base_is_twin(base);
+            int twin = tg_twin_config_is_twin(base);
             if (twin < 0)
                 rc = tg_fail(st, TG_ERR_NOMEM, "out of memory reading the base config %s",
                              sw->base);

@@ -155,6 +155,42 @@ static tg_code entry_label(const tg_config *coarse, const char *use, const char 
     return rc;
 }
 
+/* The [twin] section of a resolved config (its lines up to the next
+ * section), malloc'ed; NULL when out of memory. */
+static char *twin_section_text(const tg_config *cfg)
+{
+    char *ini = tg_config_to_ini(cfg);
+    if (!ini)
+        return NULL;
+    char *b = strstr(ini, "\n[twin]\n");
+    if (!b) {
+        ini[0] = '\0';
+        return ini;
+    }
+    b += 1;
+    char *e = strstr(b + 1, "\n[");
+    size_t n = e ? (size_t)(e - b) : strlen(b);
+    memmove(ini, b, n);
+    ini[n] = '\0';
+    return ini;
+}
+
+int tg_twin_config_is_twin(const tg_config *cfg)
+{
+    if (cfg->ntwin_raw > 0)
+        return 1;
+    tg_config *def = malloc(sizeof *def);
+    if (!def)
+        return -1;
+    tg_config_defaults(def);
+    char *a = twin_section_text(cfg), *b = twin_section_text(def);
+    int r = (!a || !b) ? -1 : strcmp(a, b) != 0;
+    free(a);
+    free(b);
+    free(def);
+    return r;
+}
+
 tg_code tg_twin_coarse_config(const tg_config *cfg, const char *origin, tg_config *out,
                               tg_status *st)
 {

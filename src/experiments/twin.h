@@ -60,6 +60,14 @@ typedef struct {
  * [twin] rules, the reference and coarse configs, every compared closure. */
 tg_code tg_twin_check(const tg_config *cfg, const char *origin, tg_status *st);
 
+/* Whether cfg describes a twin (sweep's kind = auto, describe): it has
+ * [twin.reference] or [twin.coarse] entries, or a [twin] key whose value
+ * differs from its default. A key merely present with its default value
+ * does not count: every resolved config (a member's config.ini, the
+ * resolved_config of fields.nc) lists the whole [twin] section. 1: twin,
+ * 0: run, -1: no memory. */
+int tg_twin_config_is_twin(const tg_config *cfg);
+
 /* The config of the twin's coarse runs before a closure is chosen: cfg's
  * [twin.coarse] overrides applied (tg_config_twin_derive), the window's
  * length, a snapshot at every sample, a rest start (the starting state is

@@ -71,6 +71,27 @@ cols=$(grep -E '^  \[' "$T/out" | awk '{ print index($0, " default ") }' | sort 
 check "the closures table's columns line up" $? "$cols different columns" \
     "$(grep -E '^  \[' "$T/out" | head -5)"
 
+# ---------------------------------------------------------------- describe
+tg describe "$TG_SRCDIR/configs/twin-demo.ini"
+[ "$rc" -eq 0 ] && has "1. reference spin-up" "$T/out" && has "21600 steps of 2160 s" "$T/out" &&
+    has "4320 steps of 3600 s (33 points)" "$T/out" &&
+    has "; derived scales of the coarse grid" "$T/out" && ! grep -qE '^;   steps ' "$T/out"
+check "describe of a twin config shows its phases, step counts and the coarse grid" $? \
+    "$(grep '^;' "$T/out" | tail -30)" "$(err_tail)"
+small=$TG_SRCDIR/tests/cli/configs/small33.ini
+tg describe "$small" --set dissipation.viscosity_m2_per_s=5000
+[ "$rc" -eq 0 ] && ! has "warning" "$T/out"
+check "describe of a sound config warns about nothing" $? "$(grep warning "$T/out")"
+tg describe "$small" --set time.step_s=40000 --set time.duration_days=40000
+[ "$rc" -eq 0 ] && has "a current of 1 m/s gives CFL" "$T/out" && has "above max_cfl 1" "$T/out"
+check "describe warns about a CFL above max_cfl at 1 m/s" $? "$(grep warning "$T/out")" "$(err_tail)"
+tg describe "$small" --set dissipation.viscosity_m2_per_s=10
+[ "$rc" -eq 0 ] && has "the Munk layer" "$T/out" && has "grid spacings; below about 2" "$T/out"
+check "describe warns about a Munk layer under 2 grid spacings" $? "$(grep warning "$T/out")"
+tg describe "$small" --set dissipation.viscosity_m2_per_s=1e6
+[ "$rc" -eq 0 ] && has "above the explicit stability limit of the harmonic viscosity" "$T/out"
+check "describe warns about a step above the diffusive limit" $? "$(grep warning "$T/out")"
+
 # ---------------------------------------------------------------- logs
 # One layer, 33 points over 1280 km (dx = 40 km), short spin-up and window.
 base() {
