@@ -404,7 +404,8 @@ static char *config_text(const twin_ctx *c)
 static tg_code outputs_free(const twin_ctx *c, tg_status *st)
 {
     char path[TG_PATH_LEN + 256];
-    const char *top[] = {"subgrid.nc", "skill.json", "skill.csv", "reference/budget.nc"};
+    const char *top[] = {"subgrid.nc", "skill.json", "skill.csv", "reference/budget.nc",
+                         "reference/fields.nc"};
     for (size_t i = 0; i < sizeof top / sizeof top[0]; i++) {
         snprintf(path, sizeof path, "%s/%s", c->dir, top[i]);
         if (access(path, F_OK) == 0)
@@ -476,6 +477,7 @@ typedef struct {
     tg_spectrum *spec;
     tg_record_file *sub;        /* subgrid.nc */
     tg_budget_file *bud;        /* reference/budget.nc */
+    tg_fields_file *ff;         /* reference/fields.nc ([twin] reference_fields = yes), or NULL */
     tg_budget_layout lay;
     tg_nc_grid fine_grid, coarse_grid;
     double *fine_psi, *fine_q;  /* fine output layout, nl*nout_f^2 */
@@ -561,6 +563,12 @@ static tg_code sample(ref_ctx *r, double window_time_s, int first, tg_status *st
         data[v] = r->out[v];
     if ((rc = tg_record_file_append(r->sub, window_time_s, data, r->spec_out, st)) != TG_OK)
         return rc;
+    if (r->ff) {
+        tg_model_pack(m, m->psi, r->fine_psi);
+        tg_model_pack(m, m->q, r->fine_q);
+        if ((rc = tg_fields_append(r->ff, m->time_s, r->fine_psi, r->fine_q, NULL, st)) != TG_OK)
+            return rc;
+    }
     if (first) {
         char path[TG_PATH_LEN + 32];
         snprintf(path, sizeof path, "%s/coarse_start.nc", r->c->dir);
@@ -723,6 +731,13 @@ static tg_code run_reference(twin_ctx *c, const tg_twin_options *opt, int nphase
         rc = st->code ? st->code : TG_ERR_IO;
         goto done;
     }
+    if (c->base.twin_reference_fields) {
+        snprintf(path, sizeof path, "%s/reference/fields.nc", c->dir);
+        if (!(r.ff = tg_fields_create(path, &r.fine_grid, NULL, st))) {
+            rc = st->code ? st->code : TG_ERR_IO;
+            goto done;
+        }
+    }
 
     tg_diag before, after;
     tg_term_rates rates;
@@ -807,6 +822,13 @@ done:
         tg_status s2;
         tg_status_clear(&s2);
         tg_code r2 = tg_record_file_close(r.sub, rc == TG_OK ? st : &s2);
+        if (rc == TG_OK)
+            rc = r2;
+    }
+    if (r.ff) {
+        tg_status s2;
+        tg_status_clear(&s2);
+        tg_code r2 = tg_fields_close(r.ff, rc == TG_OK ? st : &s2);
         if (rc == TG_OK)
             rc = r2;
     }

@@ -93,6 +93,8 @@ static void put_wind(tg_config *c, int v) { c->wind_profile = (tg_wind_kind)v; }
 static const char *const yes_no_names[] = {"no", "yes", NULL};
 static int get_vet_finer(const tg_config *c) { return c->vet_finer_grid != 0; }
 static void put_vet_finer(tg_config *c, int v) { c->vet_finer_grid = v; }
+static int get_twin_ref_fields(const tg_config *c) { return c->twin_reference_fields != 0; }
+static void put_twin_ref_fields(tg_config *c, int v) { c->twin_reference_fields = v; }
 static int get_twin_filter(const tg_config *c) { return (int)c->twin_filter; }
 static void put_twin_filter(tg_config *c, int v) { c->twin_filter = (tg_twin_filter)v; }
 
@@ -108,7 +110,7 @@ enum {
     K_INITIAL_STATE, K_NOISE, K_SEED,
     K_OUT_DIRECTORY, K_SNAPSHOT_EVERY, K_CHECKPOINT_EVERY, K_LOG_EVERY,
     K_TWIN_REF_POINTS, K_TWIN_COARSE_POINTS, K_TWIN_SPINUP, K_TWIN_ANALYSIS, K_TWIN_SAMPLE,
-    K_TWIN_COMPARE, K_TWIN_MEMBERS, K_TWIN_FILTER, K_TWIN_WIDTH,
+    K_TWIN_COMPARE, K_TWIN_MEMBERS, K_TWIN_FILTER, K_TWIN_WIDTH, K_TWIN_REF_FIELDS,
     K_VET_REFERENCE, K_VET_SPINUP, K_VET_WINDOW, K_VET_STEP_FACTORS, K_VET_MULTIPLIERS,
     K_VET_KRYLOV, K_VET_GROWTH, K_VET_NOISE, K_VET_MARGIN, K_VET_FINER,
     K_COUNT
@@ -322,6 +324,12 @@ static const key_row rows[K_COUNT] = {
                  "Gaussian filter width in coarse grid spacings (filter = gaussian only)"},
         .kind = V_REAL, .off = OFF(twin_filter_width_factor), .lo_kind = B_EXCL, .lo = 0.0,
         .hi_kind = B_INCL, .hi = 16.0, .expect = "a real number > 0 and at most 16"},
+    [K_TWIN_REF_FIELDS] = {
+        .info = {"twin", "reference_fields", "", "choice", "no", "yes, no",
+                 "yes: the reference also writes its fine-grid psi and q at every sample to "
+                 "reference/fields.nc"},
+        .kind = V_CHOICE, .choices = yes_no_names, .get = get_twin_ref_fields,
+        .put = put_twin_ref_fields, .expect = "one of yes, no"},
 
     /* [vet]: read by `twingyre vet` only (vet.h) */
     [K_VET_REFERENCE] = {
