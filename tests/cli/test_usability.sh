@@ -40,6 +40,8 @@ tg --help
 n=$(grep -cE '^  (run|describe|closures|twin|fit|vet|sweep) ' "$T/out")
 [ "$rc" -eq 0 ] && [ "$n" -eq 7 ] && ! has "--chunk-samples" "$T/out"
 check "the global help lists the 7 commands one line each" $? "$(cat "$T/out")"
+has "fit's --out is the one file it writes" "$T/out" && has "except in sweep" "$T/out"
+check "the global help states the --out and --threads rules and their exceptions" $?
 tg help-man
 has ".TH TWINGYRE 1" "$T/out" && has ".SS twingyre vet" "$T/out" &&
     has "\\-\\-chunk\\-samples" "$T/out"
