@@ -96,60 +96,23 @@ check "describe warns about a step above the diffusive limit" $? "$(grep warning
 
 # ---------------------------------------------------------------- logs
 # One layer, 33 points over 1280 km (dx = 40 km), short spin-up and window.
-base() {
-    cat <<'EOC'
-[grid]
-geometry = basin
-size_km = 1280
-points = 33
-
-[layers]
-thickness_m = 4000
-reduced_gravity_m_s2 =
-
-[wind]
-stress_amplitude_pa = 0.05
-
-[dissipation]
-viscosity_m2_per_s = 200
-
-[time]
-step_s = 3600
-max_cfl = 0.8
-duration_days = 2
-
-[initial]
-state = noise
-noise_amplitude_m2_per_s = 100
-seed = 5
-
-[output]
-log_every_days = 1
-EOC
+base() { one_layer_basin; }
+# vet_config USE [LINES...]: the base with [closure] use = USE, the given
+# lines and a short [vet] battery (one step factor, one multiplier).
+vet_config() {
+    base
+    printf '\n[closure]\nuse = %s\n' "$1"
+    shift
+    printf '%s\n' "$@"
+    printf '\n[vet]\nspinup_days = 4\nwindow_days = 2\nstep_factors = 2\nmultipliers = 2\n'
+    printf 'finer_grid = no\n'
 }
 cat >coef.txt <<'EOC'
 # units: coefficient in s-2 per term unit
 1 lap_zeta 50
 1 lap2_zeta -1e9
 EOC
-{
-    base
-    cat <<'EOC'
-
-[closure]
-use = coefficients
-
-[coefficients]
-file = coef.txt
-
-[vet]
-spinup_days = 4
-window_days = 2
-step_factors = 2
-multipliers = 2
-finer_grid = no
-EOC
-} >coef.ini
+vet_config coefficients '' '[coefficients]' 'file = coef.txt' >coef.ini
 tg vet coef.ini --out vc
 n=$(grep -c "coefficients: layer 1 lap_zeta" "$T/err")
 [ "$rc" -eq 0 ] && [ "$n" -eq 1 ]
@@ -157,21 +120,7 @@ check "vet says a coefficients file's lines once, not once per online run" $? \
     "$n times" "$(err_tail)"
 ! has "noise frozen" "$T/out" && ! grep -q stochastic_noise vc/vet.json
 check "vet of a closure without noise says nothing about frozen noise" $? "$(tail -5 "$T/out")"
-{
-    base
-    cat <<'EOC'
-
-[closure]
-use = stochastic_additive
-
-[vet]
-spinup_days = 4
-window_days = 2
-step_factors = 2
-multipliers = 2
-finer_grid = no
-EOC
-} >stoch.ini
+vet_config stochastic_additive >stoch.ini
 tg vet stoch.ini --out vs
 has "noise frozen" "$T/out" && grep -q stochastic_noise vs/vet.json
 check "vet of a stochastic closure says its noise was frozen" $? "$(err_tail)"
@@ -189,7 +138,7 @@ online=$(grep "online run at the configured step" "$T/out")
 check "vet of a closure unstable even at x0.5 says so, with figures in every failed row" $? \
     "exit $rc" "$row" "$online"
 base >basin.ini
-tg run basin.ini --out rb
+tg run basin.ini --out rb --set time.duration_days=2 --set output.log_every_days=1
 [ "$rc" -eq 0 ] && has "energy" "$T/err" && ! has "mean flow" "$T/err" && has "wind " "$T/err"
 check "a basin run's summary line has no mean flow term" $? "$(err_tail)"
 

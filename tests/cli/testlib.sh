@@ -35,6 +35,8 @@
 #   dir_state DIR   names and checksums of every file in DIR (or "absent")
 #   small_basin POINTS [VISCOSITY [STEP_S]]   the start of the small invented
 #                   basin config the twin, fit and sweep tests share
+#   one_layer_basin the one-layer 33-point basin of the vet and usability
+#                   tests
 #
 # Part of twingyre. GPL-3.0-or-later.
 
@@ -180,5 +182,37 @@ viscosity_m2_per_s = ${2:-300}
 
 [time]
 step_s = ${3:-3600}
+EOF
+}
+
+# one_layer_basin: one layer, 33 points over 1280 km (dx = 40 km), a weak
+# double-gyre wind, viscosity 200 m2 s-1, a 3600 s step, max_cfl 0.8 and a
+# noise start (seed 5): a config small enough for the vet battery in
+# seconds.
+one_layer_basin() {
+    cat <<'EOF'
+[grid]
+geometry = basin
+size_km = 1280
+points = 33
+
+[layers]
+thickness_m = 4000
+reduced_gravity_m_s2 =
+
+[wind]
+stress_amplitude_pa = 0.05
+
+[dissipation]
+viscosity_m2_per_s = 200
+
+[time]
+step_s = 3600
+max_cfl = 0.8
+
+[initial]
+state = noise
+noise_amplitude_m2_per_s = 100
+seed = 5
 EOF
 }
