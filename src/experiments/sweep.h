@@ -11,9 +11,8 @@
  * `zip` member K takes the K-th value of every key; the seeds and members
  * axes are always crossed with that, seeds before members, members fastest.
  * Each member runs the base config with the [common] overrides, then one
- * --set override per varied key
- * into DIRECTORY/NAME/, NAME derived from its values (tg_sweep_load
- * documents the rule).
+ * --set override per varied key, into DIRECTORY/NAME/, NAME derived from
+ * its values (tg_sweep_load documents the rule).
  *
  * Rooms: sweep.c (file, members, configs), sweep_member.c (one member and
  * its status file), sweep_collect.c (sweep.csv, sweep.json),

@@ -440,7 +440,8 @@ static tg_code setup_runs(twin_ctx *c, tg_status *st)
             cl->model = tg_model_create(&c->clos_cfg[i], st);
             if (!cl->model)
                 return st->code ? st->code : TG_ERR_INTERNAL;
-            if ((rc = tg_model_closures_stochastic(cl->model, &c->clos_cfg[i], &cl->stochastic, st)) != TG_OK)
+            if ((rc = tg_model_closures_stochastic(cl->model, &c->clos_cfg[i], &cl->stochastic,
+                                                   st)) != TG_OK)
                 return rc;
         }
         const int members = cl->stochastic ? c->base.twin_members : 1;

@@ -590,13 +590,14 @@ static tg_code read_lines(FILE *f, const char *path, int nlayers, tg_coef_list *
         int merged = 0;
         for (int i = 0; i < list->n && !merged; i++) {
             tg_coef_entry *o = &list->e[i];
-            if (o->term == e.term && o->layer == e.layer && (renamed || o->renamed)) {
+            if (o->term == e.term && o->layer == e.layer &&
+                ((renamed && o->renamed == 0) || (!renamed && o->renamed == 1))) {
                 o->mean += e.mean;
                 o->std = (o->std < 0.0 && e.std < 0.0)
                              ? -1.0
                              : sqrt(fmax(o->std, 0.0) * fmax(o->std, 0.0) +
                                     fmax(e.std, 0.0) * fmax(e.std, 0.0));
-                o->renamed = 0;
+                o->renamed = 2; /* a third line for the pair is a duplicate */
                 merged = 1;
             }
         }

@@ -113,7 +113,8 @@ typedef struct {
     double mean;    /* the coefficient as written */
     double std;     /* its standard deviation; -1 when not given */
     int line;       /* line in the file */
-    int renamed;    /* given under the former name curl_div_gradu_gradu */
+    int renamed;    /* 1: given under the former name curl_div_gradu_gradu; 2: merged
+                       with the curl_div_zeta_deform line of the same layer; 0 otherwise */
 } tg_coef_entry;
 
 typedef struct {

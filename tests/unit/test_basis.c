@@ -575,6 +575,16 @@ START_TEST(test_renamed_term)
     ck_assert(fabs(list.e[1].mean + 3.0) < 1e-15);
     ck_assert(list.e[1].std < 0.0);
     tg_coef_list_free(&list);
+    /* The former name twice for one layer is a duplicate like any other. */
+    strcpy(path, "/tmp/test_basis_renamed.XXXXXX");
+    fd = mkstemp(path);
+    ck_assert_int_ge(fd, 0);
+    f = fdopen(fd, "w");
+    fprintf(f, "%s\n1 curl_div_gradu_gradu 4\n1 curl_div_gradu_gradu 2\n", TG_BASIS_UNITS_LINE);
+    fclose(f);
+    ck_assert_int_eq(tg_coef_read(path, 2, &list, &st), TG_ERR_CONFIG);
+    ck_assert_ptr_nonnull(strstr(st.msg, "already given at line 2"));
+    remove(path);
 }
 END_TEST
 
