@@ -202,6 +202,8 @@ EOP
 [ "$rc" -eq 0 ] && py ref.py tref/reference/fields.nc
 check "[twin] reference_fields = yes writes the reference's psi and q at every sample" $? \
     "$(cat "$T/py" 2>/dev/null)" "$(err_tail)"
+grep -q "^none " "$T/out" && ! grep -q -- "-0\.000" "$T/out"
+check "the twin's skill table prints no -0.000 (the offline R2 of none)" $? "$(cat "$T/out")"
 
 # ---------------------------------------------------------------- sweeps
 # [common] overrides every member without entering its name; --list shows
