@@ -30,6 +30,13 @@ typedef struct {
     const char *slurm_script; /* --slurm-script FILE (sweep), NULL when not given */
 } cli_opts;
 
+/* Makes waiting OpenMP threads sleep instead of spinning unless the user's
+ * environment sets OMP_WAIT_POLICY or GOMP_SPINCOUNT: sets
+ * OMP_WAIT_POLICY=passive and executes the program again with argv
+ * (wait_policy.c says why). Call first thing in main; returns when nothing
+ * was to be done or the new start failed. */
+void cli_wait_policy(char **argv);
+
 /* Parses argv[first..] into o. Unknown options are a usage error (message in
  * st). `allow` is a string of the option names this command takes, e.g.
  * "set out quiet overwrite threads". The one file argument is the config. */
@@ -42,11 +49,12 @@ tg_code cli_parse_for(int argc, char **argv, int first, const char *allow, const
                       cli_opts *o, tg_status *st);
 
 /* defaults -> file -> each --set -> --out (and --member), without the
- * cross-key checks: for a command that makes checks of its own (twin). */
+ * checks: for a command whose library entry validates (twin, vet). */
 tg_code cli_read_config(const cli_opts *o, tg_config *cfg, tg_status *st);
 
-/* cli_read_config, then the cross-key checks (tg_config_check). */
-tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st);
+/* cli_read_config, then the one validation (tg_config_validate) for
+ * `uses` (a TG_USE_ mask; 0: the uses the config shows, for describe). */
+tg_code cli_load_config(const cli_opts *o, unsigned uses, tg_config *cfg, tg_status *st);
 
 /* Joins argv into one string (for the files' attributes); malloc'ed. */
 char *cli_command_line(int argc, char **argv);

@@ -4,7 +4,6 @@
 #include <stdlib.h>
 
 #include "scales.h"
-#include "twin.h"
 #include "cli.h"
 
 static void width_line(const char *what, double w, double dx)
@@ -56,7 +55,7 @@ int cmd_describe(int argc, char **argv)
     tg_config cfg;
     tg_set_log(cli_log_to_stderr, NULL);
     if (cli_parse(argc, argv, 2, "set out member", &o, &st) != TG_OK ||
-        cli_load_config(&o, &cfg, &st) != TG_OK) {
+        cli_load_config(&o, 0, &cfg, &st) != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         return cli_exit_code(st.code);
     }
@@ -72,7 +71,7 @@ int cmd_describe(int argc, char **argv)
     }
     printf("; resolved config of %s\n%s\n", o.config_path, ini);
     free(ini);
-    if (tg_twin_config_is_twin(&cfg) > 0)
+    if (tg_config_uses(&cfg) & TG_USE_TWIN)
         return describe_twin(&cfg, o.config_path, print_scales);
     printf("; derived scales\n");
     print_scales(&cfg, &s);

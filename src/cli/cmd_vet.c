@@ -62,8 +62,9 @@ int cmd_vet(int argc, char **argv)
      * coefficients file's terms, ...) are said once. */
     cli_seen_lines seen = {0};
     tg_set_log(cli_log_once, &seen);
+    /* Not cli_load_config: tg_vet_run validates (tg_vet_validate). */
     if (rc == TG_OK)
-        rc = cli_load_config(&o, cfg, &st);
+        rc = cli_read_config(&o, cfg, &st);
     if (rc != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         free(cfg);

@@ -11,7 +11,6 @@
 
 #include "constants.h"
 #include "scales.h"
-#include "twin.h"
 #include "cli.h"
 
 /* The speed of a western boundary current or an eddying jet, the stated
@@ -81,9 +80,9 @@ int describe_twin(const tg_config *cfg, const char *origin,
     tg_scales sr, sc;
     tg_code rc = ref && coarse ? TG_OK : tg_fail(&st, TG_ERR_NOMEM, "out of memory");
     if (rc == TG_OK)
-        rc = tg_config_twin_derive(cfg, 0, origin, ref, &st);
+        rc = tg_config_twin_reference(cfg, origin, ref, &st);
     if (rc == TG_OK)
-        rc = tg_twin_coarse_config(cfg, origin, coarse, &st);
+        rc = tg_config_twin_coarse(cfg, origin, coarse, &st);
     if (rc == TG_OK)
         rc = tg_scales_compute(ref, &sr, &st);
     if (rc == TG_OK)

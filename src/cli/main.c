@@ -3,6 +3,7 @@
 #include <string.h>
 
 #include "cli.h"
+#include "twingyre.h"
 
 /* --version */
 #ifndef PACKAGE_VERSION
@@ -11,6 +12,8 @@
 
 int main(int argc, char **argv)
 {
+    cli_wait_policy(argv);
+    tg_init(); /* the closure layer's checks of config settings */
     if (argc < 2) {
         cli_help_global(stderr);
         return 1;

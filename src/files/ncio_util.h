@@ -6,15 +6,10 @@
 #ifndef TG_NCIO_UTIL_H
 #define TG_NCIO_UTIL_H
 
+#include "nccheck.h"
 #include "ncio.h"
 
-/* netCDF return code -> TG_OK, or TG_ERR_IO naming the file, what was being
- * done and (when var is not NULL) the variable. */
-tg_code tg_nc_check(int rc, const char *path, const char *what, const char *var, tg_status *st);
 
-/* A text attribute, checked. */
-tg_code tg_nc_put_text(int ncid, int varid, const char *att, const char *value, const char *path,
-                       const char *varname, tg_status *st);
 
 /* The global attributes every output file carries (Conventions, title,
  * source, history, command_line, resolved_config). */
@@ -43,5 +38,6 @@ tg_code tg_nc_put_grid(int ncid, const char *path, const tg_nc_grid *g, const tg
 tg_code tg_nc_def_spectrum(int ncid, const char *path, const tg_nc_wavenumbers *wn, int d_time,
                            int d_layer, const char *long_name, int *v_k, int *v_spec,
                            tg_status *st);
+
 
 #endif
