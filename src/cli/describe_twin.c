@@ -6,8 +6,10 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include <math.h>
+#include <stdarg.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 
 #include "constants.h"
 #include "scales.h"
@@ -25,6 +27,37 @@
  * 64/dx^4 (common practice). */
 #define RK3_REAL_AXIS 2.51
 
+/* One comment of describe's output, wrapped at 78 columns: "; " then the
+ * text, continuation lines indented, so that the output stays a config
+ * that reads back (its lines have a length limit). */
+static void comment(const char *fmt, ...) __attribute__((format(printf, 1, 2)));
+static void comment(const char *fmt, ...)
+{
+    char text[1024];
+    va_list ap;
+    va_start(ap, fmt);
+    vsnprintf(text, sizeof text, fmt, ap);
+    va_end(ap);
+    const char *p = text;
+    int first = 1;
+    while (*p) {
+        const int room = first ? 76 : 72;
+        size_t n = strlen(p);
+        if ((int)n > room) {
+            n = (size_t)room;
+            while (n > 0 && p[n] != ' ')
+                n--;
+            if (n == 0)
+                n = (size_t)room;
+        }
+        printf("%s%.*s\n", first ? "; " : ";     ", (int)n, p);
+        p += n;
+        while (*p == ' ')
+            p++;
+        first = 0;
+    }
+}
+
 void describe_warnings(const tg_config *cfg, const tg_scales *s, const char *grid)
 {
     const double dx = s->dx_m, dt = cfg->step_s;
@@ -33,15 +66,15 @@ void describe_warnings(const tg_config *cfg, const tg_scales *s, const char *gri
         speed = fmax(speed, 2.0 * fabs(cfg->zonal_velocity_m_s[k]));
     const double cfl = speed * dt / dx;
     if (cfl > cfg->max_cfl)
-        printf("; warning (%s): a current of %.2g m/s gives CFL %.3g, above max_cfl %g: "
+        comment("warning (%s): a current of %.2g m/s gives CFL %.3g, above max_cfl %g: "
                "boundary currents and jets reach about 1 m/s, and the run stops there; a step "
-               "of at most %.0f s keeps it below\n",
+               "of at most %.0f s keeps it below",
                grid, speed, cfl, cfg->max_cfl, cfg->max_cfl * dx / speed);
     if (!s->periodic && isfinite(s->munk_m) && s->munk_m < 2.0 * dx)
-        printf("; warning (%s): the Munk layer (A2/beta)^(1/3) = %.1f km spans %.2f grid "
+        comment("warning (%s): the Munk layer (A2/beta)^(1/3) = %.1f km spans %.2f grid "
                "spacings; below about 2 the western boundary layer is under-resolved (grid-scale "
                "noise at the wall unless a closure damps it; common practice): "
-               "viscosity_m2_per_s >= beta (2 dx)^3 = %.0f m2 s-1, or a finer grid\n",
+               "viscosity_m2_per_s >= beta (2 dx)^3 = %.0f m2 s-1, or a finer grid",
                grid, s->munk_m / 1e3, s->munk_m / dx,
                cfg->beta_per_m_per_s * 8.0 * dx * dx * dx);
     const struct {
@@ -60,8 +93,8 @@ void describe_warnings(const tg_config *cfg, const tg_scales *s, const char *gri
     };
     for (size_t i = 0; i < sizeof diff / sizeof diff[0]; i++)
         if (dt > diff[i].limit)
-            printf("; warning (%s): step_s = %g s is above the explicit stability limit of the "
-                   "%s = %.0f s; the run will blow up\n",
+            comment("warning (%s): step_s = %g s is above the explicit stability limit of the "
+                   "%s = %.0f s; the run will blow up",
                    grid, dt, diff[i].what, diff[i].limit);
 }
 
@@ -99,15 +132,14 @@ int describe_twin(const tg_config *cfg, const char *origin,
     const long ncoarse = steps_of(cfg->twin_analysis_days, dtc);
     const long nsamples = (long)llround(cfg->twin_analysis_days / cfg->twin_sample_every_days);
     printf("; twin experiment ([time] duration_days is not used: the phases set the lengths)\n");
-    printf(";   %-34s %10.1f days, %ld steps of %g s (%d points)\n", "1. reference spin-up",
-           cfg->twin_spinup_days, nspin, dtr, ref->points);
-    printf(";   %-34s %10.1f days, %ld steps of %g s, %ld samples every %g days\n",
-           "2. reference window", cfg->twin_analysis_days, nwin, dtr, nsamples,
-           cfg->twin_sample_every_days);
-    printf(";   %-34s %10.1f days, %ld steps of %g s (%d points) for none, %s%s\n",
-           "3. each coarse run", cfg->twin_analysis_days, ncoarse, dtc, coarse->points,
-           cfg->twin_compare[0] ? cfg->twin_compare : "(no closure)",
-           cfg->twin_members > 1 ? "; stochastic closures once per member" : "");
+    comment("  1. reference spin-up: %g days, %ld steps of %g s on %d points",
+            cfg->twin_spinup_days, nspin, dtr, ref->points);
+    comment("  2. reference window: %g days, %ld steps of %g s, %ld samples every %g days",
+            cfg->twin_analysis_days, nwin, dtr, nsamples, cfg->twin_sample_every_days);
+    comment("  3. each coarse run: %g days, %ld steps of %g s on %d points, for none, %s%s",
+            cfg->twin_analysis_days, ncoarse, dtc, coarse->points,
+            cfg->twin_compare[0] ? cfg->twin_compare : "(no closure)",
+            cfg->twin_members > 1 ? "; stochastic closures once per member" : "");
     printf("\n; derived scales of the reference grid\n");
     print_scales(ref, &sr);
     describe_warnings(ref, &sr, "reference grid");
