@@ -10,6 +10,7 @@
 
 #include "config.h"
 #include "run.h"
+#include "scales.h"
 #include "status.h"
 
 /* Options every command that takes a config accepts. */
@@ -25,6 +26,7 @@ typedef struct {
     int member_given;      /* --member was given */
     int jobs;              /* --jobs N (sweep); 0 when not given */
     int collect, mpi;      /* --collect, --mpi (sweep) */
+    int list;              /* --list (sweep) */
     const char *slurm_script; /* --slurm-script FILE (sweep), NULL when not given */
 } cli_opts;
 
@@ -68,6 +70,15 @@ void cli_format_duration(double s, double longest, char *buf, size_t n);
 
 /* Log sink writing "twingyre: ..." lines to stderr, aware of the progress line. */
 void cli_log_to_stderr(tg_log_level level, const char *line, void *user);
+
+/* Log sink that passes each distinct line once (then as cli_log_to_stderr):
+ * for commands that set up the same closures or configs many times (sweep,
+ * vet), whose set-up lines would otherwise repeat. user = cli_seen_lines*. */
+typedef struct {
+    int n;
+    unsigned long hash[256];
+} cli_seen_lines;
+void cli_log_once(tg_log_level level, const char *line, void *user);
 
 /* Quiet: the log sink drops information lines (warnings and errors stay).
  * cli_progress_init sets it too. */
@@ -116,6 +127,21 @@ void cli_phase_end(cli_phase_line *d);
 /* Tells the log sink whether a progress line is open on stderr (a line
  * without its newline), so that a log line clears it first. */
 void cli_set_line_open(int open);
+
+/* Help texts (help.c): the global help (one line per command), one
+ * command's help (synopsis, options with defaults, exit statuses, example;
+ * -1 when there is no such command) and the man page in troff. */
+void cli_help_global(FILE *f);
+int cli_help_command(const char *command, FILE *f);
+int cli_help_known(const char *command);
+void cli_help_man(FILE *f);
+
+/* describe_twin.c: warnings about risky settings of one grid (stdout,
+ * "; warning (GRID): ..."), and a twin config's phases and both grids'
+ * scales (print_scales prints one grid's; returns the exit status). */
+void describe_warnings(const tg_config *cfg, const tg_scales *s, const char *grid);
+int describe_twin(const tg_config *cfg, const char *origin,
+                  void (*print_scales)(const tg_config *, const tg_scales *));
 
 int cmd_run(int argc, char **argv);
 int cmd_describe(int argc, char **argv);

@@ -78,6 +78,39 @@ static int print_step_limits(const tg_config *cfg, tg_status *st)
     return 0;
 }
 
+/* The scales of one grid (the steps of duration_days are the caller's). */
+static void print_scales(const tg_config *cfg, const tg_scales *s)
+{
+    printf(";   %-34s %10.3f km\n", "grid spacing", s->dx_m / 1e3);
+    for (int m = 1; m < cfg->nlayers; m++) {
+        char what[64];
+        snprintf(what, sizeof what, "deformation radius, mode %d", m);
+        width_line(what, s->radius_m[m], s->dx_m);
+    }
+    if (!s->periodic) {
+        width_line("Munk layer (A2/beta)^(1/3)", s->munk_m, s->dx_m);
+        width_line("Stommel layer r/beta", s->stommel_m, s->dx_m);
+    }
+    if (s->has_background) {
+        for (int k = 0; k < cfg->nlayers; k++) {
+            char what[64];
+            snprintf(what, sizeof what, "background PV gradient, layer %d", k + 1);
+            printf(";   %-34s %10.3e m-1 s-1\n", what, s->pv_gradient[k]);
+        }
+        printf(";   %-34s %10s\n", "PV gradient changes sign",
+               s->gradient_changes_sign ? "yes" : "no");
+        if (isfinite(s->critical_shear_m_s))
+            printf(";   %-34s %10.4f m s-1  (shear / critical = %.2f)\n",
+                   "critical shear beta g' H/f0^2", s->critical_shear_m_s, s->shear_ratio);
+    }
+    if (isfinite(s->rossby_period_days))
+        printf(";   %-34s %10.2f days\n", "gravest Rossby basin mode period", s->rossby_period_days);
+    printf(";   %-34s %10.3f\n", "CFL at 1 m/s", s->cfl_at_1ms);
+    if (isfinite(s->sverdrup_transport_sv))
+        printf(";   %-34s %10.2f Sv\n", "peak Sverdrup transport", s->sverdrup_transport_sv);
+    printf(";   %-34s %10.1f MB\n", "memory estimate", s->memory_mb);
+}
+
 int cmd_describe(int argc, char **argv)
 {
     tg_status st;
@@ -102,39 +135,15 @@ int cmd_describe(int argc, char **argv)
     }
     printf("; resolved config of %s\n%s\n", o.config_path, ini);
     free(ini);
+    if (tg_config_uses(&cfg) & TG_USE_TWIN)
+        return describe_twin(&cfg, o.config_path, print_scales);
     printf("; derived scales\n");
-    printf(";   %-34s %10.3f km\n", "grid spacing", s.dx_m / 1e3);
-    for (int m = 1; m < cfg.nlayers; m++) {
-        char what[64];
-        snprintf(what, sizeof what, "deformation radius, mode %d", m);
-        width_line(what, s.radius_m[m], s.dx_m);
-    }
-    if (!s.periodic) {
-        width_line("Munk layer (A2/beta)^(1/3)", s.munk_m, s.dx_m);
-        width_line("Stommel layer r/beta", s.stommel_m, s.dx_m);
-    }
-    if (s.has_background) {
-        for (int k = 0; k < cfg.nlayers; k++) {
-            char what[64];
-            snprintf(what, sizeof what, "background PV gradient, layer %d", k + 1);
-            printf(";   %-34s %10.3e m-1 s-1\n", what, s.pv_gradient[k]);
-        }
-        printf(";   %-34s %10s\n", "PV gradient changes sign",
-               s.gradient_changes_sign ? "yes" : "no");
-        if (isfinite(s.critical_shear_m_s))
-            printf(";   %-34s %10.4f m s-1  (shear / critical = %.2f)\n",
-                   "critical shear beta g' H/f0^2", s.critical_shear_m_s, s.shear_ratio);
-    }
-    if (isfinite(s.rossby_period_days))
-        printf(";   %-34s %10.2f days\n", "gravest Rossby basin mode period", s.rossby_period_days);
-    printf(";   %-34s %10.3f\n", "CFL at 1 m/s", s.cfl_at_1ms);
-    if (isfinite(s.sverdrup_transport_sv))
-        printf(";   %-34s %10.2f Sv\n", "peak Sverdrup transport", s.sverdrup_transport_sv);
+    print_scales(&cfg, &s);
     printf(";   %-34s %10ld\n", "steps", s.steps);
-    printf(";   %-34s %10.1f MB\n", "memory estimate", s.memory_mb);
     if (print_step_limits(&cfg, &st) != 0) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         return cli_exit_code(st.code ? st.code : TG_ERR_INTERNAL);
     }
+    describe_warnings(&cfg, &s, "grid");
     return 0;
 }

@@ -55,7 +55,7 @@ static int usage_error(const char *fmt, ...)
     va_start(ap, fmt);
     fprintf(stderr, "twingyre: fit: ");
     vfprintf(stderr, fmt, ap);
-    fprintf(stderr, " (see twingyre --help)\n");
+    fprintf(stderr, " (see twingyre fit --help)\n");
     va_end(ap);
     return cli_exit_code(TG_ERR_USAGE);
 }

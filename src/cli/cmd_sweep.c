@@ -39,41 +39,20 @@ static void follow_parent(void)
         raise(SIGTERM);
 }
 
-/* Log sink that passes each distinct line once: checking every member's
- * config would otherwise repeat the base config's warnings per member. */
-typedef struct {
-    int n;
-    unsigned long hash[256];
-} seen_lines;
-
-static void log_once(tg_log_level level, const char *line, void *user)
-{
-    seen_lines *s = user;
-    unsigned long h = 5381;
-    for (const char *p = line; *p; p++)
-        h = h * 33 + (unsigned char)*p;
-    for (int i = 0; i < s->n; i++)
-        if (s->hash[i] == h)
-            return;
-    if (s->n < 256)
-        s->hash[s->n++] = h;
-    cli_log_to_stderr(level, line, NULL);
-}
-
 /* The options of sweep (cli_parse_for) and their defaults and exclusions;
  * 0 when the command line is usable, else the exit status. */
 static int parse(int argc, char **argv, cli_opts *o)
 {
     tg_status st;
     tg_status_clear(&st);
-    if (cli_parse_for(argc, argv, 2, "jobs threads out quiet member collect slurm-script mpi",
+    if (cli_parse_for(argc, argv, 2, "jobs threads out quiet member collect slurm-script mpi list",
                       "sweep file", o, &st) != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         return cli_exit_code(st.code);
     }
-    if (o->member_given + o->collect + (o->slurm_script != NULL) + o->mpi > 1) {
-        fprintf(stderr, "twingyre: --member, --collect, --slurm-script and --mpi exclude each "
-                        "other\n");
+    if (o->member_given + o->collect + (o->slurm_script != NULL) + o->mpi + o->list > 1) {
+        fprintf(stderr, "twingyre: --member, --collect, --slurm-script, --mpi and --list exclude "
+                        "each other\n");
         return cli_exit_code(TG_ERR_USAGE);
     }
     if (o->jobs == 0)
@@ -112,6 +91,40 @@ static int under_mpirun(void)
            getenv("PMIX_RANK") != NULL;
 }
 
+/* --list: each member's index, name, folder and values, after the [common]
+ * overrides, with the verdict of its resolved config's checks; runs
+ * nothing and writes nothing. */
+static int list_members(const tg_sweep *sw)
+{
+    tg_config *cfg = malloc(sizeof *cfg);
+    if (!cfg) {
+        fprintf(stderr, "twingyre: out of memory\n");
+        return cli_exit_code(TG_ERR_NOMEM);
+    }
+    printf("sweep %s: %d members (%s), base %s, output in %s/\n", sw->path, sw->nmembers,
+           sw->kind == TG_SWEEP_TWIN ? "twins" : "runs", sw->base, sw->directory);
+    for (int i = 0; i < sw->ncommon; i++)
+        printf("  common: %s\n", sw->common[i].set);
+    int refused = 0;
+    for (int k = 0; k < sw->nmembers; k++) {
+        printf("%d %s", k, sw->name[k]);
+        for (int a = 0; a < sw->naxes; a++)
+            printf(" %s=%s", sw->axis[a].key, sw->axis[a].value[tg_sweep_choice(sw, k, a)]);
+        tg_status st;
+        tg_status_clear(&st);
+        if (tg_sweep_member_config(sw, k, cfg, &st) != TG_OK) {
+            printf("  (refused: %s)", st.msg);
+            refused++;
+        }
+        printf("\n");
+    }
+    free(cfg);
+    if (refused)
+        printf("%d of %d members would fail their config checks (exit status 2 each)\n", refused,
+               sw->nmembers);
+    return fflush(stdout) == 0 ? 0 : cli_exit_code(TG_ERR_IO);
+}
+
 static int slurm_script(tg_sweep *sw, const cli_opts *a)
 {
     tg_status st;
@@ -143,8 +156,8 @@ static int slurm_script(tg_sweep *sw, const cli_opts *a)
 
 int cmd_sweep(int argc, char **argv)
 {
-    seen_lines seen = {0};
-    tg_set_log(log_once, &seen);
+    cli_seen_lines seen = {0};
+    tg_set_log(cli_log_once, &seen); /* each member's checks would repeat the base's warnings */
     cli_opts a;
     int prc = parse(argc, argv, &a);
     if (prc != 0)
@@ -168,7 +181,9 @@ int cmd_sweep(int argc, char **argv)
     volatile sig_atomic_t *stop = cli_catch_stop_signals();
 
     int rc = 0;
-    if (a.slurm_script) {
+    if (a.list) {
+        rc = list_members(sw);
+    } else if (a.slurm_script) {
         rc = slurm_script(sw, &a);
     } else if (a.collect) {
         if (tg_sweep_collect(sw, &st) != TG_OK) {

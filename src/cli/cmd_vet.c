@@ -58,6 +58,10 @@ int cmd_vet(int argc, char **argv)
     cli_opts o;
     tg_config *cfg = NULL;
     tg_code rc = cli_begin(argc, argv, "set out quiet overwrite threads member", &o, &cfg, &st);
+    /* Every online run sets the closure up again: its set-up lines (a
+     * coefficients file's terms, ...) are said once. */
+    cli_seen_lines seen = {0};
+    tg_set_log(cli_log_once, &seen);
     /* Not cli_load_config: tg_vet_run validates (tg_vet_validate). */
     if (rc == TG_OK)
         rc = cli_read_config(&o, cfg, &st);

@@ -94,6 +94,8 @@ tg_code cli_parse_for(int argc, char **argv, int first, const char *allow, const
             o->collect = 1;
         } else if (!strcmp(key, "mpi")) {
             o->mpi = 1;
+        } else if (!strcmp(key, "list")) {
+            o->list = 1;
         }
         if (rc != TG_OK)
             return rc;
@@ -142,6 +144,20 @@ tg_code cli_begin(int argc, char **argv, const char *allow, cli_opts *o, tg_conf
     tg_code rc = cli_parse(argc, argv, 2, allow, o, st);
     cli_log_set_quiet(rc == TG_OK ? o->quiet : 0);
     return rc;
+}
+
+void cli_log_once(tg_log_level level, const char *line, void *user)
+{
+    cli_seen_lines *s = user;
+    unsigned long h = 5381;
+    for (const char *p = line; *p; p++)
+        h = h * 33 + (unsigned char)*p;
+    for (int i = 0; i < s->n; i++)
+        if (s->hash[i] == h)
+            return;
+    if (s->n < (int)(sizeof s->hash / sizeof s->hash[0]))
+        s->hash[s->n++] = h;
+    cli_log_to_stderr(level, line, NULL);
 }
 
 char *cli_command_line(int argc, char **argv)

@@ -162,7 +162,14 @@ int sweep_finish(const sweep_ctl *c, int lock, const sweep_progress *pr, int sto
     tg_status st;
     tg_status_clear(&st);
     tg_code crc = tg_sweep_collect(sw, &st);
-    close(lock);
+    /* The lock file is removed while still locked, so a sweep that starts
+     * now makes a fresh one; it held nothing but the lock. */
+    char path[TG_PATH_LEN + 16];
+    snprintf(path, sizeof path, "%s/sweep.lock", sw->directory);
+    if (lock >= 0 && unlink(path) != 0 && errno != ENOENT)
+        tg_log(TG_LOG_WARN, "cannot remove %s: %s", path, strerror(errno));
+    if (lock >= 0)
+        close(lock);
     if (crc != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         return cli_exit_code(st.code);

@@ -215,20 +215,30 @@ static void log_summary(const run_ctx *c)
     const tg_model *m = c->m;
     const tg_diag *d = &c->after;
     const tg_term_rates *r = &c->rates;
-    char z[256] = "", how[96] = "";
+    char z[256] = "", e[256] = "", how[96] = "";
     size_t len = 0;
     for (int k = 0; k < m->nl && len < sizeof z; k++)
         len += (size_t)snprintf(z + len, sizeof z - len, "%s%.4e", k ? " " : "", d->enstrophy[k]);
+    /* The energy rates of the terms this configuration has (a basin has no
+     * mean flow, a config without wind no wind term). */
+    static const struct {
+        int term;
+        const char *name;
+    } shown[] = {{TG_TERM_WIND, "wind"}, {TG_TERM_MEAN_FLOW, "mean flow"},
+                 {TG_TERM_BOTTOM_DRAG, "drag"}, {TG_TERM_VISCOSITY, "viscosity"},
+                 {TG_TERM_CLOSURE, "closure"}};
+    len = 0;
+    for (size_t i = 0; i < sizeof shown / sizeof shown[0] && len < sizeof e; i++)
+        if (m->term_active[shown[i].term])
+            len += (size_t)snprintf(e + len, sizeof e - len, "%s%s %+.3e", len ? ", " : "",
+                                    shown[i].name, r->energy[shown[i].term]);
     if (c->steps.adaptive)
         snprintf(how, sizeof how, ", next step %.4g s (%s)", c->steps.want, c->steps.binding);
     tg_log(TG_LOG_INFO,
-           "day %.2f step %ld: energy %.6e m2 s-2 (wind %+.3e, mean flow %+.3e, drag %+.3e, "
-           "viscosity %+.3e, closure %+.3e m2 s-3), enstrophy [%s] s-2, max CFL %.3f%s, worst "
-           "relative budget residual since last line: energy %.1e, enstrophy %.1e",
-           m->time_s / TG_SECONDS_PER_DAY, m->step, d->energy, r->energy[TG_TERM_WIND],
-           r->energy[TG_TERM_MEAN_FLOW], r->energy[TG_TERM_BOTTOM_DRAG],
-           r->energy[TG_TERM_VISCOSITY], r->energy[TG_TERM_CLOSURE], z, d->max_cfl, how,
-           c->worst_e, c->worst_z);
+           "day %.2f step %ld: energy %.6e m2 s-2 (%s%s), enstrophy [%s] s-2, max CFL %.3f%s, "
+           "worst relative budget residual since last line: energy %.1e, enstrophy %.1e",
+           m->time_s / TG_SECONDS_PER_DAY, m->step, d->energy, len ? e : "no forcing or damping",
+           len ? " m2 s-3" : "", z, d->max_cfl, how, c->worst_e, c->worst_z);
 }
 
 /* 1 when the initial state is this run's own checkpoint.nc (the same file):

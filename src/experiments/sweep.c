@@ -285,13 +285,31 @@ static int on_pair(void *user, const char *section, const char *key, const char 
         c->last_axis = sw->naxes - 1;
         return split_values(c, ax, section, value, 0);
     }
+    if (!strcmp(section, "common")) {
+        if (!strchr(key, '.'))
+            return ctx_fail(c, "[common] %s: expected section.key (e.g. "
+                               "time.duration_days = 30)", key);
+        const size_t kl = strlen(key);
+        for (int i = 0; i < sw->ncommon; i++)
+            if (!strncmp(sw->common[i].set, key, kl) && sw->common[i].set[kl] == '=')
+                return ctx_fail(c, "[common] %s is given twice (first at line %d)", key,
+                                sw->common[i].line);
+        if (sw->ncommon >= TG_SWEEP_MAX_COMMON)
+            return ctx_fail(c, "[common]: more than %d keys", TG_SWEEP_MAX_COMMON);
+        tg_sweep_common *cm = &sw->common[sw->ncommon];
+        if (snprintf(cm->set, sizeof cm->set, "%s=%s", key, value) >= (int)sizeof cm->set)
+            return ctx_fail(c, "[common] %s: the value is too long", key);
+        cm->line = c->lines.lineno;
+        sw->ncommon++;
+        return 1;
+    }
     if (!strcmp(section, "cluster")) {
         /* extra and setup are lists, one line each; the others one value. */
         if (strcmp(key, "extra") != 0 && strcmp(key, "setup") != 0 && !set_once(c, section, key))
             return 0;
         return cluster_pair(c, key, value);
     }
-    return ctx_fail(c, "unknown section [%s] (sections: sweep, vary, cluster)", section);
+    return ctx_fail(c, "unknown section [%s] (sections: sweep, common, vary, cluster)", section);
 }
 
 /* dst = rel resolved against the folder of `file` (rel itself when absolute). */
@@ -386,12 +404,27 @@ void tg_sweep_member_dir(const tg_sweep *sw, int k, char *buf, size_t n)
     snprintf(buf, n, "%s/%s", sw->directory, sw->name[k]);
 }
 
-/* defaults -> base -> overrides, without the checks. */
+/* The [common] overrides on cfg; the messages name the sweep file's line. */
+static tg_code apply_common(const tg_sweep *sw, tg_config *cfg, tg_status *st)
+{
+    tg_code rc = TG_OK;
+    for (int i = 0; i < sw->ncommon && rc == TG_OK; i++) {
+        tg_status one;
+        tg_status_clear(&one);
+        if ((rc = tg_config_set(cfg, sw->common[i].set, &one)) != TG_OK)
+            tg_fail(st, rc, "%s:%d: [common] %s", sw->path, sw->common[i].line, one.msg);
+    }
+    return rc;
+}
+
+/* defaults -> base -> [common] -> overrides, without the checks. */
 static tg_code member_raw(const tg_sweep *sw, int k, tg_config *cfg, tg_status *st)
 {
     char sets[TG_SWEEP_MAX_AXES][2 * TG_SWEEP_VALUE_LEN + 2];
     tg_config_defaults(cfg);
     tg_code rc = tg_config_load_file(cfg, sw->base, st);
+    if (rc == TG_OK)
+        rc = apply_common(sw, cfg, st);
     if (rc != TG_OK)
         return rc;
     int n = tg_sweep_member_sets(sw, k, sets);
@@ -650,7 +683,19 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
         tg_status_clear(&bst);
         if (tg_config_load_file(base, sw->base, &bst) != TG_OK)
             rc = tg_fail(st, bst.code, "%s:%d: [sweep] base: %s", path, c->line_base, bst.msg);
+        else
+            rc = apply_common(sw, base, st);
     }
+    /* A key both [common] and varied would be set twice. */
+    for (int i = 0; i < sw->ncommon && rc == TG_OK; i++)
+        for (int a = 0; a < sw->naxes && rc == TG_OK; a++) {
+            const size_t kl = strlen(sw->axis[a].key);
+            if (sw->axis[a].kind != TG_AXIS_MEMBER &&
+                !strncmp(sw->common[i].set, sw->axis[a].key, kl) && sw->common[i].set[kl] == '=')
+                rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: [common] %s is varied too (line %d); "
+                             "keep one", path, sw->common[i].line, sw->axis[a].key,
+                             sw->axis[a].line);
+        }
     if (rc == TG_OK) {
         if (c->kind[0] == '\0' || !strcmp(c->kind, "auto")) {
             int twin = base_is_twin(base);

@@ -3,15 +3,16 @@
  *
  * The sweep file is INI (read with libinih, README "Sweeps and ensembles"):
  *   [sweep]   base, kind, combine, directory, seeds, members
+ *   [common]  section.key = value        (every member; not in the names)
  *   [vary]    section.key = v1, v2, ...   (or v1 | v2 | ... for list values)
  *   [cluster] Slurm resources (sweep_slurm.c)
  * Members are numbered 0 .. n-1 in the order of the combination: for
  * `product` the first [vary] key varies slowest and the last fastest, for
  * `zip` member K takes the K-th value of every key; the seeds and members
  * axes are always crossed with that, seeds before members, members fastest.
- * Each member runs the base config with one --set override per varied key
- * into DIRECTORY/NAME/, NAME derived from its values (tg_sweep_load
- * documents the rule).
+ * Each member runs the base config with the [common] overrides, then one
+ * --set override per varied key, into DIRECTORY/NAME/, NAME derived from
+ * its values (tg_sweep_load documents the rule).
  *
  * Rooms: sweep.c (file, members, configs), sweep_member.c (one member and
  * its status file), sweep_collect.c (sweep.csv, sweep.json),
@@ -34,6 +35,7 @@
 #define TG_SWEEP_MAX_MEMBERS 10000
 #define TG_SWEEP_NAME_LEN 200
 #define TG_SWEEP_MAX_LINES 16
+#define TG_SWEEP_MAX_COMMON 64
 
 typedef enum { TG_SWEEP_RUN = 0, TG_SWEEP_TWIN = 1 } tg_sweep_kind;
 typedef enum { TG_SWEEP_PRODUCT = 0, TG_SWEEP_ZIP = 1 } tg_sweep_combine;
@@ -62,6 +64,12 @@ typedef struct {
     char setup[TG_SWEEP_MAX_LINES][TG_SWEEP_VALUE_LEN];  /* shell lines before the command */
 } tg_sweep_cluster;
 
+/* A [common] override: the same for every member. */
+typedef struct {
+    char set[2 * TG_SWEEP_VALUE_LEN + 2]; /* "section.key=value" */
+    int line;                              /* line in the sweep file */
+} tg_sweep_common;
+
 typedef struct {
     char path[TG_PATH_LEN];       /* the sweep file as given */
     char base[TG_PATH_LEN];       /* base config, resolved against the sweep file's folder */
@@ -71,6 +79,8 @@ typedef struct {
     int naxes;                    /* [vary] keys first (file order), then seeds, then members */
     int nkeys;                    /* how many of the axes are [vary] keys */
     tg_sweep_axis axis[TG_SWEEP_MAX_AXES];
+    int ncommon;                  /* [common] overrides, in file order */
+    tg_sweep_common common[TG_SWEEP_MAX_COMMON];
     tg_sweep_cluster cluster;
     int nmembers;
     char (*name)[TG_SWEEP_NAME_LEN]; /* member names (owned) */
@@ -92,13 +102,15 @@ void tg_sweep_free(tg_sweep *sw);
 /* Index of the value of axis a taken by member k. */
 int tg_sweep_choice(const tg_sweep *sw, int k, int a);
 
-/* The member's --set assignments, "section.key=value" (the seeds axis is
- * initial.seed=...; the members axis sets cfg->member and has no entry). */
+/* The member's --set assignments of its axes, "section.key=value" (the
+ * seeds axis is initial.seed=...; the members axis sets cfg->member and has
+ * no entry); the [common] ones come before them and are not listed. */
 int tg_sweep_member_sets(const tg_sweep *sw, int k, char sets[][2 * TG_SWEEP_VALUE_LEN + 2]);
 
-/* The member's resolved config: defaults -> base -> its overrides ->
- * output directory DIRECTORY/NAME -> checks (tg_config_validate for a run or a twin,
- * without its warnings). A failure is the member's (TG_ERR_CONFIG with
+/* The member's resolved config: defaults -> base -> [common] -> its
+ * overrides -> output directory DIRECTORY/NAME -> checks (tg_config_validate
+ * for a run or a twin, without its warnings). A failure is the member's
+ * (TG_ERR_CONFIG with
  * the message of the failing override or check). */
 tg_code tg_sweep_member_config(const tg_sweep *sw, int k, tg_config *cfg, tg_status *st);
 

@@ -215,7 +215,8 @@ static char *config_text(const twin_ctx *c)
 static tg_code outputs_free(const twin_ctx *c, tg_status *st)
 {
     char path[TG_PATH_LEN + 256];
-    const char *top[] = {"subgrid.nc", "skill.json", "skill.csv", "reference/budget.nc"};
+    const char *top[] = {"subgrid.nc", "skill.json", "skill.csv", "reference/budget.nc",
+                         "reference/fields.nc"};
     for (size_t i = 0; i < sizeof top / sizeof top[0]; i++) {
         snprintf(path, sizeof path, "%s/%s", c->dir, top[i]);
         if (access(path, F_OK) == 0)
@@ -239,48 +240,6 @@ static tg_code outputs_free(const twin_ctx *c, tg_status *st)
 /* Stochastic closures                                                 */
 /* ------------------------------------------------------------------ */
 
-/* Whether members 0 and 1 of the closure of model m give different
- * tendencies on the same (noise) state after one advance. */
-static tg_code is_stochastic(tg_model *m, const tg_config *cfg, int *stochastic, tg_status *st)
-{
-    *stochastic = 0;
-    tg_config *c1 = malloc(sizeof *c1);
-    if (!c1)
-        return tg_fail(st, TG_ERR_NOMEM, "twin: no memory");
-    *c1 = *cfg;
-    c1->member = 1;
-    tg_closure_host *h1 = tg_closure_host_create(c1, m->geom, &m->modes, st);
-    free(c1);
-    if (!h1)
-        return st->code ? st->code : TG_ERR_INTERNAL;
-    tg_model_set_noise(m, 1000.0, cfg->seed);
-    tg_closure_input in = {m->psi, m->q, m->zeta, m->wall, 0, 0};
-    tg_code rc = tg_closure_host_advance(m->closures, &in, st);
-    if (rc == TG_OK)
-        rc = tg_closure_host_advance(h1, &in, st);
-    if (rc == TG_OK)
-        rc = tg_closure_host_eval(m->closures, &in, st);
-    if (rc == TG_OK)
-        rc = tg_closure_host_eval(h1, &in, st);
-    if (rc == TG_OK) {
-        const tg_geometry *g = m->geom;
-        for (int c = 0; c < tg_closure_host_count(h1) && !*stochastic; c++) {
-            const double *a = tg_closure_host_tend(m->closures, c), *b = tg_closure_host_tend(h1, c);
-            for (int k = 0; k < m->nl && !*stochastic; k++)
-                for (int j = g->a0; j < g->a1 && !*stochastic; j++)
-                    for (int i = g->a0; i < g->a1; i++) {
-                        const long p = k * m->npl + (long)j * g->ns + i;
-                        if (a[p] != b[p]) {
-                            *stochastic = 1;
-                            break;
-                        }
-                    }
-        }
-    }
-    tg_closure_host_destroy(h1);
-    return rc;
-}
-
 /* Coarse models of the closures (offline skill) and the list of runs. */
 static tg_code setup_runs(twin_ctx *c, tg_status *st)
 {
@@ -292,7 +251,8 @@ static tg_code setup_runs(twin_ctx *c, tg_status *st)
             cl->model = tg_model_create(&c->clos_cfg[i], st);
             if (!cl->model)
                 return st->code ? st->code : TG_ERR_INTERNAL;
-            if ((rc = is_stochastic(cl->model, &c->clos_cfg[i], &cl->stochastic, st)) != TG_OK)
+            if ((rc = tg_model_closures_stochastic(cl->model, &c->clos_cfg[i], &cl->stochastic,
+                                                   st)) != TG_OK)
                 return rc;
         }
         const int members = cl->stochastic ? c->base.twin_members : 1;
@@ -329,6 +289,7 @@ typedef struct {
     tg_spectrum *spec;
     tg_record_file *sub;        /* subgrid.nc */
     tg_budget_file *bud;        /* reference/budget.nc */
+    tg_fields_file *ff;         /* reference/fields.nc ([twin] reference_fields = yes), or NULL */
     tg_budget_layout lay;
     tg_nc_grid fine_grid, coarse_grid;
     double *fine_psi, *fine_q;  /* fine output layout, nl*nout_f^2 */
@@ -414,6 +375,12 @@ static tg_code sample(ref_ctx *r, double window_time_s, int first, tg_status *st
         data[v] = r->out[v];
     if ((rc = tg_record_file_append(r->sub, window_time_s, data, r->spec_out, st)) != TG_OK)
         return rc;
+    if (r->ff) {
+        tg_model_pack(m, m->psi, r->fine_psi);
+        tg_model_pack(m, m->q, r->fine_q);
+        if ((rc = tg_fields_append(r->ff, m->time_s, r->fine_psi, r->fine_q, NULL, st)) != TG_OK)
+            return rc;
+    }
     if (first) {
         char path[TG_PATH_LEN + 32];
         snprintf(path, sizeof path, "%s/coarse_start.nc", r->c->dir);
@@ -572,6 +539,13 @@ static tg_code run_reference(twin_ctx *c, const tg_twin_options *opt, int nphase
         rc = st->code ? st->code : TG_ERR_IO;
         goto done;
     }
+    if (c->base.twin_reference_fields) {
+        snprintf(path, sizeof path, "%s/reference/fields.nc", c->dir);
+        if (!(r.ff = tg_fields_create(path, &r.fine_grid, NULL, st))) {
+            rc = st->code ? st->code : TG_ERR_IO;
+            goto done;
+        }
+    }
 
     tg_diag before, after;
     tg_term_rates rates;
@@ -656,6 +630,13 @@ done:
         tg_status s2;
         tg_status_clear(&s2);
         tg_code r2 = tg_record_file_close(r.sub, rc == TG_OK ? st : &s2);
+        if (rc == TG_OK)
+            rc = r2;
+    }
+    if (r.ff) {
+        tg_status s2;
+        tg_status_clear(&s2);
+        tg_code r2 = tg_fields_close(r.ff, rc == TG_OK ? st : &s2);
         if (rc == TG_OK)
             rc = r2;
     }

@@ -302,10 +302,13 @@ static const char *status_word(tg_code c)
     return c == TG_OK ? "ok" : c == TG_ERR_BLOWUP ? "unstable" : "failed";
 }
 
+/* One figure of the table, "%9.3f"-like; a value that rounds to zero at
+ * three decimals prints as 0.000 (the R2 of `none` is a tiny negative
+ * number, and "-0.000" reads as a negative score). */
 static void cell(tg_strbuf *b, double v, const char *fmt)
 {
     if (isfinite(v))
-        tg_sb_printf(b, fmt, v);
+        tg_sb_printf(b, fmt, fabs(v) < 5e-4 ? 0.0 : v);
     else
         tg_sb_printf(b, "%9s", "-");
 }

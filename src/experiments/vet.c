@@ -665,9 +665,14 @@ static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
         add_check(r, name, title, x->energy_ratio, "", "<=", cfg->vet_growth_limit, TG_VET_PASS,
                   "stable through %g days (figure: energy / energy without the closure)",
                   cfg->vet_window_days);
+    else if (x && isfinite(x->energy_ratio))
+        add_check(r, name, title, x->energy_ratio, "", "<=", cfg->vet_growth_limit,
+                  TG_VET_FAIL, "%s", x->reason);
+    else if (x)
+        /* A run that blew up has no energy ratio: the figure is the day it stopped. */
+        add_check(r, name, title, x->fail_day, "day", "", NAN, TG_VET_FAIL, "%s", x->reason);
     else
-        add_check(r, name, title, x ? x->energy_ratio : NAN, "", "<=", cfg->vet_growth_limit,
-                  TG_VET_FAIL, "%s", x ? x->reason : "not run");
+        add_check(r, name, title, NAN, "", "", NAN, TG_VET_FAIL, "not run");
     int fi = 0;
     if (!finer)
         for (int i = 0; i < r->nfactors; i++)
@@ -687,8 +692,28 @@ static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
             if (y && y->multiplier >= 1.0 && !y->stable)
                 bad = y;
         }
-        add_check(r, name, title, m, "", ">=", cfg->vet_required_margin, TG_VET_FAIL,
-                  "x%g: %s", bad ? bad->multiplier : 0.0, bad ? bad->reason : "unstable");
+        if (m > 0.0) {
+            add_check(r, name, title, m, "", ">=", cfg->vet_required_margin, TG_VET_FAIL,
+                      "x%g: %s", bad ? bad->multiplier : 0.0, bad ? bad->reason : "unstable");
+        } else {
+            /* Unstable at x1: the largest stable multiplier below 1, if any. */
+            double below = NAN, smallest = INFINITY;
+            for (int i = 0; i < r->nmultipliers; i++) {
+                const tg_vet_run_result *y = find_run(r, finer, 1.0, r->multipliers[i]);
+                if (!y || y->multiplier <= 0.0)
+                    continue;
+                smallest = fmin(smallest, y->multiplier);
+                if (y->multiplier < 1.0 && y->stable && !(y->multiplier <= below))
+                    below = y->multiplier;
+            }
+            add_check(r, name, title, below, "", ">=", cfg->vet_required_margin, TG_VET_FAIL,
+                      "%s%g (x1: %s)",
+                      isnan(below) ? "below the smallest multiplier tried, x" : "stable at x",
+                      isnan(below) ? smallest : below, bad ? bad->reason : "unstable");
+            if (isnan(below))
+                snprintf(r->checks[r->nchecks - 1].figure_text,
+                         sizeof r->checks[0].figure_text, "<%g", smallest);
+        }
     }
     if (!finer) {
         /* Information: the largest step factor stable at x1. */
@@ -703,10 +728,13 @@ static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
             add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
                       best, "", "", NAN, TG_VET_INFO,
                       "every step factor up to it stays stable (%g s)", best * cfg->step_s);
-        else
+        else {
             add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
-                      best, "", "", NAN, TG_VET_INFO, "%s",
-                      "unstable already at the smallest step factor tried");
+                      NAN, "", "", NAN, TG_VET_INFO,
+                      "unstable already at the smallest step factor tried, x%g", r->factors[0]);
+            snprintf(r->checks[r->nchecks - 1].figure_text, sizeof r->checks[0].figure_text,
+                     "<%g", r->factors[0]);
+        }
     }
 }
 
@@ -789,6 +817,19 @@ void tg_vet_report_free(tg_vet_report *r)
     free(r);
 }
 
+/* Whether the closure draws noise; only a component with its own
+ * variables (an advance) can. On a model of its own, since the test
+ * advances the closures and overwrites the state. */
+static tg_code stochastic(const tg_config *cfg, int *flag, tg_status *st)
+{
+    tg_model *m = tg_model_create(cfg, st);
+    if (!m)
+        return st->code ? st->code : TG_ERR_INTERNAL;
+    tg_code rc = tg_model_closures_stochastic(m, cfg, flag, st);
+    tg_model_destroy(m);
+    return rc;
+}
+
 tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_report **rep,
                    tg_status *st)
 {
@@ -836,8 +877,13 @@ tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_repor
         goto done;
     }
     r->dissipative = 1;
-    for (int i = 0; i < tg_closure_host_count(m->closures); i++)
+    int advances = 0;
+    for (int i = 0; i < tg_closure_host_count(m->closures); i++) {
         r->dissipative &= tg_closure_host_ops(m->closures, i)->dissipative != 0;
+        advances |= tg_closure_host_ops(m->closures, i)->advance != NULL;
+    }
+    if (advances && (rc = stochastic(cfg, &r->stochastic, st)) != TG_OK)
+        goto done;
     memcpy(c.q_rest, m->q, sizeof(double) * (size_t)(m->nl * m->npl));
 
     /* The reference state. */
@@ -889,11 +935,14 @@ tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_repor
     online_checks(r, cfg, 0);
     if (finer)
         online_checks(r, cfg, 1);
-    else
+    else {
         add_check(r, "finer_online", "online run on the finer grid", NAN, "", "", NAN,
                   TG_VET_INFO, "%s",
                   cfg->vet_finer_grid ? "not run: the finer grid would exceed 4097 points"
                                       : "not run ([vet] finer_grid = no)");
+        snprintf(r->checks[r->nchecks - 1].figure_text, sizeof r->checks[0].figure_text,
+                 "not run");
+    }
     r->passed = 1;
     for (int i = 0; i < r->nchecks; i++)
         if (r->checks[i].verdict == TG_VET_FAIL)

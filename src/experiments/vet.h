@@ -98,6 +98,7 @@ typedef struct {
     char name[48];             /* key in vet.json, e.g. "linear_growth_reference" */
     char title[96];            /* words for the table */
     double figure;             /* NAN: not measured */
+    char figure_text[16];      /* shown in the table instead of a NAN figure, e.g. "<0.5" */
     char unit[16];
     char relation[4];          /* "<=", ">=" or "" (information) */
     double limit;              /* NAN: no limit */
@@ -109,6 +110,7 @@ typedef struct {
     /* what was vetted */
     char closure[TG_RAW_TEXT];  /* [closure] use as written */
     int dissipative;            /* every component declared dissipative */
+    int stochastic;             /* some component draws noise (tg_model_closures_stochastic) */
     int points, nlayers;
     double step_s, window_days;
     char reference[TG_PATH_LEN + 64]; /* how the reference state was made */

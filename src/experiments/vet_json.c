@@ -77,7 +77,10 @@ void tg_vet_table(const tg_vet_report *r, tg_strbuf *b)
     for (int i = 0; i < r->nchecks; i++) {
         const tg_vet_check *k = &r->checks[i];
         char fig[32], lim[40];
-        fmt_fig(k->figure, fig, sizeof fig);
+        if (isnan(k->figure) && k->figure_text[0])
+            snprintf(fig, sizeof fig, "%s", k->figure_text);
+        else
+            fmt_fig(k->figure, fig, sizeof fig);
         if (k->relation[0] && !isnan(k->limit)) {
             char l[32];
             fmt_fig(k->limit, l, sizeof l);
@@ -87,8 +90,9 @@ void tg_vet_table(const tg_vet_report *r, tg_strbuf *b)
         tg_sb_printf(b, "  %-64s %11s %-7s %11s  %-7s %s\n", k->title, fig,
                      k->unit[0] ? k->unit : "-", lim, verdict_word(k->verdict), k->reason);
     }
-    tg_sb_printf(b, "  (the linear and conservation checks evaluate stochastic components with "
-                    "their noise frozen)\n");
+    if (r->stochastic)
+        tg_sb_printf(b, "  (the linear and conservation checks evaluate stochastic components "
+                        "with their noise frozen)\n");
     int nfail = 0;
     for (int i = 0; i < r->nchecks; i++)
         nfail += r->checks[i].verdict == TG_VET_FAIL;
@@ -167,8 +171,10 @@ void tg_vet_json(const tg_vet_report *r, const tg_config *cfg, const char *comma
     tg_sb_printf(b, ", \"required_margin\": ");
     jnum(b, cfg->vet_required_margin);
     tg_sb_printf(b, ", \"finer_grid\": %s", cfg->vet_finer_grid ? "true" : "false");
-    tg_sb_printf(b, ", \"stochastic_noise\": \"frozen during the linear and conservation "
-                    "checks (same step and stage for every evaluation)\"}");
+    if (r->stochastic)
+        tg_sb_printf(b, ", \"stochastic_noise\": \"frozen during the linear and conservation "
+                        "checks (same step and stage for every evaluation)\"");
+    tg_sb_printf(b, "}");
 
     tg_sb_printf(b, ",\n  \"reference\": {\"made_by\": ");
     jstr(b, r->reference);

@@ -130,6 +130,7 @@ typedef struct tg_config {
     int twin_members;               /* ensemble members of each stochastic closure */
     tg_twin_filter twin_filter;     /* coarse-graining filter */
     double twin_filter_width_factor;/* Gaussian filter width / coarse grid spacing */
+    int twin_reference_fields;      /* 1: the reference writes reference/fields.nc at each sample */
 
     /* [twin.reference] and [twin.coarse]: overrides "section.key = value"
      * applied to the reference or to every coarse run, kept as written

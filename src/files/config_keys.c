@@ -70,6 +70,8 @@ static const char *const step_choice_names[] = {
     [TG_STEP_FIXED] = "fixed", [TG_STEP_ADAPTIVE] = "adaptive", NULL};
 static int get_step_choice(const tg_config *c) { return (int)c->step_choice; }
 static void put_step_choice(tg_config *c, int v) { c->step_choice = (tg_step_choice)v; }
+static int get_twin_ref_fields(const tg_config *c) { return c->twin_reference_fields != 0; }
+static void put_twin_ref_fields(tg_config *c, int v) { c->twin_reference_fields = v; }
 static int get_twin_filter(const tg_config *c) { return (int)c->twin_filter; }
 static void put_twin_filter(tg_config *c, int v) { c->twin_filter = (tg_twin_filter)v; }
 
@@ -332,6 +334,12 @@ const key_row tg_cfg_rows[K_COUNT] = {
                  "Gaussian filter width in coarse grid spacings (filter = gaussian only)"},
         .kind = V_REAL, .off = OFF(twin_filter_width_factor), .lo_kind = B_EXCL, .lo = 0.0,
         .hi_kind = B_INCL, .hi = 16.0, .expect = "a real number > 0 and at most 16"},
+    [K_TWIN_REF_FIELDS] = {
+        .info = {"twin", "reference_fields", "", "choice", "no", "yes, no",
+                 "yes: the reference also writes its fine-grid psi and q at every sample to "
+                 "reference/fields.nc"},
+        .kind = V_CHOICE, .choices = yes_no_names, .get = get_twin_ref_fields,
+        .put = put_twin_ref_fields, .expect = "one of yes, no"},
 
     /* [vet]: read by `twingyre vet` only (vet.h) */
     [K_VET_REFERENCE] = {

@@ -133,6 +133,9 @@ static tg_code def_index_coord(int ncid, const char *path, const char *name, int
     if ((code = tg_nc_check(nc_def_var(ncid, name, NC_INT, 1, dimid, varid), path,
                          "defining the variable", name, st)))
         return code;
+    /* A count: CF's unit "1" (dimensionless). */
+    if ((code = tg_nc_put_text(ncid, *varid, "units", "1", path, name, st)))
+        return code;
     return tg_nc_put_text(ncid, *varid, "long_name", long_name, path, name, st);
 }
 
@@ -472,7 +475,7 @@ struct tg_budget_file {
     size_t nbuf;    /* records waiting in the buffer */
     size_t nrec;    /* records written to the file */
     double *buf_time; /* cap, days */
-    double *buf_step; /* cap */
+    int *buf_step;    /* cap */
     double *buf_vals; /* cap*reclen, variable-major: variable v at cap*offset[v],
                          record r of it at + r*width[v] (a ready nc_put_vara block) */
 };
@@ -500,7 +503,7 @@ static tg_code budget_alloc_buffer(tg_budget_file *b, size_t cap, tg_status *st)
 {
     size_t nvals = cap * (size_t)b->reclen;
     double *t = malloc(cap * sizeof *t);
-    double *s = malloc(cap * sizeof *s);
+    int *s = malloc(cap * sizeof *s);
     double *v = malloc((nvals ? nvals : 1) * sizeof *v);
     if (!t || !s || !v) {
         free(t);
@@ -595,9 +598,8 @@ tg_budget_file *tg_budget_create(const char *path, const tg_nc_grid *g, const tg
            "time");
     if ((code = tg_nc_time_atts(ncid, b->v_time, path, st)))
         goto fail;
-    /* Classic files have no 64-bit integer type; a double holds step counts
-     * exactly up to 2^53. */
-    NC_TRY(nc_def_var(ncid, "step", NC_DOUBLE, 1, &d_time, &b->v_step), "defining the variable",
+    /* Classic files have no 64-bit integer type: NC_INT, up to TG_NC_STEP_MAX. */
+    NC_TRY(nc_def_var(ncid, "step", NC_INT, 1, &d_time, &b->v_step), "defining the variable",
            "step");
     if ((code = tg_nc_put_text(ncid, b->v_step, "long_name", "steps taken since day 0", path, "step",
                          st)) ||
@@ -690,7 +692,7 @@ tg_code tg_budget_flush(tg_budget_file *b, tg_status *st)
     size_t count[2] = {b->nbuf, 0};
     NC_TRY(nc_put_vara_double(b->ncid, b->v_time, start, count, b->buf_time), "writing records",
            "time");
-    NC_TRY(nc_put_vara_double(b->ncid, b->v_step, start, count, b->buf_step), "writing records",
+    NC_TRY(nc_put_vara_int(b->ncid, b->v_step, start, count, b->buf_step), "writing records",
            "step");
     for (int v = 0; v < b->nvars; v++) {
         count[1] = (size_t)b->width[v];
@@ -711,12 +713,15 @@ tg_code tg_budget_append(tg_budget_file *b, double time_s, long step, const doub
 {
     if (!b || (b->reclen > 0 && !values))
         return tg_fail(st, TG_ERR_INTERNAL, "budget append: missing file handle or values");
+    if (step < 0 || step > TG_NC_STEP_MAX)
+        return tg_fail(st, TG_ERR_INTERNAL, "%s: step %ld does not fit the file's step variable "
+                       "(at most %ld)", b->path, step, TG_NC_STEP_MAX);
     tg_code code;
     if (b->nbuf == b->cap && (code = tg_budget_flush(b, st))) /* an earlier flush failed */
         return code;
     size_t r = b->nbuf;
     b->buf_time[r] = time_s / TG_SECONDS_PER_DAY;
-    b->buf_step[r] = (double)step;
+    b->buf_step[r] = (int)step;
     for (int v = 0; v < b->nvars; v++) {
         double *dst = b->buf_vals + b->cap * (size_t)b->offset[v] + r * (size_t)b->width[v];
         memcpy(dst, values + b->offset[v], (size_t)b->width[v] * sizeof *dst);
@@ -753,6 +758,9 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
     if (!c || !c->psi || !c->q || c->nextra < 0 ||
         (c->nextra > 0 && (!c->extra_names || !c->extra_data || !c->extra_len)))
         return tg_fail(st, TG_ERR_INTERNAL, "%s: checkpoint data is incomplete", final_path);
+    if (c->step < 0 || c->step > TG_NC_STEP_MAX)
+        return tg_fail(st, TG_ERR_INTERNAL, "%s: step %ld does not fit the file's step variable "
+                       "(at most %ld)", final_path, c->step, TG_NC_STEP_MAX);
     for (int e = 0; e < c->nextra; e++) {
         if (!c->extra_names[e] || !c->extra_data[e] || c->extra_len[e] == 0)
             return tg_fail(st, TG_ERR_INTERNAL,
@@ -792,7 +800,7 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
         (code = tg_nc_put_text(ncid, v_secs, "long_name", "model time in seconds since day 0", path,
                          "time_seconds", st)))
         goto fail;
-    NC_TRY(nc_def_var(ncid, "step", NC_DOUBLE, 0, NULL, &v_step), "defining the variable", "step");
+    NC_TRY(nc_def_var(ncid, "step", NC_INT, 0, NULL, &v_step), "defining the variable", "step");
     if ((code = tg_nc_put_text(ncid, v_step, "long_name", "steps taken since day 0", path, "step", st)) ||
         (code = tg_nc_put_text(ncid, v_step, "units", "1", path, "step", st)))
         goto fail;
@@ -800,7 +808,7 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
     if ((code = def_psi_q(ncid, path, 3, dims, &v_psi, &v_q, st)))
         goto fail;
     double days = c->time_s / TG_SECONDS_PER_DAY;
-    double step = (double)c->step;
+    double step = (double)c->step; /* the checksum is over values read as doubles */
     const size_t n3 = (size_t)g->nlayers * (size_t)g->ny * (size_t)g->nx;
     /* Each variable's checksum, which a reader verifies (ncverify.h). */
     if ((code = tg_nc_put_checksum(ncid, v_time, tg_fnv1a_doubles(TG_FNV1A_START, &days, 1), path,
@@ -836,9 +844,10 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
     NC_TRY(nc_enddef(ncid), "finishing the header", NULL);
     if ((code = tg_nc_put_grid(ncid, path, g, &ids, st)))
         goto fail;
+    const int step_int = (int)c->step;
     NC_TRY(nc_put_var_double(ncid, v_time, &days), "writing the data", "time");
     NC_TRY(nc_put_var_double(ncid, v_secs, &c->time_s), "writing the data", "time_seconds");
-    NC_TRY(nc_put_var_double(ncid, v_step, &step), "writing the data", "step");
+    NC_TRY(nc_put_var_int(ncid, v_step, &step_int), "writing the data", "step");
     NC_TRY(nc_put_var_double(ncid, v_psi, c->psi), "writing the data", "psi");
     NC_TRY(nc_put_var_double(ncid, v_q, c->q), "writing the data", "q");
     for (int e = 0; e < c->nextra; e++)

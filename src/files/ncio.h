@@ -77,6 +77,12 @@ tg_fields_file *tg_fields_continue(const char *path, const tg_nc_grid *g,
 /* Closes and frees (frees even on error). */
 tg_code tg_fields_close(tg_fields_file *f, tg_status *st);
 
+/* The largest step index the files hold: `step` is a 32-bit NC_INT, the
+ * widest integer of the classic (64-bit offset) format. The config's limit
+ * on a run's step count (config_check.c, 1e9) stays below it; the writers
+ * check it too. */
+#define TG_NC_STEP_MAX 2147483647L
+
 /* ---- budget.nc: one record per step, a list of variables chosen by the caller ---- */
 typedef struct {
     const char *name;       /* netCDF variable name, e.g. "energy_wind" */
@@ -138,7 +144,7 @@ typedef struct {
 /* Writes to PATH.tmp then renames over PATH, so a crash never leaves a half file.
  * Every variable carries its data_checksum attribute (ncverify.h).
  * Holds psi(layer, y, x), q(layer, y, x), scalar time (days, CF), time_seconds
- * (the exact time_s), step (double), and each extra array as a 1-D variable
+ * (the exact time_s), step (NC_INT), and each extra array as a 1-D variable
  * named after it with its own dimension "<name>_len" (length >= 1). */
 tg_code tg_checkpoint_write(const char *path, const tg_nc_grid *g, const tg_checkpoint *c,
                             tg_status *st);

@@ -10,12 +10,20 @@
  *   - jac_psi_lapzeta, jac_psi_lapq, jac_zeta_lapzeta: the Jacobians of the
  *     second-order Taylor expansion of a filtered advection term (Leonard
  *     1974, Adv. Geophys. 18A, 237-248);
- *   - div_gradu_gradzeta, div_gradu_gradq, curl_div_gradu_gradu: the
- *     divergence of the gradient (nonlinear) model of the sub-filter flux,
- *     tau_i = (Delta^2/12) d_k u_i d_k f for a scalar and
- *     tau_ij = (Delta^2/12) d_k u_i d_k u_j for momentum (Clark, Ferziger &
- *     Reynolds 1979, J. Fluid Mech. 91, 1-16); with a filter of width Delta
- *     the model tendency is the term times -Delta^2/12;
+ *   - div_gradu_gradzeta, div_gradu_gradq: the divergence of the gradient
+ *     (nonlinear) model of the sub-filter flux, tau_i = (Delta^2/12)
+ *     d_k u_i d_k f for a scalar (Clark, Ferziger & Reynolds 1979, J. Fluid
+ *     Mech. 91, 1-16); with a filter of width Delta the model tendency is
+ *     the term times -Delta^2/12. The same model for momentum,
+ *     tau_ij = (Delta^2/12) d_k u_i d_k u_j, is not a term of its own: for
+ *     non-divergent flow (u_x = -v_y) G_xy = u_x v_x + u_y v_y =
+ *     u_x (v_x - u_y) = zeta Dt / 2 and G_yy - G_xx = v_x^2 - u_y^2 =
+ *     zeta Ds, so its curl-divergence is half of curl_div_zeta_deform,
+ *     node by node on this grid too (the discrete velocity gradients are
+ *     exactly non-divergent). Two equal columns would make every fit's
+ *     Gram matrix singular; a coefficients file that names the former term
+ *     curl_div_gradu_gradu is read as curl_div_zeta_deform with half the
+ *     coefficient (tg_coef_read);
  *   - curl_div_zeta_deform: the curl of the divergence of the trace-free
  *     vorticity-deformation tensor [[-zeta Ds, zeta Dt], [zeta Dt, zeta Ds]]
  *     = 2 (W S - S W), with S and W the symmetric and antisymmetric parts
@@ -89,7 +97,6 @@ enum {
     T_JAC_ZETA_LAPZETA,
     T_DIV_GRADU_GRADZETA,
     T_DIV_GRADU_GRADQ,
-    T_CURL_DIV_GRADU_GRADU,
     T_CURL_DIV_ZETA_DEFORM,
     T_DIV_ABSGRADZETA_GRADZETA,
     T_DIV_STRAIN_GRADZETA,
@@ -118,11 +125,6 @@ static const tg_basis_term table[T_N] = {
     [T_DIV_GRADU_GRADQ] = {"div_gradu_gradq",
                            "d_x(u_x q_x + u_y q_y) + d_y(v_x q_x + v_y q_y)", "m-2 s-2", "m2",
                            "divergence of the gradient-model PV flux"},
-    [T_CURL_DIV_GRADU_GRADU] = {"curl_div_gradu_gradu",
-                                "(d_xx - d_yy) G_xy + d_xy (G_yy - G_xx), "
-                                "G_ij = d_k u_i d_k u_j",
-                                "m-2 s-2", "m2",
-                                "curl of the divergence of the gradient-model momentum flux"},
     [T_CURL_DIV_ZETA_DEFORM] = {"curl_div_zeta_deform",
                                 "(d_xx - d_yy)(zeta Dt) + 2 d_xy (zeta Ds), "
                                 "Ds = u_y + v_x, Dt = u_x - v_y",
@@ -370,19 +372,6 @@ tg_code tg_basis_eval(const tg_basis *b, int term, const double *psi, const doub
     case T_DIV_GRADU_GRADQ:
         div_gradu_grad(b, psi, q, out);
         break;
-    case T_CURL_DIV_GRADU_GRADU:
-        velocity_gradients(b, psi);
-        for (int j = a0; j < a1; j++)
-            for (int i = a0; i < a1; i++) {
-                const long p = (long)j * ns + i;
-                const double ux = b->ux[p], uy = b->uy[p], vx = b->vx[p], vy = b->vy[p];
-                b->A[p] = ux * vx + uy * vy;                         /* G_xy */
-                b->B[p] = (vx * vx + vy * vy) - (ux * ux + uy * uy); /* G_yy - G_xx */
-            }
-        t->fill_ring(t->ctx, b->A, TG_RING_EXTEND);
-        t->fill_ring(t->ctx, b->B, TG_RING_EXTEND);
-        curl_div(b, b->A, b->B, out);
-        break;
     case T_CURL_DIV_ZETA_DEFORM:
         velocity_gradients(b, psi);
         for (int j = a0; j < a1; j++)
@@ -463,6 +452,9 @@ static int parse_real(const char *s, double *v)
     *v = strtod(s, &end);
     return s[0] != '\0' && *end == '\0' && errno != ERANGE && isfinite(*v);
 }
+
+/* The former name of half of curl_div_zeta_deform (see the header). */
+#define RENAMED_TERM "curl_div_gradu_gradu"
 
 /* "lap_zeta, lap2_zeta, ..." into out. */
 static void list_names(char *out, size_t n)
@@ -559,8 +551,10 @@ static tg_code read_lines(FILE *f, const char *path, int nlayers, tg_coef_list *
             }
             e.layer = (int)k - 1;
         }
-        /* Term. */
-        e.term = tg_basis_find(tok[1]);
+        /* Term; the former term curl_div_gradu_gradu is half of
+         * curl_div_zeta_deform (the header comment says why). */
+        const int renamed = !strcmp(tok[1], RENAMED_TERM);
+        e.term = renamed ? T_CURL_DIV_ZETA_DEFORM : tg_basis_find(tok[1]);
         if (e.term < 0) {
             const char *names[T_N];
             for (int i = 0; i < T_N; i++)
@@ -590,7 +584,33 @@ static tg_code read_lines(FILE *f, const char *path, int nlayers, tg_coef_list *
                          lineno, tok[3], table[e.term].name);
             break;
         }
-        /* Duplicates: the same term for an overlapping layer. */
+        if (renamed) {
+            e.mean *= 0.5;
+            if (e.std > 0.0)
+                e.std *= 0.5;
+            tg_log(TG_LOG_INFO, "%s:%d: note: %s is no longer a term of its own (it equals half "
+                   "of %s on the grid); read as %s with coefficient %.17g", path, lineno,
+                   RENAMED_TERM, table[e.term].name, table[e.term].name, e.mean);
+        }
+        /* Duplicates: the same term for an overlapping layer. The renamed
+         * term and its replacement for the same layer add up. */
+        int merged = 0;
+        for (int i = 0; i < list->n && !merged; i++) {
+            tg_coef_entry *o = &list->e[i];
+            if (o->term == e.term && o->layer == e.layer &&
+                ((renamed && o->renamed == 0) || (!renamed && o->renamed == 1))) {
+                o->mean += e.mean;
+                o->std = (o->std < 0.0 && e.std < 0.0)
+                             ? -1.0
+                             : sqrt(fmax(o->std, 0.0) * fmax(o->std, 0.0) +
+                                    fmax(e.std, 0.0) * fmax(e.std, 0.0));
+                o->renamed = 2; /* a third line for the pair is a duplicate */
+                merged = 1;
+            }
+        }
+        if (merged)
+            continue;
+        e.renamed = renamed;
         for (int i = 0; i < list->n; i++) {
             const tg_coef_entry *o = &list->e[i];
             if (o->term == e.term && (o->layer == e.layer || o->layer < 0 || e.layer < 0)) {

@@ -27,10 +27,13 @@
  *   jac_zeta_lapzeta       J(zeta, lap zeta)                         m-4 s-2
  *   div_gradu_gradzeta     d_i (d_k u_i d_k zeta)                    m-2 s-2
  *   div_gradu_gradq        d_i (d_k u_i d_k q)                       m-2 s-2
- *   curl_div_gradu_gradu   curl div G, G_ij = d_k u_i d_k u_j        m-2 s-2
  *   curl_div_zeta_deform   (d_xx - d_yy)(zeta Dt) + 2 d_xy (zeta Ds) m-2 s-2
  *   div_absgradzeta_gradzeta div(|grad zeta| grad zeta)              m-3 s-2
  *   div_strain_gradzeta    div(|S| grad zeta)                        m-2 s-2
+ * (The curl-divergence of the gradient-model momentum flux G_ij =
+ * d_k u_i d_k u_j is half of curl_div_zeta_deform for non-divergent flow,
+ * so it is not a term; files naming it, as curl_div_gradu_gradu, are read
+ * as curl_div_zeta_deform with half the coefficient, with a note.)
  * with J(a, b) = a_x b_y - a_y b_x, Ds = u_y + v_x (shearing deformation),
  * Dt = u_x - v_y (stretching deformation), |S| = sqrt(Ds^2 + Dt^2), and
  * curl div A = (d_xx - d_yy) A_xy + d_xy (A_yy - A_xx) for a symmetric
@@ -97,7 +100,10 @@ tg_code tg_basis_eval(const tg_basis *b, int term, const double *psi, const doub
  *     blanks: LAYER is 1..nlayers (top = 1) or `all`; TERM a name of the
  *     table; COEFFICIENT a finite real; STD, optional, a finite real >= 0,
  *     the standard deviation of the coefficient (used when sampling).
- *   - a (layer, term) pair appears at most once (`all` counts as every layer).
+ *   - a (layer, term) pair appears at most once (`all` counts as every
+ *     layer), except that curl_div_gradu_gradu (read as half of
+ *     curl_div_zeta_deform) and curl_div_zeta_deform for the same layer
+ *     add up, so that files written before the term was folded still load.
  * Errors name FILE:LINE. */
 
 #define TG_BASIS_UNITS_LINE "# units: coefficient in s-2 per term unit"
@@ -108,6 +114,8 @@ typedef struct {
     double mean;    /* the coefficient as written */
     double std;     /* its standard deviation; -1 when not given */
     int line;       /* line in the file */
+    int renamed;    /* 1: given under the former name curl_div_gradu_gradu; 2: merged
+                       with the curl_div_zeta_deform line of the same layer; 0 otherwise */
 } tg_coef_entry;
 
 typedef struct {

@@ -534,3 +534,44 @@ double tg_model_max_cfl(tg_model *m, int *layer, double *x, double *y)
         *y = m->geom->coord[at / m->geom->ns];
     return best;
 }
+
+tg_code tg_model_closures_stochastic(tg_model *m, const tg_config *cfg, int *stochastic,
+                                     tg_status *st)
+{
+    *stochastic = 0;
+    tg_config *c1 = malloc(sizeof *c1);
+    if (!c1)
+        return tg_fail(st, TG_ERR_NOMEM, "no memory for a config copy");
+    *c1 = *cfg;
+    c1->member = 1;
+    tg_closure_host *h1 = tg_closure_host_create(c1, m->geom, &m->modes, st);
+    free(c1);
+    if (!h1)
+        return st->code ? st->code : TG_ERR_INTERNAL;
+    tg_model_set_noise(m, 1000.0, cfg->seed);
+    tg_closure_input in = {m->psi, m->q, m->zeta, m->wall, 0, 0};
+    tg_code rc = tg_closure_host_advance(m->closures, &in, st);
+    if (rc == TG_OK)
+        rc = tg_closure_host_advance(h1, &in, st);
+    if (rc == TG_OK)
+        rc = tg_closure_host_eval(m->closures, &in, st);
+    if (rc == TG_OK)
+        rc = tg_closure_host_eval(h1, &in, st);
+    if (rc == TG_OK) {
+        const tg_geometry *g = m->geom;
+        for (int c = 0; c < tg_closure_host_count(h1) && !*stochastic; c++) {
+            const double *a = tg_closure_host_tend(m->closures, c), *b = tg_closure_host_tend(h1, c);
+            for (int k = 0; k < m->nl && !*stochastic; k++)
+                for (int j = g->a0; j < g->a1 && !*stochastic; j++)
+                    for (int i = g->a0; i < g->a1; i++) {
+                        const long p = k * m->npl + (long)j * g->ns + i;
+                        if (a[p] != b[p]) {
+                            *stochastic = 1;
+                            break;
+                        }
+                    }
+        }
+    }
+    tg_closure_host_destroy(h1);
+    return rc;
+}

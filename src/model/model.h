@@ -119,6 +119,13 @@ void tg_model_set_q(tg_model *m, const double *q_out);
  * Gaussian filter (width 4 dx) and scaled to r.m.s. `amplitude` per layer. */
 void tg_model_set_noise(tg_model *m, double amplitude, uint64_t seed);
 
+/* Whether the closures of m (made from cfg) are stochastic: members 0 and
+ * 1 give different tendencies on the same (noise) state after one advance.
+ * Overwrites m's state and advances its closures once: call it on a model
+ * whose state is set afterwards. */
+tg_code tg_model_closures_stochastic(tg_model *m, const tg_config *cfg, int *stochastic,
+                                     tg_status *st);
+
 /* PV inversion and everything derived from q: psi (with wall values), zeta,
  * and the rings of q. */
 void tg_model_derive(tg_model *m);

@@ -51,8 +51,18 @@ if cmd == "checksum":          # the stored checksum of VAR equals ours
         sys.exit(0 if ok else 1)
 with netCDF4.Dataset(path, "r+") as d:
     if cmd == "set":           # set VAR VALUE, with a matching checksum
-        v = d[sys.argv[3]]
-        v[...] = float(sys.argv[4])
+        name, val = sys.argv[3], float(sys.argv[4])
+        v = d[name]
+        if v.dtype.kind == "i" and not (np.isfinite(val) and val == int(val)
+                                        and abs(val) < 2**31):
+            # twingyre writes step as an integer; a file made by hand may
+            # hold it as a double, which can carry what an integer cannot.
+            attrs = {a: v.getncattr(a) for a in v.ncattrs()}
+            d.renameVariable(name, name + "_as_int")
+            v = d.createVariable(name, "f8", v.dimensions)
+            for a, b in attrs.items():
+                v.setncattr(a, b)
+        v[...] = val
         if "data_checksum" in v.ncattrs():
             v.setncattr("data_checksum", fnv(np.asarray(v[...]).ravel()))
     elif cmd == "nan":         # psi of the last record, layer 1, y index 4, x index 6 (from 1)

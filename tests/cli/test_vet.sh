@@ -34,34 +34,8 @@ tg_scratch vet
 tg_need_program
 
 # ---------------------------------------------------------------- configs
-# One layer, 33 points over 1280 km (dx = 40 km), a short spin-up and window.
-base() {
-    cat <<'EOF'
-[grid]
-geometry = basin
-size_km = 1280
-points = 33
-
-[layers]
-thickness_m = 4000
-reduced_gravity_m_s2 =
-
-[wind]
-stress_amplitude_pa = 0.05
-
-[dissipation]
-viscosity_m2_per_s = 200
-
-[time]
-step_s = 3600
-max_cfl = 0.8
-
-[initial]
-state = noise
-noise_amplitude_m2_per_s = 100
-seed = 5
-EOF
-}
+# One layer, 33 points over 1280 km (dx = 40 km): one_layer_basin (testlib.sh).
+base() { one_layer_basin; }
 
 {
     base

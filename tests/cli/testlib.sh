@@ -37,6 +37,8 @@
 #                   basin config the twin, fit and sweep tests share
 #   tiny_twin SPINUP_DAYS ANALYSIS_DAYS       a whole twin config on it
 #                   (33 -> 17 points) whose subgrid.nc takes a second
+#   one_layer_basin the one-layer 33-point basin of the vet and usability
+#                   tests
 #
 # Part of twingyre. GPL-3.0-or-later.
 
@@ -211,5 +213,37 @@ filter_width_factor = 2
 [twin.coarse]
 dissipation.viscosity_m2_per_s = 600
 time.step_s = 7200
+EOF
+}
+
+# one_layer_basin: one layer, 33 points over 1280 km (dx = 40 km), a weak
+# double-gyre wind, viscosity 200 m2 s-1, a 3600 s step, max_cfl 0.8 and a
+# noise start (seed 5): a config small enough for the vet battery in
+# seconds.
+one_layer_basin() {
+    cat <<'EOF'
+[grid]
+geometry = basin
+size_km = 1280
+points = 33
+
+[layers]
+thickness_m = 4000
+reduced_gravity_m_s2 =
+
+[wind]
+stress_amplitude_pa = 0.05
+
+[dissipation]
+viscosity_m2_per_s = 200
+
+[time]
+step_s = 3600
+max_cfl = 0.8
+
+[initial]
+state = noise
+noise_amplitude_m2_per_s = 100
+seed = 5
 EOF
 }

@@ -4,8 +4,8 @@
 # matrix, to 1e-8 relative: a tiny twin (65 -> 33 points, 6 samples) gives
 # a subgrid.nc; `twingyre fit --method ols --dump-design` is run per layer
 # on six terms, shared across layers on the same six, and per layer on the
-# whole library (rank-deficient: both sides give the minimum-norm
-# solution); tests/crosscheck/check_fit_numpy.py solves each dumped design
+# whole library (no two of its terms are equal on the grid, so its Gram
+# matrix has full rank); tests/crosscheck/check_fit_numpy.py solves each dumped design
 # matrix independently and compares.
 #
 # Environment: TWINGYRE, TG_SRCDIR, PYTHON (default /usr/bin/python3),

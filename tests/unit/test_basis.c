@@ -17,13 +17,14 @@
  *   - the flux-form terms have zero domain sum in a basin (no circulation
  *     from the walls; telescoping sums, common practice);
  *   - the same values for 1 and 3 OpenMP threads (bitwise);
- *   - curl_div_zeta_deform equals twice curl_div_gradu_gradu to round-off
- *     when zeta is the five-point Laplacian of psi, as in a model view: in
- *     two-dimensional non-divergent flow the vorticity-deformation tensor
- *     is twice the trace-free part of G_ij = d_k u_i d_k u_j, the tensor of
- *     the gradient model (Clark, Ferziger & Reynolds 1979, J. Fluid Mech.
- *     91, 1-16; the identity is tensor algebra, derived in basis.c), and
- *     the compact differences keep it on the grid (tolerance: round-off).
+ *   - no two terms are the same on the grid up to a factor (|cosine| of
+ *     every pair below 1 - 1e-6 on a basin state): two proportional columns
+ *     make a fit's Gram matrix singular (linear algebra, common practice);
+ *   - a coefficients file naming the former term curl_div_gradu_gradu
+ *     loads it as curl_div_zeta_deform with half the coefficient, alone or
+ *     added to a curl_div_zeta_deform line for the same layer (for
+ *     non-divergent flow the gradient-model momentum term is zeta Dt / 2,
+ *     zeta Ds off-diagonal: algebra in basis.c's header).
  * A Check suite with its own main().
  *
  * Part of twingyre. GPL-3.0-or-later.
@@ -143,14 +144,6 @@ static double exact(const char *name, double x, double y)
         const lin fy = isq ? one(1, &Q, 0, 1) : (lin){2, {1, 1}, {&PSI, &PSI}, {2, 0}, {1, 3}};
         return prod_d(&ux, &fx, 1, 0, x, y) + prod_d(&uy, &fy, 1, 0, x, y) +
                prod_d(&vx, &fx, 0, 1, x, y) + prod_d(&vy, &fy, 0, 1, x, y);
-    }
-    if (!strcmp(name, "curl_div_gradu_gradu")) {
-        /* A = ux vx + uy vy, B = vx^2 + vy^2 - ux^2 - uy^2 */
-        double a = prod_d(&ux, &vx, 2, 0, x, y) + prod_d(&uy, &vy, 2, 0, x, y) -
-                   prod_d(&ux, &vx, 0, 2, x, y) - prod_d(&uy, &vy, 0, 2, x, y);
-        double b = prod_d(&vx, &vx, 1, 1, x, y) + prod_d(&vy, &vy, 1, 1, x, y) -
-                   prod_d(&ux, &ux, 1, 1, x, y) - prod_d(&uy, &uy, 1, 1, x, y);
-        return a + b;
     }
     if (!strcmp(name, "curl_div_zeta_deform"))
         return prod_d(&zeta, &dt, 2, 0, x, y) - prod_d(&zeta, &dt, 0, 2, x, y) +
@@ -443,11 +436,10 @@ static void set_basin_state(grid *r)
  * no flux through the walls; common practice). */
 START_TEST(test_basin_conservation)
 {
-    const char *names[] = {"div_gradu_gradzeta", "div_gradu_gradq", "curl_div_gradu_gradu",
-                           "curl_div_zeta_deform"};
+    const char *names[] = {"div_gradu_gradzeta", "div_gradu_gradq", "curl_div_zeta_deform"};
     grid r = make_grid(0, 65, 3840.0);
     set_basin_state(&r);
-    for (int n = 0; n < 4; n++) {
+    for (int n = 0; n < 3; n++) {
         const int term = tg_basis_find(names[n]);
         ck_assert_int_ge(term, 0);
         eval(&r, term);
@@ -512,47 +504,6 @@ START_TEST(test_threads)
 }
 END_TEST
 
-/* Max |deform - 2 gradu_gradu| relative to max |deform| on a periodic 64^2 grid,
- * with zeta the five-point Laplacian of psi on every stored node. */
-static double deform_mismatch(void)
-{
-    init_fields(1e6);
-    grid r = make_grid(1, 64, 1000.0);
-    set_analytic(&r, 1.0, 1.0);
-    const double d = r.g->dx;
-    for (int j = 0; j < r.g->ns; j++)
-        for (int i = 0; i < r.g->ns; i++) {
-            const double x = r.g->coord[i], y = r.g->coord[j];
-            r.zeta[(long)j * r.g->ns + i] =
-                (D(&PSI, 0, 0, x + d, y) + D(&PSI, 0, 0, x - d, y) + D(&PSI, 0, 0, x, y + d) +
-                 D(&PSI, 0, 0, x, y - d) - 4.0 * D(&PSI, 0, 0, x, y)) / (d * d);
-        }
-    const size_t n = (size_t)r.g->ns * r.g->ns;
-    double *deform = malloc(n * sizeof(double));
-    ck_assert_ptr_nonnull(deform);
-    eval(&r, tg_basis_find("curl_div_zeta_deform"));
-    memcpy(deform, r.out, n * sizeof(double));
-    eval(&r, tg_basis_find("curl_div_gradu_gradu"));
-    double emax = 0.0, dmax = 0.0;
-    for (int j = r.g->a0; j < r.g->a1; j++)
-        for (int i = r.g->a0; i < r.g->a1; i++) {
-            const long p = (long)j * r.g->ns + i;
-            emax = fmax(emax, fabs(deform[p] - 2.0 * r.out[p]));
-            dmax = fmax(dmax, fabs(deform[p]));
-        }
-    free(deform);
-    free_grid(&r);
-    ck_assert(dmax > 0.0);
-    return emax / dmax;
-}
-
-START_TEST(test_deform_twice_gradient_model)
-{
-    const double e = deform_mismatch();
-    ck_assert_msg(e < 1e-11, "curl_div_zeta_deform - 2 curl_div_gradu_gradu: %.3g of the term", e);
-}
-END_TEST
-
 START_TEST(test_bad_term)
 {
     grid r = make_grid(1, 16, 1000.0);
@@ -563,6 +514,77 @@ START_TEST(test_bad_term)
     ck_assert_ptr_nonnull(strstr(st.msg, "no term"));
     ck_assert_ptr_null(tg_basis_create(16, 0, 16, 1.0, tg_tools_get(r.tt), &st));
     free_grid(&r);
+}
+END_TEST
+
+START_TEST(test_terms_distinct)
+{
+    grid r = make_grid(0, 65, 3840.0);
+    set_basin_state(&r);
+    const int n = tg_basis_count();
+    const long npl = (long)r.g->ns * r.g->ns;
+    double *all = malloc(sizeof(double) * (size_t)(n * npl));
+    ck_assert_ptr_nonnull(all);
+    for (int t = 0; t < n; t++) {
+        eval(&r, t);
+        memcpy(all + t * npl, r.out, sizeof(double) * (size_t)npl);
+    }
+    for (int a = 0; a < n; a++)
+        for (int b = 0; b < a; b++) {
+            double ab = 0.0, aa = 0.0, bb = 0.0;
+            for (int j = r.g->a0; j < r.g->a1; j++)
+                for (int i = r.g->a0; i < r.g->a1; i++) {
+                    const long p = (long)j * r.g->ns + i;
+                    ab += all[a * npl + p] * all[b * npl + p];
+                    aa += all[a * npl + p] * all[a * npl + p];
+                    bb += all[b * npl + p] * all[b * npl + p];
+                }
+            const double c = fabs(ab) / sqrt(aa * bb);
+            ck_assert_msg(c < 1.0 - 1e-6, "%s and %s are proportional on the grid (|cos| = %.12f)",
+                          tg_basis_term_at(a)->name, tg_basis_term_at(b)->name, c);
+        }
+    free(all);
+    free_grid(&r);
+}
+END_TEST
+
+START_TEST(test_renamed_term)
+{
+    char path[] = "/tmp/test_basis_renamed.XXXXXX";
+    int fd = mkstemp(path);
+    ck_assert_int_ge(fd, 0);
+    FILE *f = fdopen(fd, "w");
+    ck_assert_ptr_nonnull(f);
+    fprintf(f, "%s\n1 curl_div_gradu_gradu 4 2\n1 curl_div_zeta_deform 1\n"
+               "2 curl_div_gradu_gradu -6\n", TG_BASIS_UNITS_LINE);
+    fclose(f);
+    tg_coef_list list = {0, NULL};
+    tg_status st;
+    tg_status_clear(&st);
+    ck_assert_int_eq(tg_coef_read(path, 2, &list, &st), TG_OK);
+    remove(path);
+    const int zd = tg_basis_find("curl_div_zeta_deform");
+    ck_assert_int_eq(tg_basis_find("curl_div_gradu_gradu"), -1);
+    ck_assert_int_eq(list.n, 2);
+    ck_assert_int_eq(list.e[0].term, zd);
+    ck_assert_int_eq(list.e[0].layer, 0);
+    ck_assert(fabs(list.e[0].mean - 3.0) < 1e-15); /* 4 / 2 + 1 */
+    ck_assert(fabs(list.e[0].std - 1.0) < 1e-15);  /* 2 / 2, the other has none */
+    ck_assert_int_eq(list.e[1].term, zd);
+    ck_assert_int_eq(list.e[1].layer, 1);
+    ck_assert(fabs(list.e[1].mean + 3.0) < 1e-15);
+    ck_assert(list.e[1].std < 0.0);
+    tg_coef_list_free(&list);
+    /* The former name twice for one layer is a duplicate like any other. */
+    strcpy(path, "/tmp/test_basis_renamed.XXXXXX");
+    fd = mkstemp(path);
+    ck_assert_int_ge(fd, 0);
+    f = fdopen(fd, "w");
+    fprintf(f, "%s\n1 curl_div_gradu_gradu 4\n1 curl_div_gradu_gradu 2\n", TG_BASIS_UNITS_LINE);
+    fclose(f);
+    ck_assert_int_eq(tg_coef_read(path, 2, &list, &st), TG_ERR_CONFIG);
+    ck_assert_ptr_nonnull(strstr(st.msg, "already given at line 2"));
+    remove(path);
 }
 END_TEST
 
@@ -578,8 +600,9 @@ static Suite *suite(void)
     tcase_add_test(tc, test_basin_conservation);
     tcase_add_test(tc, test_basin_finite);
     tcase_add_test(tc, test_threads);
-    tcase_add_test(tc, test_deform_twice_gradient_model);
     tcase_add_test(tc, test_bad_term);
+    tcase_add_test(tc, test_terms_distinct);
+    tcase_add_test(tc, test_renamed_term);
     suite_add_tcase(s, tc);
     return s;
 }

@@ -212,7 +212,7 @@ END_TEST
 START_TEST(test_key_table)
 {
     int n = tg_config_key_count();
-    ck_assert_int_eq(n, 50); /* 40 core and [twin] keys, 10 [vet] keys */
+    ck_assert_int_eq(n, 51); /* 41 core and [twin] keys, 10 [vet] keys */
     ck_assert(n <= TG_CONFIG_MAX_KEYS);
     ck_assert_ptr_null(tg_config_key(-1));
     ck_assert_ptr_null(tg_config_key(n));
