@@ -11,6 +11,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "closure.h"
 #include "constants.h"
 #include "scales.h"
 #include "cli.h"
@@ -20,12 +21,6 @@
  * Pedlosky 1996, Ocean Circulation Theory, section 2.1, from memory); in a
  * periodic domain the fastest imposed flow when that is faster. */
 #define DESCRIBE_SPEED_M_S 1.0
-
-/* The stability bound of SSP-RK3 on the negative real axis (Shu & Osher
- * 1988, J. Comput. Phys. 77, 439-471; 2.51, from memory). The largest
- * eigenvalues of the five-point Laplacian and its square are 8/dx^2 and
- * 64/dx^4 (common practice). */
-#define RK3_REAL_AXIS 2.51
 
 /* One comment of describe's output, wrapped at 78 columns: "; " then the
  * text, continuation lines indented, so that the output stays a config
@@ -77,19 +72,18 @@ void describe_warnings(const tg_config *cfg, const tg_scales *s, const char *gri
                "viscosity_m2_per_s >= beta (2 dx)^3 = %.0f m2 s-1, or a finer grid",
                grid, s->munk_m / 1e3, s->munk_m / dx,
                cfg->beta_per_m_per_s * 8.0 * dx * dx * dx);
+    /* The core's explicit stability bounds, as the adaptive steps use them
+     * (closure.h, step_limits.h). */
     const struct {
         const char *what;
         double limit;
     } diff[] = {
-        {"harmonic viscosity: 2.51 dx^2 / (8 A2)",
-         cfg->viscosity_m2_per_s > 0 ? RK3_REAL_AXIS * dx * dx / (8.0 * cfg->viscosity_m2_per_s)
-                                     : INFINITY},
-        {"biharmonic viscosity: 2.51 dx^4 / (64 A4)",
-         cfg->hyperviscosity_m4_per_s > 0
-             ? RK3_REAL_AXIS * dx * dx * dx * dx / (64.0 * cfg->hyperviscosity_m4_per_s)
-             : INFINITY},
-        {"bottom drag: 2.51 / r",
-         cfg->bottom_drag_per_s > 0 ? RK3_REAL_AXIS / cfg->bottom_drag_per_s : INFINITY},
+        {"harmonic viscosity: 2.5 dx^2 / (8 A2)",
+         tg_stable_step_harmonic(cfg->viscosity_m2_per_s, dx)},
+        {"biharmonic viscosity: 2.5 dx^4 / (64 A4)",
+         tg_stable_step_biharmonic(cfg->hyperviscosity_m4_per_s, dx)},
+        {"bottom drag: 2.5 / r",
+         cfg->bottom_drag_per_s > 0 ? TG_RK3_REAL_AXIS / cfg->bottom_drag_per_s : INFINITY},
     };
     for (size_t i = 0; i < sizeof diff / sizeof diff[0]; i++)
         if (dt > diff[i].limit)
