@@ -47,11 +47,12 @@ tg_code cli_parse_for(int argc, char **argv, int first, const char *allow, const
                       cli_opts *o, tg_status *st);
 
 /* defaults -> file -> each --set -> --out (and --member), without the
- * cross-key checks: for a command that makes checks of its own (twin). */
+ * checks: for a command whose library entry validates (twin, vet). */
 tg_code cli_read_config(const cli_opts *o, tg_config *cfg, tg_status *st);
 
-/* cli_read_config, then the cross-key checks (tg_config_check). */
-tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st);
+/* cli_read_config, then the one validation (tg_config_validate) for
+ * `uses` (a TG_USE_ mask; 0: the uses the config shows, for describe). */
+tg_code cli_load_config(const cli_opts *o, unsigned uses, tg_config *cfg, tg_status *st);
 
 /* Joins argv into one string (for the files' attributes); malloc'ed. */
 char *cli_command_line(int argc, char **argv);

@@ -147,6 +147,75 @@ static int parse_terms(const char *s, tg_fit_options *o)
     return 0;
 }
 
+/* One option a that takes a value, v, into o (--threads into *threads;
+ * *have_ridge set by --ridge): 0, or the exit status of a usage error (its
+ * message printed). */
+static int fit_option(const char *a, const char *v, tg_fit_options *o, int *threads,
+                     int *have_ridge)
+{
+    if (!strcmp(a, "--out")) {
+        o->output = v;
+    } else if (!strcmp(a, "--terms")) {
+        if (parse_terms(v, o))
+            return cli_exit_code(TG_ERR_USAGE);
+    } else if (!strcmp(a, "--layers")) {
+        if (!strcmp(v, "separate"))
+            o->shared = 0;
+        else if (!strcmp(v, "shared"))
+            o->shared = 1;
+        else
+            return usage_error("--layers: expected separate or shared, got '%s'", v);
+    } else if (!strcmp(a, "--method")) {
+        if (!strcmp(v, "ols"))
+            o->set.method = TG_FIT_OLS;
+        else if (!strcmp(v, "ridge"))
+            o->set.method = TG_FIT_RIDGE;
+        else if (!strcmp(v, "stlsq"))
+            o->set.method = TG_FIT_STLSQ;
+        else if (!strcmp(v, "rvm"))
+            o->set.method = TG_FIT_RVM;
+        else
+            return usage_error("--method: expected ols, ridge, stlsq or rvm, got '%s'", v);
+    } else if (!strcmp(a, "--ridge")) {
+        if (parse_real(v, 0.0, &o->set.ridge))
+            return usage_error("--ridge: expected a real number >= 0, got '%s'", v);
+        *have_ridge = 1;
+    } else if (!strcmp(a, "--threshold")) {
+        if (parse_real(v, 0.0, &o->set.threshold))
+            return usage_error("--threshold: expected a real number >= 0, got '%s'", v);
+    } else if (!strcmp(a, "--prune-alpha")) {
+        if (parse_real(v, 1.0, &o->set.alpha_max))
+            return usage_error("--prune-alpha: expected a real number >= 1, got '%s'", v);
+    } else if (!strcmp(a, "--train")) {
+        if (parse_range(v, &o->train_first, &o->train_last))
+            return usage_error("--train: expected FIRST:LAST sample indices with FIRST <= "
+                               "LAST, got '%s'", v);
+    } else if (!strcmp(a, "--test")) {
+        if (parse_range(v, &o->test_first, &o->test_last))
+            return usage_error("--test: expected FIRST:LAST sample indices with FIRST <= "
+                               "LAST, got '%s'", v);
+    } else if (!strcmp(a, "--target")) {
+        if (!strcmp(v, "forcing"))
+            o->target = TG_FIT_TARGET_FORCING;
+        else if (!strcmp(v, "flux"))
+            o->target = TG_FIT_TARGET_FLUX;
+        else
+            return usage_error("--target: expected forcing or flux, got '%s'", v);
+    } else if (!strcmp(a, "--chunk-samples")) {
+        if (parse_int(v, 1, 100000, &o->chunk_samples))
+            return usage_error("--chunk-samples: expected a whole number from 1 to 100000, "
+                               "got '%s'", v);
+    } else if (!strcmp(a, "--dump-design")) {
+        o->dump_path = v;
+    } else if (!strcmp(a, "--threads")) {
+        if (parse_int(v, 1, 4096, threads))
+            return usage_error("--threads: expected a whole number >= 1, got '%s'", v);
+    } else {
+        return usage_error("unknown option '%s'", a);
+    }
+    return 0;
+}
+
 int cmd_fit(int argc, char **argv)
 {
     tg_set_log(cli_log_to_stderr, NULL);
@@ -180,66 +249,9 @@ int cmd_fit(int argc, char **argv)
             return usage_error("unknown option '%s'", a);
         if (!v)
             return usage_error("%s needs a value", a);
-        if (!strcmp(a, "--out")) {
-            o.output = v;
-        } else if (!strcmp(a, "--terms")) {
-            if (parse_terms(v, &o))
-                return cli_exit_code(TG_ERR_USAGE);
-        } else if (!strcmp(a, "--layers")) {
-            if (!strcmp(v, "separate"))
-                o.shared = 0;
-            else if (!strcmp(v, "shared"))
-                o.shared = 1;
-            else
-                return usage_error("--layers: expected separate or shared, got '%s'", v);
-        } else if (!strcmp(a, "--method")) {
-            if (!strcmp(v, "ols"))
-                o.set.method = TG_FIT_OLS;
-            else if (!strcmp(v, "ridge"))
-                o.set.method = TG_FIT_RIDGE;
-            else if (!strcmp(v, "stlsq"))
-                o.set.method = TG_FIT_STLSQ;
-            else if (!strcmp(v, "rvm"))
-                o.set.method = TG_FIT_RVM;
-            else
-                return usage_error("--method: expected ols, ridge, stlsq or rvm, got '%s'", v);
-        } else if (!strcmp(a, "--ridge")) {
-            if (parse_real(v, 0.0, &o.set.ridge))
-                return usage_error("--ridge: expected a real number >= 0, got '%s'", v);
-            have_ridge = 1;
-        } else if (!strcmp(a, "--threshold")) {
-            if (parse_real(v, 0.0, &o.set.threshold))
-                return usage_error("--threshold: expected a real number >= 0, got '%s'", v);
-        } else if (!strcmp(a, "--prune-alpha")) {
-            if (parse_real(v, 1.0, &o.set.alpha_max))
-                return usage_error("--prune-alpha: expected a real number >= 1, got '%s'", v);
-        } else if (!strcmp(a, "--train")) {
-            if (parse_range(v, &o.train_first, &o.train_last))
-                return usage_error("--train: expected FIRST:LAST sample indices with FIRST <= "
-                                   "LAST, got '%s'", v);
-        } else if (!strcmp(a, "--test")) {
-            if (parse_range(v, &o.test_first, &o.test_last))
-                return usage_error("--test: expected FIRST:LAST sample indices with FIRST <= "
-                                   "LAST, got '%s'", v);
-        } else if (!strcmp(a, "--target")) {
-            if (!strcmp(v, "forcing"))
-                o.target = TG_FIT_TARGET_FORCING;
-            else if (!strcmp(v, "flux"))
-                o.target = TG_FIT_TARGET_FLUX;
-            else
-                return usage_error("--target: expected forcing or flux, got '%s'", v);
-        } else if (!strcmp(a, "--chunk-samples")) {
-            if (parse_int(v, 1, 100000, &o.chunk_samples))
-                return usage_error("--chunk-samples: expected a whole number from 1 to 100000, "
-                                   "got '%s'", v);
-        } else if (!strcmp(a, "--dump-design")) {
-            o.dump_path = v;
-        } else if (!strcmp(a, "--threads")) {
-            if (parse_int(v, 1, 4096, &threads))
-                return usage_error("--threads: expected a whole number >= 1, got '%s'", v);
-        } else {
-            return usage_error("unknown option '%s'", a);
-        }
+        const int bad = fit_option(a, v, &o, &threads, &have_ridge);
+        if (bad)
+            return bad;
         i++;
     }
     if (!o.input)

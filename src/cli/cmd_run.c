@@ -19,7 +19,7 @@ int cmd_run(int argc, char **argv)
     tg_config cfg;
     tg_set_log(cli_log_to_stderr, NULL);
     if (cli_parse(argc, argv, 2, "set out quiet overwrite threads member", &o, &st) != TG_OK ||
-        cli_load_config(&o, &cfg, &st) != TG_OK) {
+        cli_load_config(&o, TG_USE_RUN, &cfg, &st) != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         return cli_exit_code(st.code);
     }

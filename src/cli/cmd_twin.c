@@ -71,9 +71,8 @@ int cmd_twin(int argc, char **argv)
     cli_opts o;
     tg_config *cfg = NULL;
     tg_code rc = cli_begin(argc, argv, "set out quiet overwrite threads", &o, &cfg, &st);
-    /* Not cli_load_config: the checks are the twin's (tg_twin_run makes
-     * them all before it writes anything), and [closure] sections of the
-     * compared schemes are not unused here. */
+    /* Not cli_load_config: tg_twin_run validates (tg_config_validate for a
+     * twin) before it writes anything. */
     if (rc == TG_OK)
         rc = cli_read_config(&o, cfg, &st);
     if (rc != TG_OK) {

@@ -58,8 +58,9 @@ int cmd_vet(int argc, char **argv)
     cli_opts o;
     tg_config *cfg = NULL;
     tg_code rc = cli_begin(argc, argv, "set out quiet overwrite threads member", &o, &cfg, &st);
+    /* Not cli_load_config: tg_vet_run validates (tg_vet_validate). */
     if (rc == TG_OK)
-        rc = cli_load_config(&o, cfg, &st);
+        rc = cli_read_config(&o, cfg, &st);
     if (rc != TG_OK) {
         fprintf(stderr, "twingyre: %s\n", st.msg);
         free(cfg);

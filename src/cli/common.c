@@ -126,10 +126,10 @@ tg_code cli_read_config(const cli_opts *o, tg_config *cfg, tg_status *st)
     return TG_OK;
 }
 
-tg_code cli_load_config(const cli_opts *o, tg_config *cfg, tg_status *st)
+tg_code cli_load_config(const cli_opts *o, unsigned uses, tg_config *cfg, tg_status *st)
 {
     tg_code rc = cli_read_config(o, cfg, st);
-    return rc != TG_OK ? rc : tg_config_check(cfg, o->config_path, st);
+    return rc != TG_OK ? rc : tg_config_validate(cfg, uses, o->config_path, st);
 }
 
 tg_code cli_begin(int argc, char **argv, const char *allow, cli_opts *o, tg_config **cfg,

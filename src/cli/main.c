@@ -3,6 +3,7 @@
 #include <string.h>
 
 #include "cli.h"
+#include "twingyre.h"
 
 #ifndef PACKAGE_VERSION
 #define PACKAGE_VERSION "unknown"
@@ -81,6 +82,7 @@ static void usage(FILE *f)
 int main(int argc, char **argv)
 {
     cli_wait_policy(argv);
+    tg_init(); /* the closure layer's checks of config settings */
     if (argc < 2) {
         usage(stderr);
         return 1;

@@ -25,6 +25,53 @@ typedef struct {
     double t0;
 } slot;
 
+/* Starts pending members (from pending[*next]) in the free slots while the
+ * sweep is not stopped; 1 when a member could not be started (message on
+ * stderr and in st), else 0. */
+static int fill_slots(const sweep_ctl *c, slot *run, const int *pending, int npending, int *next,
+                      int *nrun, sweep_progress *pr, tg_status *st)
+{
+    for (int j = 0; j < c->jobs && *next < npending && !*c->stop; j++) {
+        if (run[j].pid > 0)
+            continue;
+        int k = pending[*next];
+        pid_t pid = sweep_launch(c, k, st);
+        if (pid < 0) {
+            fprintf(stderr, "twingyre: %s\n", st->msg);
+            return 1;
+        }
+        (*next)++;
+        run[j] = (slot){pid, k, tg_clock_s()};
+        (*nrun)++;
+        pr->running++;
+        pr->left--;
+        sweep_progress_show(pr, 1);
+    }
+    return 0;
+}
+
+/* The slot's child ended with wait status ws: records how its member ended,
+ * counts it and frees the slot. 1 when the count stops the sweep. */
+static int reap_slot(const sweep_ctl *c, slot *s, int ws, sweep_progress *pr)
+{
+    int stopped = 0;
+    tg_code code = sweep_reap(c, s->member, ws);
+    if (sweep_progress_count(pr, code, tg_clock_s() - s->t0)) {
+        stopped = 1;
+    } else if (code != TG_OK && !c->quiet) {
+        tg_member_status ms;
+        tg_status rst;
+        if (tg_sweep_read_status(c->sw, s->member, &ms, &rst) == TG_OK) {
+            sweep_progress_end(pr);
+            fprintf(stderr, "twingyre: member %d (%s) failed with status %d: %s\n", s->member,
+                    c->sw->name[s->member], (int)code, ms.message);
+        }
+    }
+    s->pid = 0;
+    sweep_progress_show(pr, 1);
+    return stopped;
+}
+
 int sweep_pool(const sweep_ctl *c)
 {
     const tg_sweep *sw = c->sw;
@@ -65,23 +112,8 @@ int sweep_pool(const sweep_ctl *c)
                     kill(run[j].pid, SIGINT);
             forwarded = 1;
         }
-        for (int j = 0; j < c->jobs && next < npending && !*c->stop && !launch_error; j++) {
-            if (run[j].pid > 0)
-                continue;
-            int k = pending[next];
-            pid_t pid = sweep_launch(c, k, &st);
-            if (pid < 0) {
-                fprintf(stderr, "twingyre: %s\n", st.msg);
-                launch_error = 1;
-                break;
-            }
-            next++;
-            run[j] = (slot){pid, k, tg_clock_s()};
-            nrun++;
-            pr.running++;
-            pr.left--;
-            sweep_progress_show(&pr, 1);
-        }
+        if (!launch_error)
+            launch_error = fill_slots(c, run, pending, npending, &next, &nrun, &pr, &st);
         int ws;
         pid_t p = waitpid(-1, &ws, WNOHANG);
         if (p < 0 && errno != EINTR && errno != ECHILD) {
@@ -94,25 +126,11 @@ int sweep_pool(const sweep_ctl *c)
             sweep_progress_show(&pr, 0);
             continue;
         }
-        for (int j = 0; j < c->jobs; j++) {
-            if (run[j].pid != p)
-                continue;
-            tg_code code = sweep_reap(c, run[j].member, ws);
-            nrun--;
-            if (sweep_progress_count(&pr, code, tg_clock_s() - run[j].t0)) {
-                stopped = 1;
-            } else if (code != TG_OK && !c->quiet) {
-                tg_member_status ms;
-                tg_status rst;
-                if (tg_sweep_read_status(sw, run[j].member, &ms, &rst) == TG_OK) {
-                    sweep_progress_end(&pr);
-                    fprintf(stderr, "twingyre: member %d (%s) failed with status %d: %s\n",
-                            run[j].member, sw->name[run[j].member], (int)code, ms.message);
-                }
+        for (int j = 0; j < c->jobs; j++)
+            if (run[j].pid == p) {
+                stopped |= reap_slot(c, &run[j], ws, &pr);
+                nrun--;
             }
-            run[j].pid = 0;
-            sweep_progress_show(&pr, 1);
-        }
     }
     sweep_progress_end(&pr);
     if (*c->stop)

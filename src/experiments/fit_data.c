@@ -148,7 +148,7 @@ tg_fit_data *tg_fit_data_open(const char *path, tg_fit_target target, const int 
     tg_status cs;
     tg_status_clear(&cs);
     if (tg_config_load_text(base, text, name, &cs) != TG_OK ||
-        tg_twin_coarse_config(base, name, crs, &cs) != TG_OK) {
+        tg_config_twin_coarse(base, name, crs, &cs) != TG_OK) {
         tg_fail(st, TG_ERR_IO, "%s", cs.msg);
         goto fail;
     }
@@ -229,6 +229,98 @@ static int bad_value(double v)
     return !isfinite(v) || fabs(v) >= 0.5 * TG_TWIN_FILL;
 }
 
+/* The basis terms of the model's state (set from a record) as the columns
+ * of X, a row per active node, layer k's rows from X + k * layer_stride * p. */
+static tg_code term_rows(tg_fit_data *d, double *X, long layer_stride, tg_status *st)
+{
+    const tg_model *m = d->m;
+    const tg_geometry *g = m->geom;
+    const int ns = g->ns, a0 = g->a0, a1 = g->a1, p = d->p;
+    const long npl = m->npl;
+    tg_code rc;
+    for (int k = 0; k < d->nl; k++) {
+        const long off = k * npl;
+        double *Xk = X + (long)k * layer_stride * p;
+        for (int c = 0; c < p; c++) {
+            if ((rc = tg_basis_eval(d->basis, d->terms[c], m->psi + off, m->q + off,
+                                    m->zeta + off, NULL, NULL, d->work, st)) != TG_OK)
+                return rc;
+            long r = 0;
+            for (int j = a0; j < a1; j++)
+                for (int i = a0; i < a1; i++, r++)
+                    Xk[r * p + c] = d->work[(long)j * ns + i];
+        }
+    }
+    return TG_OK;
+}
+
+/* For --target flux: div F of layer k of the record in d->in (F_x) and
+ * d->in2 (F_y) into d->work on the active nodes; a fill value or non-finite
+ * flux on a node the differences read is refused. */
+static tg_code flux_divergence(tg_fit_data *d, int rec, int k, tg_status *st)
+{
+    const tg_geometry *g = d->m->geom;
+    const tg_closure_tools *tl = tg_tools_get(d->tools);
+    const int ns = g->ns, a0 = g->a0, a1 = g->a1;
+    unpack_layer(d, d->in, k, d->fx);
+    unpack_layer(d, d->in2, k, d->fy);
+    if (g->o0 == g->a0) { /* the ring is not in the file: the halo */
+        tl->fill_ring(tl->ctx, d->fx, TG_RING_ZERO);
+        tl->fill_ring(tl->ctx, d->fy, TG_RING_ZERO);
+    }
+    for (int j = a0 - 1; j <= a1; j++)
+        for (int i = a0 - 1; i <= a1; i++) {
+            const long q = (long)j * ns + i;
+            if (bad_value(d->fx[q]) || bad_value(d->fy[q]))
+                return tg_fail(st, TG_ERR_IO,
+                               "%s: variable subgrid_flux_x or subgrid_flux_y, record %d, "
+                               "layer %d, node (x %d, y %d): fill value or not finite",
+                               d->path, rec, k + 1, i - g->o0, j - g->o0);
+        }
+    /* div F by the tools' centred differences: work = d_x F_x,
+     * work2 = d_y F_y, summed into work on the active nodes. */
+    tl->ddx(tl->ctx, d->fx, d->work);
+    tl->ddy(tl->ctx, d->fy, d->work2);
+    for (int j = a0; j < a1; j++)
+        for (int i = a0; i < a1; i++)
+            d->work[(long)j * ns + i] += d->work2[(long)j * ns + i];
+    return TG_OK;
+}
+
+/* The target of every layer's rows (-S_q, or -div F for --target flux) of
+ * record rec, layer k's from t + k * layer_stride. */
+static tg_code target_rows(tg_fit_data *d, int rec, double *t, long layer_stride, tg_status *st)
+{
+    const tg_geometry *g = d->m->geom;
+    const int ns = g->ns, a0 = g->a0, a1 = g->a1;
+    tg_code rc;
+    const char *tv = d->target == TG_FIT_TARGET_FLUX ? "subgrid_flux_x" : "subgrid_forcing";
+    if ((rc = tg_record_reader_get(d->rd, tv, rec, 0, d->in, st)) != TG_OK)
+        return rc;
+    if (d->target == TG_FIT_TARGET_FLUX &&
+        (rc = tg_record_reader_get(d->rd, "subgrid_flux_y", rec, 0, d->in2, st)) != TG_OK)
+        return rc;
+    for (int k = 0; k < d->nl; k++) {
+        double *tk = t + (long)k * layer_stride;
+        if (d->target == TG_FIT_TARGET_FORCING)
+            unpack_layer(d, d->in, k, d->work);
+        else if ((rc = flux_divergence(d, rec, k, st)) != TG_OK)
+            return rc;
+        long r = 0;
+        for (int j = a0; j < a1; j++)
+            for (int i = a0; i < a1; i++, r++) {
+                const double v = d->work[(long)j * ns + i];
+                if (bad_value(v))
+                    return tg_fail(st, TG_ERR_IO,
+                                   "%s: variable %s, record %d, layer %d, node (x %d, y %d): "
+                                   "fill value or not finite on an interior node",
+                                   d->path, tv, rec, k + 1, i - g->o0, j - g->o0);
+                tk[r] = -v;
+            }
+    }
+    return TG_OK;
+}
+
 tg_code tg_fit_data_rows(tg_fit_data *d, int rec, double *X, double *t, long layer_stride,
                          tg_status *st)
 {
@@ -243,73 +335,7 @@ tg_code tg_fit_data_rows(tg_fit_data *d, int rec, double *X, double *t, long lay
             return tg_fail(st, TG_ERR_IO, "%s: variable psi, record %d: value %ld is not finite",
                            d->path, rec, i);
     tg_model_set_psi(d->m, d->in);
-    const tg_model *m = d->m;
-    const tg_geometry *g = m->geom;
-    const tg_closure_tools *tl = tg_tools_get(d->tools);
-    const int ns = g->ns, a0 = g->a0, a1 = g->a1, p = d->p;
-    const long npl = m->npl;
-
-    /* Terms. */
-    for (int k = 0; k < d->nl; k++) {
-        const long off = k * npl;
-        double *Xk = X + (long)k * layer_stride * p;
-        for (int c = 0; c < p; c++) {
-            if ((rc = tg_basis_eval(d->basis, d->terms[c], m->psi + off, m->q + off,
-                                    m->zeta + off, NULL, NULL, d->work, st)) != TG_OK)
-                return rc;
-            long r = 0;
-            for (int j = a0; j < a1; j++)
-                for (int i = a0; i < a1; i++, r++)
-                    Xk[r * p + c] = d->work[(long)j * ns + i];
-        }
-    }
-
-    /* Target. */
-    const char *tv = d->target == TG_FIT_TARGET_FLUX ? "subgrid_flux_x" : "subgrid_forcing";
-    if ((rc = tg_record_reader_get(d->rd, tv, rec, 0, d->in, st)) != TG_OK)
+    if ((rc = term_rows(d, X, layer_stride, st)) != TG_OK)
         return rc;
-    if (d->target == TG_FIT_TARGET_FLUX &&
-        (rc = tg_record_reader_get(d->rd, "subgrid_flux_y", rec, 0, d->in2, st)) != TG_OK)
-        return rc;
-    for (int k = 0; k < d->nl; k++) {
-        double *tk = t + (long)k * layer_stride;
-        if (d->target == TG_FIT_TARGET_FORCING) {
-            unpack_layer(d, d->in, k, d->work);
-        } else {
-            unpack_layer(d, d->in, k, d->fx);
-            unpack_layer(d, d->in2, k, d->fy);
-            if (g->o0 == g->a0) { /* the ring is not in the file: the halo */
-                tl->fill_ring(tl->ctx, d->fx, TG_RING_ZERO);
-                tl->fill_ring(tl->ctx, d->fy, TG_RING_ZERO);
-            }
-            for (int j = a0 - 1; j <= a1; j++)
-                for (int i = a0 - 1; i <= a1; i++) {
-                    const long q = (long)j * ns + i;
-                    if (bad_value(d->fx[q]) || bad_value(d->fy[q]))
-                        return tg_fail(st, TG_ERR_IO,
-                                       "%s: variable subgrid_flux_x or subgrid_flux_y, record %d, "
-                                       "layer %d, node (x %d, y %d): fill value or not finite",
-                                       d->path, rec, k + 1, i - g->o0, j - g->o0);
-                }
-            /* div F by the tools' centred differences: work = d_x F_x,
-             * work2 = d_y F_y, summed into work on the active nodes. */
-            tl->ddx(tl->ctx, d->fx, d->work);
-            tl->ddy(tl->ctx, d->fy, d->work2);
-            for (int j = a0; j < a1; j++)
-                for (int i = a0; i < a1; i++)
-                    d->work[(long)j * ns + i] += d->work2[(long)j * ns + i];
-        }
-        long r = 0;
-        for (int j = a0; j < a1; j++)
-            for (int i = a0; i < a1; i++, r++) {
-                const double v = d->work[(long)j * ns + i];
-                if (bad_value(v))
-                    return tg_fail(st, TG_ERR_IO,
-                                   "%s: variable %s, record %d, layer %d, node (x %d, y %d): "
-                                   "fill value or not finite on an interior node",
-                                   d->path, tv, rec, k + 1, i - g->o0, j - g->o0);
-                tk[r] = -v;
-            }
-    }
-    return TG_OK;
+    return target_rows(d, rec, t, layer_stride, st);
 }

@@ -3,7 +3,7 @@
  *
  * Grid: the file's `resolved_config` attribute is the twin's whole config;
  * the coarse config is derived from it as the twin derives it
- * (tg_twin_coarse_config), without a closure, and a coarse model is built
+ * (tg_config_twin_coarse), without a closure, and a coarse model is built
  * on it (geometry, stretching matrix, inversion).
  *
  * Which fields the terms see: the sample's coarse-grained streamfunction

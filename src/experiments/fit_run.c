@@ -279,6 +279,27 @@ static const char *method_source(tg_fit_method m)
     return "";
 }
 
+/* The coefficients file's line of the method's settings (none for plain
+ * least squares). */
+static void settings_line(const tg_fit_settings *set, tg_strbuf *b)
+{
+    switch (set->method) {
+    case TG_FIT_RIDGE:
+        tg_sb_printf(b, "# settings: ridge %.6g (on the standardized Gram matrix)\n", set->ridge);
+        break;
+    case TG_FIT_STLSQ:
+        tg_sb_printf(b, "# settings: threshold %.6g on standardized coefficients, ridge %.6g\n",
+                     set->threshold, set->ridge);
+        break;
+    case TG_FIT_RVM:
+        tg_sb_printf(b, "# settings: prune alpha above %.6g (standardized); std column: "
+                        "posterior standard deviation\n", set->alpha_max);
+        break;
+    default:
+        break;
+    }
+}
+
 static char *file_text(const fit_ctx *k)
 {
     const tg_fit_options *o = k->o;
@@ -306,22 +327,7 @@ static char *file_text(const fit_ctx *k)
                                                   : "separate (one set per layer)");
     tg_sb_printf(&b, "# method: %s: %s\n", tg_fit_method_name(o->set.method),
                  method_source(o->set.method));
-    switch (o->set.method) {
-    case TG_FIT_RIDGE:
-        tg_sb_printf(&b, "# settings: ridge %.6g (on the standardized Gram matrix)\n",
-                     o->set.ridge);
-        break;
-    case TG_FIT_STLSQ:
-        tg_sb_printf(&b, "# settings: threshold %.6g on standardized coefficients, ridge %.6g\n",
-                     o->set.threshold, o->set.ridge);
-        break;
-    case TG_FIT_RVM:
-        tg_sb_printf(&b, "# settings: prune alpha above %.6g (standardized); std column: "
-                         "posterior standard deviation\n", o->set.alpha_max);
-        break;
-    default:
-        break;
-    }
+    settings_line(&o->set, &b);
     tg_sb_printf(&b, "# standardization: each term column divided by its root-mean-square on "
                      "the training rows, target likewise, no centring\n");
     fmt_window(k, W_TRAIN, win, sizeof win);
@@ -482,6 +488,123 @@ static void ctx_free(fit_ctx *k)
     free(k);
 }
 
+/* The fit's terms, its data (opened, windows checked against the samples),
+ * a chunk's rows, the accumulators and, when asked, the dump file. */
+static tg_code fit_setup(fit_ctx *k, tg_status *st)
+{
+    const tg_fit_options *o = k->o;
+    tg_code rc;
+    k->p = o->nterms > 0 ? o->nterms : tg_basis_count();
+    if (k->p > TG_FIT_MAX_TERMS)
+        return tg_fail(st, TG_ERR_INTERNAL, "fit: too many terms");
+    for (int c = 0; c < k->p; c++) {
+        k->terms[c] = o->nterms > 0 ? o->terms[c] : c;
+        k->names[c] = tg_basis_term_at(k->terms[c])->name;
+    }
+    if (!(k->d = tg_fit_data_open(o->input, o->target, k->terms, k->p, st)))
+        return st->code ? st->code : TG_ERR_IO;
+    k->nl = tg_fit_data_layers(k->d);
+    k->na = tg_fit_data_nodes(k->d);
+    const int nrec = tg_fit_data_samples(k->d);
+    if (nrec < 1)
+        return tg_fail(st, TG_ERR_IO, "%s: no samples", o->input);
+    k->first[W_TRAIN] = o->train_first < 0 ? 0 : o->train_first;
+    k->last[W_TRAIN] = o->train_first < 0 ? nrec - 1 : o->train_last;
+    k->first[W_TEST] = o->test_first;
+    k->last[W_TEST] = o->test_last;
+    if ((rc = check_window(k->first[W_TRAIN], k->last[W_TRAIN], nrec, "--train", st, o->input)) ||
+        (o->test_first >= 0 &&
+         (rc = check_window(o->test_first, o->test_last, nrec, "--test", st, o->input))))
+        return rc;
+    k->total = k->last[W_TRAIN] - k->first[W_TRAIN] + 1 +
+               (k->first[W_TEST] >= 0 ? k->last[W_TEST] - k->first[W_TEST] + 1 : 0);
+    const size_t rows = (size_t)o->chunk_samples * k->nl * k->na;
+    k->X = malloc(sizeof(double) * rows * k->p);
+    k->t = malloc(sizeof(double) * rows);
+    if (!k->X || !k->t)
+        return tg_fail(st, TG_ERR_NOMEM, "fit: no memory for a chunk of %d samples (%.3g MB); "
+                       "lower --chunk-samples", o->chunk_samples,
+                       rows * (k->p + 1) * 8.0 / 1e6);
+    for (int w = 0; w < 2; w++)
+        for (int l = 0; l < k->nl; l++)
+            if (!(k->acc[w][l] = tg_fit_acc_create(k->p, st)))
+                return st->code;
+    return o->dump_path ? dump_open(k, st) : TG_OK;
+}
+
+/* The fits (per layer or one for every layer) on the training window with
+ * their backward-elimination paths, then the skill of every layer in both
+ * windows. */
+static tg_code fit_all(fit_ctx *k, tg_status *st)
+{
+    const tg_fit_options *o = k->o;
+    tg_code rc = TG_OK;
+    k->nfits = o->shared ? 1 : k->nl;
+    tg_fit_acc *pool = NULL;
+    if (o->shared) {
+        if (!(pool = tg_fit_acc_create(k->p, st)))
+            rc = st->code;
+        for (int l = 0; l < k->nl && rc == TG_OK; l++)
+            tg_fit_acc_merge(pool, k->acc[W_TRAIN][l]);
+    }
+    const double lam = o->set.method == TG_FIT_RIDGE ? o->set.ridge : 0.0;
+    for (int f = 0; f < k->nfits && rc == TG_OK; f++) {
+        const tg_fit_acc *a = o->shared ? pool : k->acc[W_TRAIN][f];
+        rc = tg_fit_solve(a, NULL, k->names, &o->set, &k->res[f], st);
+        if (rc == TG_OK && k->res[f].rank < k->res[f].nkept)
+            warn_rank(k, f);
+        if (rc == TG_OK)
+            rc = tg_fit_path_backward(a, NULL, lam, &k->path[f], st);
+        if (rc != TG_OK && !o->shared)
+            rc = tg_fail(st, rc, "layer %d: %s", f + 1, st->msg);
+    }
+    tg_fit_acc_destroy(pool);
+    if (rc != TG_OK)
+        return rc;
+    for (int w = 0; w < 2; w++)
+        for (int l = 0; l < k->nl; l++) {
+            const tg_fit_result *r = &k->res[o->shared ? 0 : l];
+            if (w == W_TEST && k->first[W_TEST] < 0)
+                k->skill[w][l] = (tg_fit_skill){NAN, NAN, 0};
+            else
+                k->skill[w][l] = tg_fit_skill_of(k->acc[w][l], r->coef);
+        }
+    return TG_OK;
+}
+
+/* The printed summary: the fit, its skill, the kept coefficients with
+ * their units and the elimination path; NULL when out of memory. */
+static char *report_text(const fit_ctx *k)
+{
+    const tg_fit_options *o = k->o;
+    tg_strbuf b = {0};
+    tg_sb_printf(&b, "fit of %s: %s, %s layers, %d terms\n", o->input,
+                 tg_fit_method_name(o->set.method), o->shared ? "shared" : "separate", k->p);
+    summary(k, &b, "");
+    tg_sb_printf(&b, "layer  term                        coefficient        std        "
+                     "unit\n");
+    for (int f = 0; f < k->nfits; f++)
+        for (int c = 0; c < k->p; c++) {
+            const tg_fit_result *r = &k->res[f];
+            if (!r->kept[c])
+                continue;
+            char lay[16];
+            layer_label(o->shared, f, lay, sizeof lay);
+            tg_sb_printf(&b, "%-6s %-26s %13.6g  ", lay, k->names[c], r->coef[c]);
+            if (r->std[c] >= 0)
+                tg_sb_printf(&b, "%10.3g", r->std[c]);
+            else
+                tg_sb_printf(&b, "%10s", "-");
+            tg_sb_printf(&b, "  %s\n", tg_basis_term_at(k->terms[c])->coef_unit);
+        }
+    path_text(k, &b, "");
+    if (b.oom) {
+        free(b.s);
+        return NULL;
+    }
+    return b.s;
+}
+
 tg_code tg_fit_run(const tg_fit_options *o, char **report, tg_status *st)
 {
     if (report)
@@ -503,94 +626,13 @@ tg_code tg_fit_run(const tg_fit_options *o, char **report, tg_status *st)
         return tg_fail(st, TG_ERR_NOMEM, "fit: no memory");
     k->o = o;
     k->dump_nc = -1;
-    tg_code rc = TG_OK;
-    k->p = o->nterms > 0 ? o->nterms : tg_basis_count();
-    if (k->p > TG_FIT_MAX_TERMS) {
-        ctx_free(k);
-        return tg_fail(st, TG_ERR_INTERNAL, "fit: too many terms");
-    }
-    for (int c = 0; c < k->p; c++) {
-        k->terms[c] = o->nterms > 0 ? o->terms[c] : c;
-        k->names[c] = tg_basis_term_at(k->terms[c])->name;
-    }
-    if (!(k->d = tg_fit_data_open(o->input, o->target, k->terms, k->p, st))) {
-        ctx_free(k);
-        return st->code ? st->code : TG_ERR_IO;
-    }
-    k->nl = tg_fit_data_layers(k->d);
-    k->na = tg_fit_data_nodes(k->d);
-    const int nrec = tg_fit_data_samples(k->d);
-    if (nrec < 1) {
-        ctx_free(k);
-        return tg_fail(st, TG_ERR_IO, "%s: no samples", o->input);
-    }
-    k->first[W_TRAIN] = o->train_first < 0 ? 0 : o->train_first;
-    k->last[W_TRAIN] = o->train_first < 0 ? nrec - 1 : o->train_last;
-    k->first[W_TEST] = o->test_first;
-    k->last[W_TEST] = o->test_last;
-    if ((rc = check_window(k->first[W_TRAIN], k->last[W_TRAIN], nrec, "--train", st, o->input)) ||
-        (o->test_first >= 0 &&
-         (rc = check_window(o->test_first, o->test_last, nrec, "--test", st, o->input)))) {
-        ctx_free(k);
-        return rc;
-    }
-    k->total = k->last[W_TRAIN] - k->first[W_TRAIN] + 1 +
-               (k->first[W_TEST] >= 0 ? k->last[W_TEST] - k->first[W_TEST] + 1 : 0);
-    const size_t rows = (size_t)o->chunk_samples * k->nl * k->na;
-    k->X = malloc(sizeof(double) * rows * k->p);
-    k->t = malloc(sizeof(double) * rows);
-    if (!k->X || !k->t) {
-        ctx_free(k);
-        return tg_fail(st, TG_ERR_NOMEM, "fit: no memory for a chunk of %d samples (%.3g MB); "
-                       "lower --chunk-samples", o->chunk_samples,
-                       rows * (k->p + 1) * 8.0 / 1e6);
-    }
-    for (int w = 0; w < 2; w++)
-        for (int l = 0; l < k->nl; l++)
-            if (!(k->acc[w][l] = tg_fit_acc_create(k->p, st))) {
-                ctx_free(k);
-                return st->code;
-            }
-    if (o->dump_path && (rc = dump_open(k, st)) != TG_OK) {
-        ctx_free(k);
-        return rc;
-    }
-    if ((rc = read_window(k, W_TRAIN, st)) == TG_OK && k->first[W_TEST] >= 0)
+    tg_code rc = fit_setup(k, st);
+    if (rc == TG_OK)
+        rc = read_window(k, W_TRAIN, st);
+    if (rc == TG_OK && k->first[W_TEST] >= 0)
         rc = read_window(k, W_TEST, st);
-
-    /* Fits. */
-    if (rc == TG_OK) {
-        k->nfits = o->shared ? 1 : k->nl;
-        tg_fit_acc *pool = NULL;
-        if (o->shared) {
-            if (!(pool = tg_fit_acc_create(k->p, st)))
-                rc = st->code;
-            for (int l = 0; l < k->nl && rc == TG_OK; l++)
-                tg_fit_acc_merge(pool, k->acc[W_TRAIN][l]);
-        }
-        const double lam = o->set.method == TG_FIT_RIDGE ? o->set.ridge : 0.0;
-        for (int f = 0; f < k->nfits && rc == TG_OK; f++) {
-            const tg_fit_acc *a = o->shared ? pool : k->acc[W_TRAIN][f];
-            rc = tg_fit_solve(a, NULL, k->names, &o->set, &k->res[f], st);
-            if (rc == TG_OK && k->res[f].rank < k->res[f].nkept)
-                warn_rank(k, f);
-            if (rc == TG_OK)
-                rc = tg_fit_path_backward(a, NULL, lam, &k->path[f], st);
-            if (rc != TG_OK && !o->shared)
-                rc = tg_fail(st, rc, "layer %d: %s", f + 1, st->msg);
-        }
-        tg_fit_acc_destroy(pool);
-    }
-    if (rc == TG_OK) {
-        for (int w = 0; w < 2; w++)
-            for (int l = 0; l < k->nl; l++) {
-                const tg_fit_result *r = &k->res[o->shared ? 0 : l];
-                if (w == W_TEST && k->first[W_TEST] < 0)
-                    k->skill[w][l] = (tg_fit_skill){NAN, NAN, 0};
-                else
-                    k->skill[w][l] = tg_fit_skill_of(k->acc[w][l], r->coef);
-            }
-    }
+    if (rc == TG_OK)
+        rc = fit_all(k, st);
     if (rc == TG_OK && k->dump_nc >= 0) {
         rc = tg_nc_check(nc_close(k->dump_nc), k->dump_tmp, "closing the file", NULL, st);
         k->dump_nc = -1;
@@ -600,33 +642,8 @@ tg_code tg_fit_run(const tg_fit_options *o, char **report, tg_status *st)
     }
     if (rc == TG_OK)
         rc = write_output(k, st);
-    if (rc == TG_OK && report) {
-        tg_strbuf b = {0};
-        tg_sb_printf(&b, "fit of %s: %s, %s layers, %d terms\n", o->input,
-                     tg_fit_method_name(o->set.method), o->shared ? "shared" : "separate", k->p);
-        summary(k, &b, "");
-        tg_sb_printf(&b, "layer  term                        coefficient        std        "
-                         "unit\n");
-        for (int f = 0; f < k->nfits; f++)
-            for (int c = 0; c < k->p; c++) {
-                const tg_fit_result *r = &k->res[f];
-                if (!r->kept[c])
-                    continue;
-                char lay[16];
-                layer_label(o->shared, f, lay, sizeof lay);
-                tg_sb_printf(&b, "%-6s %-26s %13.6g  ", lay, k->names[c], r->coef[c]);
-                if (r->std[c] >= 0)
-                    tg_sb_printf(&b, "%10.3g", r->std[c]);
-                else
-                    tg_sb_printf(&b, "%10s", "-");
-                tg_sb_printf(&b, "  %s\n", tg_basis_term_at(k->terms[c])->coef_unit);
-            }
-        path_text(k, &b, "");
-        if (b.oom)
-            free(b.s);
-        else
-            *report = b.s;
-    }
+    if (rc == TG_OK && report)
+        *report = report_text(k);
     ctx_free(k);
     return rc;
 }

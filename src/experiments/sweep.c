@@ -1,6 +1,7 @@
 /* sweep.c - the sweep file (libinih), its members, their names and their
  * resolved configs (sweep.h). */
 #include "sweep.h"
+#include "ini_lines.h"
 #include "textfile.h"
 #include "twin.h"
 
@@ -20,17 +21,18 @@
 #define TG_SWEEP_FILE_MAX (1024L * 1024L)
 
 typedef struct {
-    const char *path;
-    const char *buf;
-    size_t len, pos;
-    int lineno;
+    tg_ini_lines lines;  /* the reader every INI file shares (ini_lines.h) */
     tg_sweep *sw;
-    tg_status *st;
-    int failed;
-    int continued;       /* the line being handled is an indented continuation */
     int last_axis;       /* axis of the previous key = value line, -1 when none */
     int line_base, line_kind, line_combine;
     char kind[32], combine[32], base[TG_PATH_LEN], directory[TG_PATH_LEN];
+    /* Keys that take one value, with the line that set them (a second one
+     * is refused, as in a config file). */
+    struct {
+        char key[48];
+        int line;
+    } once[24];
+    int nonce;
 } sweep_ctx;
 
 static int ctx_fail(sweep_ctx *c, const char *fmt, ...) __attribute__((format(printf, 2, 3)));
@@ -41,42 +43,34 @@ static int ctx_fail(sweep_ctx *c, const char *fmt, ...)
     va_start(ap, fmt);
     vsnprintf(msg, sizeof msg, fmt, ap);
     va_end(ap);
-    if (!c->failed)
-        tg_fail(c->st, TG_ERR_CONFIG, "%s:%d: %s", c->path, c->lineno, msg);
-    c->failed = 1;
+    tg_ini_lines_fail(&c->lines, c->lines.lineno, "%s", msg);
     return 0;
 }
 
-/* Line reader for ini_parse_stream: counts lines (the Debian libinih
- * handler gets no line number) and notes indented continuation lines
- * (libinih hands them to the handler with the previous key). */
-static char *reader(char *str, int num, void *stream)
+/* 1 the first time [section] key is set; a failure the second time. */
+static int set_once(sweep_ctx *c, const char *section, const char *key)
 {
-    sweep_ctx *c = stream;
-    if (c->failed || c->pos >= c->len || num < 4)
-        return NULL;
-    const char *start = c->buf + c->pos;
-    size_t rest = c->len - c->pos;
-    const char *nl = memchr(start, '\n', rest);
-    size_t take = nl ? (size_t)(nl - start) + 1 : rest;
-    c->lineno++;
-    c->pos += take;
-    if (take > (size_t)num - 2) {
-        ctx_fail(c, "line is %zu characters long; at most %d are allowed", take, num - 2);
-        return NULL;
+    char name[48];
+    snprintf(name, sizeof name, "%s.%s", section, key);
+    for (int i = 0; i < c->nonce; i++)
+        if (!strcmp(c->once[i].key, name))
+            return ctx_fail(c, "[%s] %s: set twice, on line %d and again on line %d; keep one",
+                            section, key, c->once[i].line, c->lines.lineno);
+    if (c->nonce < (int)(sizeof c->once / sizeof c->once[0])) {
+        snprintf(c->once[c->nonce].key, sizeof c->once[0].key, "%s", name);
+        c->once[c->nonce++].line = c->lines.lineno;
     }
-    memcpy(str, start, take);
-    str[take] = '\0';
-    const char *p = str;
-    c->continued = 0;
-    if (p[strspn(p, " \t")] == '[')
-        c->last_axis = -1; /* a section header ends any value list */
-    if (*p == ' ' || *p == '\t') {
-        while (*p == ' ' || *p == '\t')
-            p++;
-        c->continued = *p && *p != '\r' && *p != '\n' && *p != ';' && *p != '#';
-    }
-    return str;
+    return 1;
+}
+
+/* A section header ends any value list. */
+static int sweep_header(void *user, const char *name, char *why, size_t n)
+{
+    (void)name;
+    (void)why;
+    (void)n;
+    ((sweep_ctx *)user)->last_axis = -1;
+    return 0;
 }
 
 static int copy_text(sweep_ctx *c, char *dst, size_t n, const char *section, const char *key,
@@ -161,7 +155,7 @@ static tg_sweep_axis *new_axis(sweep_ctx *c, const char *section, const char *ke
     }
     tg_sweep_axis *ax = &sw->axis[sw->naxes++];
     memset(ax, 0, sizeof *ax);
-    ax->line = c->lineno;
+    ax->line = c->lines.lineno;
     return ax;
 }
 
@@ -219,11 +213,11 @@ static int on_pair(void *user, const char *section, const char *key, const char 
 {
     sweep_ctx *c = user;
     tg_sweep *sw = c->sw;
-    if (c->failed)
+    if (c->lines.failed)
         return 0;
     if (!key) /* a section header alone */
         return 1;
-    if (c->continued) {
+    if (c->lines.continued) {
         if (c->last_axis < 0)
             return ctx_fail(c, "indented line continues [%s] %s, which takes one value; only "
                                "value lists ([vary] keys, seeds, members) go on over indented "
@@ -235,16 +229,20 @@ static int on_pair(void *user, const char *section, const char *key, const char 
     }
     c->last_axis = -1;
     if (!strcmp(section, "sweep")) {
+        const int scalar = !strcmp(key, "base") || !strcmp(key, "kind") ||
+                           !strcmp(key, "combine") || !strcmp(key, "directory");
+        if (scalar && !set_once(c, section, key))
+            return 0;
         if (!strcmp(key, "base")) {
-            c->line_base = c->lineno;
+            c->line_base = c->lines.lineno;
             return copy_text(c, c->base, sizeof c->base, section, key, value);
         }
         if (!strcmp(key, "kind")) {
-            c->line_kind = c->lineno;
+            c->line_kind = c->lines.lineno;
             return copy_text(c, c->kind, sizeof c->kind, section, key, value);
         }
         if (!strcmp(key, "combine")) {
-            c->line_combine = c->lineno;
+            c->line_combine = c->lines.lineno;
             return copy_text(c, c->combine, sizeof c->combine, section, key, value);
         }
         if (!strcmp(key, "directory")) {
@@ -287,8 +285,12 @@ static int on_pair(void *user, const char *section, const char *key, const char 
         c->last_axis = sw->naxes - 1;
         return split_values(c, ax, section, value, 0);
     }
-    if (!strcmp(section, "cluster"))
+    if (!strcmp(section, "cluster")) {
+        /* extra and setup are lists, one line each; the others one value. */
+        if (strcmp(key, "extra") != 0 && strcmp(key, "setup") != 0 && !set_once(c, section, key))
+            return 0;
         return cluster_pair(c, key, value);
+    }
     return ctx_fail(c, "unknown section [%s] (sections: sweep, vary, cluster)", section);
 }
 
@@ -416,8 +418,8 @@ tg_code tg_sweep_member_config(const tg_sweep *sw, int k, tg_config *cfg, tg_sta
         return tg_fail(st, TG_ERR_CONFIG, "%s: the member folder %s is too long", sw->path, dir);
     strcpy(cfg->out_directory, dir);
     if (sw->kind == TG_SWEEP_TWIN)
-        return tg_twin_check(cfg, sw->base, st);
-    return tg_config_check(cfg, sw->base, st);
+        return tg_config_validate(cfg, TG_USE_TWIN | TG_USE_QUIET, sw->base, st);
+    return tg_config_validate(cfg, TG_USE_RUN | TG_USE_QUIET, sw->base, st);
 }
 
 /* ---------------------------------------------------------------- loading */
@@ -520,20 +522,15 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
     strcpy(sw->cluster.time_limit, "01:00:00");
     strcpy(sw->cluster.collect_time_limit, "00:10:00");
     strcpy(sw->cluster.job_name, "twingyre-sweep");
-    c->path = path;
-    c->buf = buf;
-    c->len = len;
     c->sw = sw;
-    c->st = st;
     c->last_axis = -1;
-    int r = ini_parse_stream(reader, c, on_pair, c);
-    if (!c->failed && r > 0)
-        rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: expected 'key = value', a [section] header or a "
-                                        "comment", path, r);
-    else if (c->failed)
-        rc = TG_ERR_CONFIG;
-    else if (r != 0)
-        rc = tg_fail(st, TG_ERR_INTERNAL, "%s: libinih returned %d", path, r);
+    rc = tg_ini_lines_start(&c->lines, path, buf, len, st);
+    c->lines.allow_continuation = 1;
+    c->lines.header = sweep_header;
+    c->lines.header_user = c;
+    if (rc == TG_OK)
+        rc = tg_ini_lines_finish(&c->lines, ini_parse_stream(tg_ini_lines_read, &c->lines, on_pair, c),
+                                 st);
     free(buf);
 
     /* [sweep] keys. */

@@ -97,8 +97,8 @@ int tg_sweep_choice(const tg_sweep *sw, int k, int a);
 int tg_sweep_member_sets(const tg_sweep *sw, int k, char sets[][2 * TG_SWEEP_VALUE_LEN + 2]);
 
 /* The member's resolved config: defaults -> base -> its overrides ->
- * output directory DIRECTORY/NAME -> checks (tg_config_check for runs,
- * tg_twin_check for twins). A failure is the member's (TG_ERR_CONFIG with
+ * output directory DIRECTORY/NAME -> checks (tg_config_validate for a run or a twin,
+ * without its warnings). A failure is the member's (TG_ERR_CONFIG with
  * the message of the failing override or check). */
 tg_code tg_sweep_member_config(const tg_sweep *sw, int k, tg_config *cfg, tg_status *st);
 

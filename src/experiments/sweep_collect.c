@@ -79,9 +79,45 @@ static void extra_free(extra_table *t)
     free(t->val);
 }
 
+/* The largest |energy_residual| over the records of an open budget.nc
+ * relative to the largest |energy_TERM| of any other term (the residual
+ * itself when every term is zero) in *share; buf holds nt values. */
+static tg_code residual_share(int ncid, const char *path, size_t nt, double *buf, double *share,
+                              tg_status *st)
+{
+    int nvars = 0;
+    tg_code rc = tg_nc_check(nc_inq_nvars(ncid, &nvars), path, "counting variables", NULL, st);
+    double res = 0.0, big = 0.0;
+    for (int i = 0; i < nvars && rc == TG_OK; i++) {
+        char name[NC_MAX_NAME + 1];
+        int ndims;
+        if ((rc = tg_nc_check(nc_inq_varname(ncid, i, name), path, "reading a variable name",
+                              NULL, st)) != TG_OK ||
+            (rc = tg_nc_check(nc_inq_varndims(ncid, i, &ndims), path, "reading", name, st)) !=
+                TG_OK)
+            break;
+        if (strncmp(name, "energy_", 7) != 0 || ndims != 1 || !strcmp(name, "energy_tendency"))
+            continue;
+        if ((rc = tg_nc_check(nc_get_var_double(ncid, i, buf), path, "reading", name, st)) != TG_OK)
+            break;
+        double mx = 0.0;
+        for (size_t t = 0; t < nt; t++)
+            mx = fmax(mx, fabs(buf[t]));
+        if (!strcmp(name, "energy_residual"))
+            res = mx;
+        else
+            big = fmax(big, mx);
+    }
+    if (rc == TG_OK)
+        *share = big > 0.0 ? res / big : res;
+    return rc;
+}
+
+/* A member's figures (fig_names) from its budget.nc at path; NAN where not
+ * read. */
 static tg_code budget_figures(const char *path, double fig[NFIG], tg_status *st)
 {
-    int ncid, v, d, nvars = 0;
+    int ncid, v, d;
     size_t nt = 0, nl = 1;
     tg_code rc;
     for (int i = 0; i < NFIG; i++)
@@ -130,30 +166,7 @@ static tg_code budget_figures(const char *path, double fig[NFIG], tg_status *st)
         fig[4] = zs / (double)nt;
     }
     if (rc == TG_OK)
-        rc = tg_nc_check(nc_inq_nvars(ncid, &nvars), path, "counting variables", NULL, st);
-    double res = 0.0, big = 0.0;
-    for (int i = 0; i < nvars && rc == TG_OK; i++) {
-        char name[NC_MAX_NAME + 1];
-        int ndims;
-        if ((rc = tg_nc_check(nc_inq_varname(ncid, i, name), path, "reading a variable name",
-                              NULL, st)) != TG_OK ||
-            (rc = tg_nc_check(nc_inq_varndims(ncid, i, &ndims), path, "reading", name, st)) !=
-                TG_OK)
-            break;
-        if (strncmp(name, "energy_", 7) != 0 || ndims != 1 || !strcmp(name, "energy_tendency"))
-            continue;
-        if ((rc = tg_nc_check(nc_get_var_double(ncid, i, buf), path, "reading", name, st)) != TG_OK)
-            break;
-        double mx = 0.0;
-        for (size_t t = 0; t < nt; t++)
-            mx = fmax(mx, fabs(buf[t]));
-        if (!strcmp(name, "energy_residual"))
-            res = mx;
-        else
-            big = fmax(big, mx);
-    }
-    if (rc == TG_OK)
-        fig[5] = big > 0.0 ? res / big : res;
+        rc = residual_share(ncid, path, nt, buf, &fig[5], st);
     free(e);
     free(z);
     free(buf);
@@ -272,18 +285,14 @@ static void json_cell(FILE *f, const char *v)
         tg_json_string(f, v);
 }
 
-tg_code tg_sweep_collect(const tg_sweep *sw, tg_status *st)
+/* Every member's status and, for a done member, the figures of its
+ * budget.nc and (twin sweeps) its skill.csv columns. */
+static tg_code gather(const tg_sweep *sw, tg_member_status *ms, double (*fig)[NFIG],
+                      extra_table *xt, tg_status *st)
 {
     const int M = sw->nmembers;
-    tg_member_status *ms = calloc((size_t)M, sizeof *ms);
-    double (*fig)[NFIG] = calloc((size_t)M, sizeof *fig);
-    extra_table xt = {0};
-    xt.nmembers = M;
-    xt.val = calloc((size_t)M, sizeof *xt.val);
+    char path[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 64];
     tg_code rc = TG_OK;
-    if (!ms || !fig || !xt.val)
-        rc = tg_fail(st, TG_ERR_NOMEM, "out of memory collecting %d members", M);
-    char path[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 64], tmp[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 80];
     for (int k = 0; k < M && rc == TG_OK; k++) {
         for (int i = 0; i < NFIG; i++)
             fig[k][i] = NAN;
@@ -300,7 +309,7 @@ tg_code tg_sweep_collect(const tg_sweep *sw, tg_status *st)
         tg_code mrc = budget_figures(path, fig[k], &mst);
         if (mrc == TG_OK && sw->kind == TG_SWEEP_TWIN) {
             snprintf(path, sizeof path, "%s/%s/skill.csv", sw->directory, sw->name[k]);
-            mrc = skill_columns(path, k, &xt, &mst);
+            mrc = skill_columns(path, k, xt, &mst);
         }
         if (mrc == TG_ERR_NOMEM) {
             rc = tg_fail(st, mrc, "%s", mst.msg);
@@ -311,127 +320,152 @@ tg_code tg_sweep_collect(const tg_sweep *sw, tg_status *st)
                                 "empty: %s", k, sw->name[k], mst.msg);
         }
     }
+    return rc;
+}
 
-    /* sweep.csv */
-    FILE *f = NULL;
-    if (rc == TG_OK) {
-        snprintf(path, sizeof path, "%s/sweep.csv", sw->directory);
-        f = tg_tmp_open(path, tmp, sizeof tmp, st);
-        if (!f)
-            rc = st->code;
+/* DIR/sweep.csv: one row per member (index, name, the varied values, how
+ * it ended, its figures and skill columns). */
+static tg_code write_table_csv(const tg_sweep *sw, const tg_member_status *ms,
+                               double (*fig)[NFIG], const extra_table *xt, tg_status *st)
+{
+    const int M = sw->nmembers;
+    char path[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 64], tmp[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 80];
+    snprintf(path, sizeof path, "%s/sweep.csv", sw->directory);
+    FILE *f = tg_tmp_open(path, tmp, sizeof tmp, st);
+    if (!f)
+        return st->code;
+    fputs("index,name", f);
+    for (int a = 0; a < sw->naxes; a++) {
+        fputc(',', f);
+        csv_text(f, sw->axis[a].key);
     }
-    if (rc == TG_OK) {
-        fputs("index,name", f);
+    fputs(",status,exit_status,message", f);
+    for (int i = 0; i < NFIG; i++)
+        fprintf(f, ",%s", fig_names[i]);
+    for (int c = 0; c < xt->ncols; c++) {
+        fputc(',', f);
+        csv_text(f, xt->col[c]);
+    }
+    fputc('\n', f);
+    for (int k = 0; k < M; k++) {
+        fprintf(f, "%d,", k);
+        csv_text(f, sw->name[k]);
         for (int a = 0; a < sw->naxes; a++) {
             fputc(',', f);
-            csv_text(f, sw->axis[a].key);
+            csv_text(f, sw->axis[a].value[tg_sweep_choice(sw, k, a)]);
         }
-        fputs(",status,exit_status,message", f);
-        for (int i = 0; i < NFIG; i++)
-            fprintf(f, ",%s", fig_names[i]);
-        for (int c = 0; c < xt.ncols; c++) {
+        fprintf(f, ",%s,", ms[k].present ? ms[k].status : "not_run");
+        if (ms[k].present && strcmp(ms[k].status, "running") != 0)
+            fprintf(f, "%d", ms[k].exit_status);
+        fputc(',', f);
+        csv_text(f, ms[k].message);
+        for (int i = 0; i < NFIG; i++) {
             fputc(',', f);
-            csv_text(f, xt.col[c]);
+            if (isfinite(fig[k][i]))
+                fprintf(f, "%.10g", fig[k][i]);
+        }
+        for (int c = 0; c < xt->ncols; c++) {
+            fputc(',', f);
+            if (xt->val[k][c])
+                csv_text(f, xt->val[k][c]);
         }
         fputc('\n', f);
-        for (int k = 0; k < M; k++) {
-            fprintf(f, "%d,", k);
-            csv_text(f, sw->name[k]);
-            for (int a = 0; a < sw->naxes; a++) {
-                fputc(',', f);
-                csv_text(f, sw->axis[a].value[tg_sweep_choice(sw, k, a)]);
-            }
-            fprintf(f, ",%s,", ms[k].present ? ms[k].status : "not_run");
-            if (ms[k].present && strcmp(ms[k].status, "running") != 0)
-                fprintf(f, "%d", ms[k].exit_status);
-            fputc(',', f);
-            csv_text(f, ms[k].message);
-            for (int i = 0; i < NFIG; i++) {
-                fputc(',', f);
-                if (isfinite(fig[k][i]))
-                    fprintf(f, "%.10g", fig[k][i]);
-            }
-            for (int c = 0; c < xt.ncols; c++) {
-                fputc(',', f);
-                if (xt.val[k][c])
-                    csv_text(f, xt.val[k][c]);
-            }
-            fputc('\n', f);
-        }
-        rc = tg_tmp_commit(f, tmp, path, st);
     }
+    return tg_tmp_commit(f, tmp, path, st);
+}
 
-    /* sweep.json */
-    if (rc == TG_OK) {
-        snprintf(path, sizeof path, "%s/sweep.json", sw->directory);
-        f = tg_tmp_open(path, tmp, sizeof tmp, st);
-        if (!f)
-            rc = st->code;
+/* DIR/sweep.json: the sweep and every member with its values, how it ended,
+ * where and when it ran, its figures and (twin sweeps) its skill. */
+static tg_code write_table_json(const tg_sweep *sw, const tg_member_status *ms,
+                                double (*fig)[NFIG], const extra_table *xt, tg_status *st)
+{
+    const int M = sw->nmembers;
+    char path[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 64], tmp[TG_PATH_LEN + TG_SWEEP_NAME_LEN + 80];
+    snprintf(path, sizeof path, "%s/sweep.json", sw->directory);
+    FILE *f = tg_tmp_open(path, tmp, sizeof tmp, st);
+    if (!f)
+        return st->code;
+    fputs("{\n  \"sweep\": ", f);
+    tg_json_string(f, sw->path);
+    fputs(",\n  \"base\": ", f);
+    tg_json_string(f, sw->base);
+    fprintf(f, ",\n  \"kind\": \"%s\",\n  \"combine\": \"%s\",\n  \"varied\": [",
+            sw->kind == TG_SWEEP_TWIN ? "twin" : "run",
+            sw->combine == TG_SWEEP_ZIP ? "zip" : "product");
+    for (int a = 0; a < sw->naxes; a++) {
+        fputs(a ? ", " : "", f);
+        tg_json_string(f, sw->axis[a].key);
     }
-    if (rc == TG_OK) {
-        fputs("{\n  \"sweep\": ", f);
-        tg_json_string(f, sw->path);
-        fputs(",\n  \"base\": ", f);
-        tg_json_string(f, sw->base);
-        fprintf(f, ",\n  \"kind\": \"%s\",\n  \"combine\": \"%s\",\n  \"varied\": [",
-                sw->kind == TG_SWEEP_TWIN ? "twin" : "run",
-                sw->combine == TG_SWEEP_ZIP ? "zip" : "product");
+    fputs("],\n  \"members\": [\n", f);
+    for (int k = 0; k < M; k++) {
+        fprintf(f, "    {\"index\": %d, \"name\": ", k);
+        tg_json_string(f, sw->name[k]);
+        fputs(", \"values\": {", f);
         for (int a = 0; a < sw->naxes; a++) {
             fputs(a ? ", " : "", f);
             tg_json_string(f, sw->axis[a].key);
+            fputs(": ", f);
+            tg_json_string(f, sw->axis[a].value[tg_sweep_choice(sw, k, a)]);
         }
-        fputs("],\n  \"members\": [\n", f);
-        for (int k = 0; k < M; k++) {
-            fprintf(f, "    {\"index\": %d, \"name\": ", k);
-            tg_json_string(f, sw->name[k]);
-            fputs(", \"values\": {", f);
-            for (int a = 0; a < sw->naxes; a++) {
-                fputs(a ? ", " : "", f);
-                tg_json_string(f, sw->axis[a].key);
+        fputs("},\n     \"status\": ", f);
+        tg_json_string(f, ms[k].present ? ms[k].status : "not_run");
+        fputs(", \"exit_status\": ", f);
+        if (ms[k].present && strcmp(ms[k].status, "running") != 0)
+            fprintf(f, "%d", ms[k].exit_status);
+        else
+            fputs("null", f);
+        fputs(", \"message\": ", f);
+        tg_json_string(f, ms[k].message);
+        fputs(",\n     \"host\": ", f);
+        tg_json_string(f, ms[k].host);
+        fprintf(f, ", \"threads\": %d, \"start\": ", ms[k].threads);
+        tg_json_string(f, ms[k].start);
+        fputs(", \"end\": ", f);
+        tg_json_string(f, ms[k].end);
+        fputs(", \"seconds\": ", f);
+        tg_json_number(f, ms[k].present ? ms[k].seconds : NAN);
+        fputs(",\n     ", f);
+        for (int i = 0; i < NFIG; i++) {
+            fprintf(f, "%s\"%s\": ", i ? ", " : "", fig_names[i]);
+            tg_json_number(f, fig[k][i]);
+        }
+        if (sw->kind == TG_SWEEP_TWIN) {
+            fputs(",\n     \"skill\": {", f);
+            int first = 1;
+            for (int c = 0; c < xt->ncols; c++) {
+                if (!xt->val[k][c])
+                    continue;
+                fputs(first ? "" : ", ", f);
+                first = 0;
+                tg_json_string(f, xt->col[c]);
                 fputs(": ", f);
-                tg_json_string(f, sw->axis[a].value[tg_sweep_choice(sw, k, a)]);
+                json_cell(f, xt->val[k][c]);
             }
-            fputs("},\n     \"status\": ", f);
-            tg_json_string(f, ms[k].present ? ms[k].status : "not_run");
-            fputs(", \"exit_status\": ", f);
-            if (ms[k].present && strcmp(ms[k].status, "running") != 0)
-                fprintf(f, "%d", ms[k].exit_status);
-            else
-                fputs("null", f);
-            fputs(", \"message\": ", f);
-            tg_json_string(f, ms[k].message);
-            fputs(",\n     \"host\": ", f);
-            tg_json_string(f, ms[k].host);
-            fprintf(f, ", \"threads\": %d, \"start\": ", ms[k].threads);
-            tg_json_string(f, ms[k].start);
-            fputs(", \"end\": ", f);
-            tg_json_string(f, ms[k].end);
-            fputs(", \"seconds\": ", f);
-            tg_json_number(f, ms[k].present ? ms[k].seconds : NAN);
-            fputs(",\n     ", f);
-            for (int i = 0; i < NFIG; i++) {
-                fprintf(f, "%s\"%s\": ", i ? ", " : "", fig_names[i]);
-                tg_json_number(f, fig[k][i]);
-            }
-            if (sw->kind == TG_SWEEP_TWIN) {
-                fputs(",\n     \"skill\": {", f);
-                int first = 1;
-                for (int c = 0; c < xt.ncols; c++) {
-                    if (!xt.val[k][c])
-                        continue;
-                    fputs(first ? "" : ", ", f);
-                    first = 0;
-                    tg_json_string(f, xt.col[c]);
-                    fputs(": ", f);
-                    json_cell(f, xt.val[k][c]);
-                }
-                fputc('}', f);
-            }
-            fprintf(f, "}%s\n", k + 1 < M ? "," : "");
+            fputc('}', f);
         }
-        fputs("  ]\n}\n", f);
-        rc = tg_tmp_commit(f, tmp, path, st);
+        fprintf(f, "}%s\n", k + 1 < M ? "," : "");
     }
+    fputs("  ]\n}\n", f);
+    return tg_tmp_commit(f, tmp, path, st);
+}
+
+tg_code tg_sweep_collect(const tg_sweep *sw, tg_status *st)
+{
+    const int M = sw->nmembers;
+    tg_member_status *ms = calloc((size_t)M, sizeof *ms);
+    double (*fig)[NFIG] = calloc((size_t)M, sizeof *fig);
+    extra_table xt = {0};
+    xt.nmembers = M;
+    xt.val = calloc((size_t)M, sizeof *xt.val);
+    tg_code rc = TG_OK;
+    if (!ms || !fig || !xt.val)
+        rc = tg_fail(st, TG_ERR_NOMEM, "out of memory collecting %d members", M);
+    if (rc == TG_OK)
+        rc = gather(sw, ms, fig, &xt, st);
+    if (rc == TG_OK)
+        rc = write_table_csv(sw, ms, fig, &xt, st);
+    if (rc == TG_OK)
+        rc = write_table_json(sw, ms, fig, &xt, st);
     extra_free(&xt);
     free(ms);
     free(fig);

@@ -55,76 +55,6 @@ typedef struct {
 /* Configs                                                             */
 /* ------------------------------------------------------------------ */
 
-/* The next item of the comma-separated list at *p, without its blanks, as
- * [*a, *e); *p moves past the item's comma. 0 at the end of the list. */
-static int next_item(const char **p, const char **a, const char **e)
-{
-    if (**p == '\0')
-        return 0;
-    const size_t len = strcspn(*p, ",");
-    const char *s = *p, *t = *p + len;
-    while (s < t && (*s == ' ' || *s == '\t'))
-        s++;
-    while (t > s && (t[-1] == ' ' || t[-1] == '\t'))
-        t--;
-    *a = s;
-    *e = t;
-    *p += len + ((*p)[len] == ',');
-    return 1;
-}
-
-/* Keeps only the raw closure entries that the closure list of cfg uses
- * ([closure] and the sections of its schemes); *used_out (may be NULL) gets
- * the sections kept, to report unused ones once. */
-static tg_code keep_used_sections(tg_config *cfg, const char *origin, char used[][72],
-                                  int *nused, tg_status *st)
-{
-    tg_config *tmp = malloc(sizeof *tmp);
-    tg_closure_spec *spec = malloc(sizeof *spec);
-    if (!tmp || !spec) {
-        free(tmp);
-        free(spec);
-        return tg_fail(st, TG_ERR_NOMEM, "twin: no memory to resolve closures");
-    }
-    *tmp = *cfg;
-    tmp->nraw = 0;
-    /* [closure] and the sections named in its use list (a required file
-     * name of a scheme must be seen); plugin sections are named after the
-     * plugin, so with a plugin every [plugin.*] section is kept. */
-    const tg_raw_entry *use = tg_config_raw(cfg, "closure", "use");
-    for (int r = 0; r < cfg->nraw; r++) {
-        const char *sec = cfg->raw[r].section;
-        int keep = !strcmp(sec, "closure");
-        const char *p = use ? use->value : "", *a, *e;
-        while (!keep && next_item(&p, &a, &e)) {
-            if (!strncmp(a, "plugin:", 7))
-                keep = !strncmp(sec, "plugin.", 7);
-            else
-                keep = strlen(sec) == (size_t)(e - a) && !strncmp(sec, a, (size_t)(e - a));
-        }
-        if (keep)
-            tmp->raw[tmp->nraw++] = cfg->raw[r];
-    }
-    tg_code rc = tg_closure_spec_resolve(tmp, origin, spec, st);
-    if (rc == TG_OK) {
-        int n = 0;
-        for (int r = 0; r < cfg->nraw; r++) {
-            const tg_raw_entry *e = &cfg->raw[r];
-            int keep = !strcmp(e->section, "closure");
-            for (int c = 0; c < spec->n && !keep; c++)
-                keep = !strcmp(spec->c[c].section, e->section);
-            if (keep)
-                cfg->raw[n++] = *e;
-        }
-        cfg->nraw = n;
-        for (int c = 0; c < spec->n && used; c++)
-            snprintf(used[(*nused)++], 72, "%s", spec->c[c].section);
-    }
-    free(tmp);
-    free(spec);
-    return rc;
-}
-
 /* The label of one compare entry: "none", the scheme's name, or the
  * plugin's name. */
 static tg_code entry_label(const tg_config *coarse, const char *use, const char *origin,
@@ -155,28 +85,6 @@ static tg_code entry_label(const tg_config *coarse, const char *use, const char 
     return rc;
 }
 
-tg_code tg_twin_coarse_config(const tg_config *cfg, const char *origin, tg_config *out,
-                              tg_status *st)
-{
-    tg_code rc = tg_config_twin_derive(cfg, 1, origin, out, st);
-    if (rc != TG_OK)
-        return rc;
-    /* Coarse runs: the window, a snapshot at every sample, one summary line. */
-    out->duration_days = cfg->twin_analysis_days;
-    out->snapshot_every_days = cfg->twin_sample_every_days;
-    out->log_every_days = cfg->twin_analysis_days;
-    out->initial_kind = TG_INIT_REST; /* the starting file is written later */
-    out->initial_path[0] = '\0';
-    /* The coarse runs' [initial] keys other than the seed do not apply. */
-    const char *ikeys[] = {"state", "noise_amplitude_m2_per_s"};
-    for (int i = 0; i < 2; i++) {
-        int row = tg_config_key_index("initial", ikeys[i]);
-        if (row >= 0)
-            out->set_by_user[row] = TG_SET_DEFAULT;
-    }
-    return TG_OK;
-}
-
 /* The label of a fitted-file entry "coefficients:PATH": "coefficients-"
  * and the file's name without its directory and last extension, with any
  * character other than letters, digits, '-', '_' and '.' replaced by '_'
@@ -197,112 +105,47 @@ static void fitted_label(const char *path, char *label, size_t n)
     label[w] = '\0';
 }
 
-/* Derives and checks every config of the twin into c. */
+/* Derives every config of the twin into c from cfg, which
+ * tg_config_validate(TG_USE_TWIN) has passed: the reference and, for each
+ * compared closure, its coarse run, each keeping only the closure sections
+ * it uses. */
 static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg_status *st)
 {
     tg_code rc;
     c->base = *cfg;
     c->origin = origin;
     snprintf(c->dir, sizeof c->dir, "%s", cfg->out_directory);
-    if ((rc = tg_config_check_twin(cfg, origin, st)) != TG_OK)
+    if ((rc = tg_config_twin_reference(cfg, origin, &c->ref, st)) != TG_OK ||
+        (rc = tg_config_twin_coarse(cfg, origin, &c->coarse, st)) != TG_OK)
         return rc;
-    if ((rc = tg_config_twin_derive(cfg, 0, origin, &c->ref, st)) != TG_OK ||
-        (rc = tg_twin_coarse_config(cfg, origin, &c->coarse, st)) != TG_OK)
-        return rc;
-
-    char used[TG_MAX_CLOSURES * (TG_MAX_CLOSURES + 1)][72];
+    char used[TG_MAX_CLOSURES][TG_SECTION_LEN];
     int nused = 0;
-
-    /* The reference: spin-up plus window. */
-    tg_config *r = &c->ref;
-    r->duration_days = cfg->twin_spinup_days + cfg->twin_analysis_days;
-    if (snprintf(r->out_directory, sizeof r->out_directory, "%s/reference", c->dir) >=
-        (int)sizeof r->out_directory)
-        return tg_fail(st, TG_ERR_CONFIG, "output directory path too long: %s", c->dir);
-    if ((rc = keep_used_sections(r, origin, used, &nused, st)) != TG_OK)
-        return rc;
-    if ((rc = tg_config_check(r, origin, st)) != TG_OK)
+    if ((rc = tg_closure_keep_used(&c->ref, origin, used, TG_MAX_CLOSURES, &nused, st)) != TG_OK)
         return tg_fail(st, rc, "the reference run: %s", st->msg);
 
-    tg_config *k = &c->coarse;
-
-    /* Entries: none first, then [twin] compare in order. */
-    char entries[TG_MAX_CLOSURES + 1][TG_RAW_TEXT];
-    int nent = 0;
-    snprintf(entries[nent++], TG_RAW_TEXT, "none");
-    for (const char *p = cfg->twin_compare, *s, *e; next_item(&p, &s, &e);)
-        if (e > s && !((size_t)(e - s) == 4 && !strncmp(s, "none", 4)) &&
-            nent < TG_MAX_CLOSURES + 1)
-            snprintf(entries[nent++], TG_RAW_TEXT, "%.*s", (int)(e - s), s);
-    if (nent > TG_MAX_CLOSURES)
-        return tg_fail(st, TG_ERR_CONFIG, "%s: [twin] compare: at most %d closures besides none",
-                       origin ? origin : "config", TG_MAX_CLOSURES - 1);
+    char entries[TG_MAX_CLOSURES][TG_RAW_TEXT];
+    const int nent = tg_config_twin_entries(cfg, entries);
     c->nclos = nent;
     for (int i = 0; i < nent; i++) {
         tg_skill_closure *cl = &c->clos[i];
         memset(cl, 0, sizeof *cl);
         snprintf(cl->use, sizeof cl->use, "%.*s", TG_RAW_TEXT - 1, entries[i]);
         char fitted[TG_PATH_LEN];
-        const int is_fitted = tg_config_fitted_entry(cfg, entries[i], fitted, sizeof fitted);
-        if (is_fitted)
+        if (tg_config_fitted_entry(cfg, entries[i], fitted, sizeof fitted))
             fitted_label(fitted, cl->label, sizeof cl->label);
-        else if ((rc = entry_label(k, entries[i], origin, cl->label, sizeof cl->label, st)) !=
-                 TG_OK)
+        else if ((rc = entry_label(&c->coarse, entries[i], origin, cl->label, sizeof cl->label,
+                                   st)) != TG_OK)
             return tg_fail(st, rc, "[twin] compare: %s", st->msg);
         for (int j = 0; j < i; j++)
             if (!strcmp(c->clos[j].label, cl->label))
                 return tg_fail(st, TG_ERR_CONFIG, "%s: [twin] compare: '%s' names %s again",
                                origin ? origin : "config", entries[i], cl->label);
         tg_config *cc = &c->clos_cfg[i];
-        *cc = *k;
-        char a[TG_PATH_LEN + 32];
-        snprintf(a, sizeof a, "closure.use=%.*s", TG_RAW_TEXT - 1,
-                 is_fitted ? "coefficients" : entries[i]);
-        if ((rc = tg_config_set(cc, a, st)) != TG_OK)
-            return rc;
-        if (is_fitted) {
-            /* The file, already resolved against the config's directory. */
-            if (strlen(fitted) >= TG_RAW_TEXT - 1)
-                return tg_fail(st, TG_ERR_CONFIG, "%s: [twin] compare: '%s': path longer than "
-                               "%d characters", origin ? origin : "config", entries[i],
-                               TG_RAW_TEXT - 2);
-            snprintf(a, sizeof a, "coefficients.file=%s", fitted);
-            if ((rc = tg_config_set(cc, a, st)) != TG_OK)
-                return rc;
-        }
-        if ((rc = keep_used_sections(cc, origin, used, &nused, st)) != TG_OK)
-            return rc;
-        if ((rc = tg_config_check(cc, origin, st)) != TG_OK)
+        if ((rc = tg_config_twin_entry(cfg, &c->coarse, entries[i], cc, st)) != TG_OK ||
+            (rc = tg_closure_keep_used(cc, origin, used, TG_MAX_CLOSURES, &nused, st)) != TG_OK)
             return tg_fail(st, rc, "the coarse run with closure %s: %s", cl->label, st->msg);
     }
-
-    /* Closure sections that no run uses: one warning each. */
-    for (int r2 = 0; r2 < cfg->nraw; r2++) {
-        const tg_raw_entry *e = &cfg->raw[r2];
-        if (!strcmp(e->section, "closure"))
-            continue;
-        int found = 0;
-        for (int u = 0; u < nused && !found; u++)
-            found = !strcmp(used[u], e->section);
-        int first = 1;
-        for (int q = 0; q < r2 && first; q++)
-            first = strcmp(cfg->raw[q].section, e->section) != 0;
-        if (!found && first)
-            tg_log(TG_LOG_WARN,
-                   "%s: [%s] is ignored: neither the reference ([closure] use) nor [twin] "
-                   "compare uses it", origin ? origin : "config", e->section);
-    }
     return TG_OK;
-}
-
-tg_code tg_twin_check(const tg_config *cfg, const char *origin, tg_status *st)
-{
-    twin_ctx *c = calloc(1, sizeof *c);
-    if (!c)
-        return tg_fail(st, TG_ERR_NOMEM, "twin: no memory");
-    tg_code rc = prepare(c, cfg, origin, st);
-    free(c);
-    return rc;
 }
 
 /* The twin's resolved config for the files' attributes: the reference's
@@ -886,7 +729,9 @@ tg_code tg_twin_run(const tg_config *cfg, const tg_twin_options *opt, char **tab
     if (!c)
         return tg_fail(st, TG_ERR_NOMEM, "twin: no memory");
     char *cfg_text = NULL;
-    tg_code rc = prepare(c, cfg, opt->origin, st);
+    tg_code rc = tg_config_validate(cfg, TG_USE_TWIN, opt->origin, st);
+    if (rc == TG_OK)
+        rc = prepare(c, cfg, opt->origin, st);
     if (rc == TG_OK)
         rc = setup_runs(c, st);
     if (rc == TG_OK && !opt->overwrite)

@@ -56,19 +56,8 @@ typedef struct {
     void *progress_user;
 } tg_twin_options;
 
-/* Checks everything a twin needs from cfg without writing anything: the
- * [twin] rules, the reference and coarse configs, every compared closure. */
-tg_code tg_twin_check(const tg_config *cfg, const char *origin, tg_status *st);
-
-/* The config of the twin's coarse runs before a closure is chosen: cfg's
- * [twin.coarse] overrides applied (tg_config_twin_derive), the window's
- * length, a snapshot at every sample, a rest start (the starting state is
- * the coarse-grained reference). Used by the twin itself and by `fit`,
- * which rebuilds the coarse grid of a subgrid.nc from its resolved_config. */
-tg_code tg_twin_coarse_config(const tg_config *cfg, const char *origin, tg_config *out,
-                              tg_status *st);
-
-/* Runs the twin into cfg->out_directory. *table (may be NULL) receives the
+/* Runs the twin into cfg->out_directory after checking cfg with
+ * tg_config_validate(TG_USE_TWIN) (before anything is written). *table (may be NULL) receives the
  * skill table as text (malloc'ed; the caller frees it) for printing. */
 tg_code tg_twin_run(const tg_config *cfg, const tg_twin_options *opt, char **table,
                     tg_status *st);

@@ -313,14 +313,11 @@ static void cell(tg_strbuf *b, double v, const char *fmt)
 static const char *metric_names[] = {"kinetic_energy_ratio", "psi_pattern_correlation",
                                      "psi_normalized_rmse", "eke_pattern_correlation"};
 
-static tg_code write_all(sk_ctx *k, layer_skill *res, char **table, tg_status *st)
+/* DIR/skill.csv: one row per run and layer. */
+static tg_code write_csv(sk_ctx *k, const layer_skill *res, tg_status *st)
 {
     const tg_skill_job *job = k->job;
-    const tg_config *b = job->base;
     char path[TG_PATH_LEN + 32], tmp[TG_PATH_LEN + 40];
-    tg_code rc;
-
-    /* skill.csv: one row per run and layer. */
     snprintf(path, sizeof path, "%s/skill.csv", job->dir);
     FILE *f = tg_tmp_open(path, tmp, sizeof tmp, st);
     if (!f)
@@ -353,12 +350,47 @@ static tg_code write_all(sk_ctx *k, layer_skill *res, char **table, tg_status *s
             fputc('\n', f);
         }
     }
-    if ((rc = tg_tmp_commit(f, tmp, path, st)) != TG_OK)
-        return rc;
+    return tg_tmp_commit(f, tmp, path, st);
+}
 
-    /* skill.json */
+/* One run's skill in layer l (0-based) as a skill.json object, after a
+ * comma unless it is the first layer. */
+static void json_layer(FILE *f, const layer_skill *s, int l)
+{
+    fprintf(f, "%s\n       {\"layer\": %d, \"kinetic_energy_ratio\": ", l ? "," : "", l + 1);
+    tg_json_number(f, s->ke_ratio);
+    fprintf(f, ", \"psi_pattern_correlation\": ");
+    tg_json_number(f, s->psi_corr);
+    fprintf(f, ", \"psi_normalized_rmse\": ");
+    tg_json_number(f, s->psi_nrmse);
+    fprintf(f, ", \"eke_pattern_correlation\": ");
+    tg_json_number(f, s->eke_corr);
+    fprintf(f, ", \"ke_spectrum_ratio\": [");
+    for (int band = 0; band < TG_SKILL_BANDS; band++) {
+        fputs(band ? ", " : "", f);
+        tg_json_number(f, s->band[band]);
+    }
+    fprintf(f, "], \"jet_length_km\": ");
+    tg_json_number(f, s->jet_km);
+    fprintf(f, ", \"jet_length_ratio\": ");
+    tg_json_number(f, s->jet_ratio);
+    fprintf(f, ", \"offline_r2\": ");
+    tg_json_number(f, s->off_r2);
+    fprintf(f, ", \"offline_correlation\": ");
+    tg_json_number(f, s->off_corr);
+    fputs("}", f);
+}
+
+/* DIR/skill.json: the set-up, the reference, the closures and every run's
+ * skill per layer. */
+static tg_code write_json(sk_ctx *k, const layer_skill *res, tg_status *st)
+{
+    const tg_skill_job *job = k->job;
+    const tg_config *b = job->base;
+    char path[TG_PATH_LEN + 32], tmp[TG_PATH_LEN + 40];
     snprintf(path, sizeof path, "%s/skill.json", job->dir);
-    if (!(f = tg_tmp_open(path, tmp, sizeof tmp, st)))
+    FILE *f = tg_tmp_open(path, tmp, sizeof tmp, st);
+    if (!f)
         return st->code;
     fprintf(f, "{\n  \"format\": \"twingyre twin skill 1\",\n  \"geometry\": ");
     tg_json_string(f, job->coarse->geometry == TG_GEOM_PERIODIC ? "periodic" : "basin");
@@ -414,115 +446,107 @@ static tg_code write_all(sk_ctx *k, layer_skill *res, char **table, tg_status *s
         fprintf(f, ", \"message\": ");
         tg_json_string(f, run->message);
         fprintf(f, ",\n     \"layers\": [");
-        for (int l = 0; l < k->nl; l++) {
-            const layer_skill *s = &res[r * k->nl + l];
-            fprintf(f, "%s\n       {\"layer\": %d, \"kinetic_energy_ratio\": ", l ? "," : "",
-                    l + 1);
-            tg_json_number(f, s->ke_ratio);
-            fprintf(f, ", \"psi_pattern_correlation\": ");
-            tg_json_number(f, s->psi_corr);
-            fprintf(f, ", \"psi_normalized_rmse\": ");
-            tg_json_number(f, s->psi_nrmse);
-            fprintf(f, ", \"eke_pattern_correlation\": ");
-            tg_json_number(f, s->eke_corr);
-            fprintf(f, ", \"ke_spectrum_ratio\": [");
-            for (int band = 0; band < TG_SKILL_BANDS; band++) {
-                fputs(band ? ", " : "", f);
-                tg_json_number(f, s->band[band]);
-            }
-            fprintf(f, "], \"jet_length_km\": ");
-            tg_json_number(f, s->jet_km);
-            fprintf(f, ", \"jet_length_ratio\": ");
-            tg_json_number(f, s->jet_ratio);
-            fprintf(f, ", \"offline_r2\": ");
-            tg_json_number(f, s->off_r2);
-            fprintf(f, ", \"offline_correlation\": ");
-            tg_json_number(f, s->off_corr);
-            fputs("}", f);
-        }
+        for (int l = 0; l < k->nl; l++)
+            json_layer(f, &res[r * k->nl + l], l);
         fprintf(f, "\n     ]}");
     }
     fprintf(f, "\n  ]\n}\n");
-    if ((rc = tg_tmp_commit(f, tmp, path, st)) != TG_OK)
-        return rc;
+    return tg_tmp_commit(f, tmp, path, st);
+}
 
-    /* offline.nc: -S_q and each closure's tendency at the last sample. */
-    {
-        tg_twin_var vars[TG_MAX_CLOSURES + 1];
-        const double *data[TG_MAX_CLOSURES + 1];
-        char names[TG_MAX_CLOSURES][96], words[TG_MAX_CLOSURES][200];
-        int nv = 0;
-        vars[nv] = (tg_twin_var){"subgrid_pv_tendency", "s-2",
-                                 "-S_q, the PV tendency a closure should produce, at the last "
-                                 "sample (interior nodes)", 1};
-        data[nv++] = k->last_targ;
-        for (int c = 0; c < job->nclosures; c++) {
-            if (!job->closure[c].model)
+/* DIR/offline.nc: -S_q and each closure's tendency at the last sample. */
+static tg_code write_offline(const sk_ctx *k, tg_status *st)
+{
+    const tg_skill_job *job = k->job;
+    char path[TG_PATH_LEN + 32];
+    tg_twin_var vars[TG_MAX_CLOSURES + 1];
+    const double *data[TG_MAX_CLOSURES + 1];
+    char names[TG_MAX_CLOSURES][96], words[TG_MAX_CLOSURES][200];
+    int nv = 0;
+    vars[nv] = (tg_twin_var){"subgrid_pv_tendency", "s-2",
+                             "-S_q, the PV tendency a closure should produce, at the last "
+                             "sample (interior nodes)", 1};
+    data[nv++] = k->last_targ;
+    for (int c = 0; c < job->nclosures; c++) {
+        if (!job->closure[c].model)
+            continue;
+        snprintf(names[c], sizeof names[c], "tendency_%s", job->closure[c].label);
+        snprintf(words[c], sizeof words[c],
+                 "PV tendency of closure %s (member 0) on the coarse-grained reference at "
+                 "the last sample (interior nodes)", job->closure[c].label);
+        vars[nv] = (tg_twin_var){names[c], "s-2", words[c], 1};
+        data[nv++] = k->last_pred[c];
+    }
+    const tg_geometry *g = k->g;
+    tg_nc_grid gr = {.nx = k->no, .ny = k->no, .nlayers = k->nl, .x = g->coord + g->o0,
+                     .y = g->coord + g->o0, .config_text = job->config_text,
+                     .command_line = job->command_line ? job->command_line : "",
+                     .title = "twingyre twin: closures' PV tendencies against the sub-grid "
+                              "PV tendency"};
+    snprintf(path, sizeof path, "%s/offline.nc", job->dir);
+    return tg_map_file_write(path, &gr, k->last_time_days * 86400.0, vars, nv, data, NULL, 0,
+                             st);
+}
+
+/* The printed table: a row per run and layer (NUL-terminated, malloc'd,
+ * in *table). */
+static tg_code format_table(const sk_ctx *k, const layer_skill *res, char **table, tg_status *st)
+{
+    const tg_skill_job *job = k->job;
+    const tg_config *b = job->base;
+    tg_strbuf t = {0};
+    tg_sb_printf(&t,
+           "Skill of the coarse runs against the coarse-grained reference "
+           "(%d x %d -> %d x %d points, %s filter; %d samples over %g days)\n",
+           b->twin_reference_points, b->twin_reference_points, b->twin_coarse_points,
+           b->twin_coarse_points,
+           b->twin_filter == TG_TWIN_FILTER_SHARP ? "sharp" : "Gaussian", k->nrec,
+           b->twin_analysis_days);
+    tg_sb_printf(&t, "%-28s %5s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s\n", "run", "layer",
+           "KE", "psi", "psi", "EKE", "spectrum", "", "", "", "jet", "offline", "offline");
+    tg_sb_printf(&t, "%-28s %5s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s\n", "", "",
+           "ratio", "corr", "nRMSE", "corr", "band 1", "band 2", "band 3", "band 4",
+           "ratio", "R2", "corr");
+    for (int r = 0; r < job->nruns; r++) {
+        const tg_skill_run *run = &job->run[r];
+        for (int l = 0; l < k->nl; l++) {
+            const layer_skill *s = &res[r * k->nl + l];
+            tg_sb_printf(&t, "%-28.28s %5d", l == 0 ? run->name : "", l + 1);
+            if (run->status != TG_OK) {
+                tg_sb_printf(&t, "  %s\n", l == 0 ? "unstable: no statistics" : "");
                 continue;
-            snprintf(names[c], sizeof names[c], "tendency_%s", job->closure[c].label);
-            snprintf(words[c], sizeof words[c],
-                     "PV tendency of closure %s (member 0) on the coarse-grained reference at "
-                     "the last sample (interior nodes)", job->closure[c].label);
-            vars[nv] = (tg_twin_var){names[c], "s-2", words[c], 1};
-            data[nv++] = k->last_pred[c];
-        }
-        const tg_geometry *g = k->g;
-        tg_nc_grid gr = {.nx = k->no, .ny = k->no, .nlayers = k->nl, .x = g->coord + g->o0,
-                         .y = g->coord + g->o0, .config_text = job->config_text,
-                         .command_line = job->command_line ? job->command_line : "",
-                         .title = "twingyre twin: closures' PV tendencies against the sub-grid "
-                                  "PV tendency"};
-        snprintf(path, sizeof path, "%s/offline.nc", job->dir);
-        if ((rc = tg_map_file_write(path, &gr, k->last_time_days * 86400.0, vars, nv, data, NULL,
-                                    0, st)) != TG_OK)
-            return rc;
-    }
-
-    /* The printed table. */
-    if (table) {
-        tg_strbuf t = {0};
-        tg_sb_printf(&t,
-               "Skill of the coarse runs against the coarse-grained reference "
-               "(%d x %d -> %d x %d points, %s filter; %d samples over %g days)\n",
-               b->twin_reference_points, b->twin_reference_points, b->twin_coarse_points,
-               b->twin_coarse_points,
-               b->twin_filter == TG_TWIN_FILTER_SHARP ? "sharp" : "Gaussian", k->nrec,
-               b->twin_analysis_days);
-        tg_sb_printf(&t, "%-28s %5s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s\n", "run", "layer",
-               "KE", "psi", "psi", "EKE", "spectrum", "", "", "", "jet", "offline", "offline");
-        tg_sb_printf(&t, "%-28s %5s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s %9s\n", "", "",
-               "ratio", "corr", "nRMSE", "corr", "band 1", "band 2", "band 3", "band 4",
-               "ratio", "R2", "corr");
-        for (int r = 0; r < job->nruns; r++) {
-            const tg_skill_run *run = &job->run[r];
-            for (int l = 0; l < k->nl; l++) {
-                const layer_skill *s = &res[r * k->nl + l];
-                tg_sb_printf(&t, "%-28.28s %5d", l == 0 ? run->name : "", l + 1);
-                if (run->status != TG_OK) {
-                    tg_sb_printf(&t, "  %s\n", l == 0 ? "unstable: no statistics" : "");
-                    continue;
-                }
-                cell(&t, s->ke_ratio, " %9.3f");
-                cell(&t, s->psi_corr, " %9.3f");
-                cell(&t, s->psi_nrmse, " %9.3f");
-                cell(&t, s->eke_corr, " %9.3f");
-                for (int band = 0; band < TG_SKILL_BANDS; band++)
-                    cell(&t, s->band[band], " %9.3f");
-                cell(&t, s->jet_ratio, " %9.3f");
-                cell(&t, s->off_r2, " %9.3f");
-                cell(&t, s->off_corr, " %9.3f");
-                tg_sb_printf(&t, "\n");
             }
+            cell(&t, s->ke_ratio, " %9.3f");
+            cell(&t, s->psi_corr, " %9.3f");
+            cell(&t, s->psi_nrmse, " %9.3f");
+            cell(&t, s->eke_corr, " %9.3f");
+            for (int band = 0; band < TG_SKILL_BANDS; band++)
+                cell(&t, s->band[band], " %9.3f");
+            cell(&t, s->jet_ratio, " %9.3f");
+            cell(&t, s->off_r2, " %9.3f");
+            cell(&t, s->off_corr, " %9.3f");
+            tg_sb_printf(&t, "\n");
         }
-        tg_sb_printf(&t, "(ratios: run / coarse-grained reference; '-': not defined; details in "
-                   "%s/skill.json)\n", job->dir);
-        if (t.oom) {
-            free(t.s);
-            return tg_fail(st, TG_ERR_NOMEM, "skill: no memory for the table");
-        }
-        *table = t.s;
     }
+    tg_sb_printf(&t, "(ratios: run / coarse-grained reference; '-': not defined; details in "
+               "%s/skill.json)\n", job->dir);
+    if (t.oom) {
+        free(t.s);
+        return tg_fail(st, TG_ERR_NOMEM, "skill: no memory for the table");
+    }
+    *table = t.s;
     return TG_OK;
+}
+
+/* skill.csv, skill.json, offline.nc and, when table is not NULL, the
+ * printed table, in this order; the first failure stops. */
+static tg_code write_all(sk_ctx *k, layer_skill *res, char **table, tg_status *st)
+{
+    tg_code rc;
+    if ((rc = write_csv(k, res, st)) != TG_OK || (rc = write_json(k, res, st)) != TG_OK ||
+        (rc = write_offline(k, st)) != TG_OK)
+        return rc;
+    return table ? format_table(k, res, table, st) : TG_OK;
 }
 
 /* ------------------------------------------------------------------ */
@@ -555,19 +579,16 @@ static void sk_free(sk_ctx *k)
     tg_geometry_destroy(k->g);
 }
 
-tg_code tg_twin_skill(const tg_skill_job *job, char **table, tg_status *st)
+/* Everything the passes use, made once from the job's coarse config: the
+ * coarse geometry and spectrum, the sizes, the work arrays and statistics,
+ * the quadrature weights of the output and active nodes, and the offline
+ * fields filled with the fill value. */
+static tg_code sk_setup(sk_ctx *k, const tg_skill_job *job, tg_status *st)
 {
-    sk_ctx *k = calloc(1, sizeof *k);
-    layer_skill *res = NULL;
-    if (!k)
-        return tg_fail(st, TG_ERR_NOMEM, "skill: no memory");
-    tg_code rc = TG_OK;
     k->job = job;
     k->g = tg_geometry_create(job->coarse, st);
-    if (!k->g || !(k->sp = tg_spectrum_create(k->g, st))) {
-        rc = st->code ? st->code : TG_ERR_INTERNAL;
-        goto done;
-    }
+    if (!k->g || !(k->sp = tg_spectrum_create(k->g, st)))
+        return st->code ? st->code : TG_ERR_INTERNAL;
     const tg_geometry *g = k->g;
     k->nl = job->coarse->nlayers;
     k->no = g->o1 - g->o0;
@@ -597,17 +618,14 @@ tg_code tg_twin_skill(const tg_skill_job *job, char **table, tg_status *st)
     k->mean_a = malloc(sizeof(double) * (size_t)k->no2);
     k->mean_b = malloc(sizeof(double) * (size_t)k->no2);
     k->last_targ = malloc(sizeof(double) * nl * (size_t)k->no2);
-    res = calloc((size_t)job->nruns * nl, sizeof *res);
     int ok = k->work && k->u && k->v && k->w_out && k->w_act && k->xa && k->psi_in &&
              k->forc_in && k->pred && k->targ && k->eke_a && k->eke_b && k->mean_a &&
-             k->mean_b && k->last_targ && res && stats_alloc(&k->ref, k) &&
+             k->mean_b && k->last_targ && stats_alloc(&k->ref, k) &&
              stats_alloc(&k->run, k);
     for (int c = 0; c < job->nclosures && ok; c++)
         ok = (k->last_pred[c] = malloc(sizeof(double) * nl * (size_t)k->no2)) != NULL;
-    if (!ok) {
-        rc = tg_fail(st, TG_ERR_NOMEM, "skill: no memory for the statistics");
-        goto done;
-    }
+    if (!ok)
+        return tg_fail(st, TG_ERR_NOMEM, "skill: no memory for the statistics");
     for (int j = 0; j < k->no; j++)
         for (int i = 0; i < k->no; i++)
             k->w_out[(long)j * k->no + i] = g->weight[(long)(j + g->o0) * g->ns + i + g->o0];
@@ -621,6 +639,23 @@ tg_code tg_twin_skill(const tg_skill_job *job, char **table, tg_status *st)
         k->last_targ[p] = TG_TWIN_FILL;
         for (int c = 0; c < job->nclosures; c++)
             k->last_pred[c][p] = TG_TWIN_FILL;
+    }
+    return TG_OK;
+}
+
+tg_code tg_twin_skill(const tg_skill_job *job, char **table, tg_status *st)
+{
+    sk_ctx *k = calloc(1, sizeof *k);
+    layer_skill *res = NULL;
+    if (!k)
+        return tg_fail(st, TG_ERR_NOMEM, "skill: no memory");
+    tg_code rc = sk_setup(k, job, st);
+    if (rc != TG_OK)
+        goto done;
+    const size_t nl = (size_t)k->nl;
+    if (!(res = calloc((size_t)job->nruns * nl, sizeof *res))) {
+        rc = tg_fail(st, TG_ERR_NOMEM, "skill: no memory for the statistics");
+        goto done;
     }
 
     if ((rc = reference_pass(k, st)) != TG_OK)

@@ -531,7 +531,8 @@ static tg_code finer_grid(vet_ctx *c, tg_status *st)
         return st->code;
     f->points = next_finer_points(cfg);
     r->finer_points = f->points;
-    tg_code rc = tg_config_check(f, c->opt ? c->opt->origin : NULL, st);
+    tg_code rc = tg_config_validate(f, TG_USE_RUN | TG_USE_QUIET, c->opt ? c->opt->origin : NULL,
+                                    st);
     tg_model *m = NULL;
     double *psi = NULL, *q = NULL;
     if (rc == TG_OK && !(m = tg_model_create(f, st)))
@@ -719,9 +720,7 @@ static void json_path(const tg_config *cfg, char *out, size_t n)
 tg_code tg_vet_validate(const tg_config *cfg, const tg_vet_options *opt, tg_status *st)
 {
     const char *origin = opt ? opt->origin : NULL;
-    tg_code rc = tg_config_check(cfg, origin, st);
-    if (rc == TG_OK)
-        rc = tg_config_check_vet(cfg, origin, st);
+    tg_code rc = tg_config_validate(cfg, TG_USE_RUN | TG_USE_VET, origin, st);
     if (rc != TG_OK)
         return rc;
     char path[TG_PATH_LEN + 16];

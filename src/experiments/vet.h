@@ -153,7 +153,7 @@ typedef struct {
     void *progress_user;
 } tg_vet_options;
 
-/* Checks the config for vet (tg_config_check, tg_config_check_vet, the
+/* Checks the config for vet (tg_config_validate for a run and vet, the
  * output directory) without writing anything. */
 tg_code tg_vet_validate(const tg_config *cfg, const tg_vet_options *opt, tg_status *st);
 

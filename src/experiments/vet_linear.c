@@ -194,6 +194,114 @@ static int by_magnitude(const void *a, const void *b)
     return (x->im < y->im) - (x->im > y->im);
 }
 
+/* Perturbation size of the finite differences from q0's spread about its
+ * mean (the planetary part of a basin's q is a linear field, counted like
+ * any other); n values on the active nodes. */
+static double perturbation_size(const tg_model *m, const double *q0, long n)
+{
+    const tg_geometry *g = m->geom;
+    double s = 0.0, s2 = 0.0;
+    const int a1 = g->a1;
+    for (int k = 0; k < m->nl; k++)
+        for (int j = g->a0; j < a1; j++)
+            for (int i = g->a0; i < a1; i++) {
+                const double x = q0[k * m->npl + (long)j * g->ns + i];
+                s += x;
+                s2 += x * x;
+            }
+    const double mean = s / n;
+    const double rms = sqrt(fmax(s2 / n - mean * mean, 0.0));
+    const double floor = 1e-2 * fabs(m->cfg.coriolis_f0_per_s);
+    /* v has unit 2-norm: rms(v) = 1 / sqrt(n). */
+    return sqrt(DBL_EPSILON) * fmax(rms, floor) * sqrt((double)n);
+}
+
+/* The start vector v0 (n values): Philox normal numbers, normalized. */
+static void start_vector(double *v0, long n, uint64_t seed)
+{
+    for (long p = 0; p < n; p += 2) {
+        double z[2];
+        tg_normal2(seed, 0x7e7u, (uint32_t)(p >> 32), (uint32_t)p, z);
+        v0[p] = z[0];
+        if (p + 1 < n)
+            v0[p + 1] = z[1];
+    }
+    const double nv = sqrt(dot(v0, v0, n));
+    for (long p = 0; p < n; p++)
+        v0[p] /= nv;
+}
+
+/* kdim steps of Arnoldi iteration (header comment: two Gram-Schmidt passes)
+ * on the Jacobian-vector products from the unit start vector in V:
+ * the basis in V (c->n x (kdim + 1)), the Hessenberg matrix in H
+ * (column-major, ld kdim + 1). Stops early at an invariant subspace; *kused
+ * receives the steps taken and *hnorm the largest |H| entry. */
+static tg_code arnoldi(jvp_ctx *c, int kdim, double *V, double *w, double *H, int *kused,
+                       double *hnorm, tg_status *st)
+{
+    const int k1 = kdim + 1;
+    tg_code rc;
+    for (int j = 0; j < kdim; j++) {
+        if ((rc = jvp(c, V + (size_t)j * c->n, w, st)) != TG_OK)
+            return rc;
+        double wn0 = sqrt(dot(w, w, c->n));
+        if (!isfinite(wn0))
+            return tg_fail(st, TG_ERR_NUMERIC,
+                           "linear check: the closure's tendency is not finite near the state "
+                           "(Arnoldi step %d)",
+                           j + 1);
+        for (int pass = 0; pass < 2; pass++)
+            for (int i = 0; i <= j; i++) {
+                const double *vi = V + (size_t)i * c->n;
+                const double hij = dot(vi, w, c->n);
+                H[(size_t)j * k1 + i] += hij;
+                for (long p = 0; p < c->n; p++)
+                    w[p] -= hij * vi[p];
+            }
+        const double hn = sqrt(dot(w, w, c->n));
+        H[(size_t)j * k1 + j + 1] = hn;
+        for (int i = 0; i <= j + 1; i++)
+            *hnorm = fmax(*hnorm, fabs(H[(size_t)j * k1 + i]));
+        /* An invariant subspace (or a zero operator): stop here. */
+        if (hn <= 1e-12 * *hnorm || hn == 0.0) {
+            *kused = j + 1;
+            break;
+        }
+        double *vn = V + (size_t)(j + 1) * c->n;
+        for (long p = 0; p < c->n; p++)
+            vn[p] = w[p] / hn;
+    }
+    return TG_OK;
+}
+
+/* The Ritz values: eigenvalues of the leading kused x kused block of H (ld
+ * k1) by LAPACKE_dhseqr (all zero when H is), in rz by decreasing magnitude;
+ * Hs, wr and wi are work arrays of kused^2, kused and kused values. */
+static tg_code ritz_values(const double *H, int k1, int kused, double hnorm, double *Hs, double *wr,
+                           double *wi, ritz *rz, tg_status *st)
+{
+    for (int jc = 0; jc < kused; jc++)
+        for (int i = 0; i < kused; i++)
+            Hs[(size_t)jc * kused + i] = H[(size_t)jc * k1 + i];
+    if (hnorm == 0.0) {
+        for (int i = 0; i < kused; i++)
+            wr[i] = wi[i] = 0.0;
+    } else {
+        double zdummy = 0.0;
+        lapack_int info = LAPACKE_dhseqr(LAPACK_COL_MAJOR, 'E', 'N', kused, 1, kused, Hs, kused,
+                                         wr, wi, &zdummy, 1);
+        if (info != 0)
+            return tg_fail(st, TG_ERR_NUMERIC,
+                           "linear check: LAPACKE_dhseqr failed on the %d x %d Hessenberg matrix "
+                           "(info = %d)",
+                           kused, kused, (int)info);
+    }
+    for (int i = 0; i < kused; i++)
+        rz[i] = (ritz){wr[i], wi[i], hypot(wr[i], wi[i])};
+    qsort(rz, (size_t)kused, sizeof *rz, by_magnitude);
+    return TG_OK;
+}
+
 tg_code tg_vet_linearize(tg_model *m, const double *q0, int kdim, uint64_t seed,
                          tg_vet_linear *out, tg_status *st)
 {
@@ -222,98 +330,14 @@ tg_code tg_vet_linearize(tg_model *m, const double *q0, int kdim, uint64_t seed,
         goto done;
     }
 
-    /* Perturbation size from q0's spread about its mean (the planetary
-     * part of a basin's q is a linear field, counted like any other). */
-    {
-        double s = 0.0, s2 = 0.0;
-        const int a1 = g->a1;
-        for (int k = 0; k < c.nl; k++)
-            for (int j = g->a0; j < a1; j++)
-                for (int i = g->a0; i < a1; i++) {
-                    const double x = q0[k * m->npl + (long)j * g->ns + i];
-                    s += x;
-                    s2 += x * x;
-                }
-        const double mean = s / c.n;
-        const double rms = sqrt(fmax(s2 / c.n - mean * mean, 0.0));
-        const double floor = 1e-2 * fabs(m->cfg.coriolis_f0_per_s);
-        /* v has unit 2-norm: rms(v) = 1 / sqrt(n). */
-        c.eps = sqrt(DBL_EPSILON) * fmax(rms, floor) * sqrt((double)c.n);
-        out->epsilon = c.eps;
-    }
-
-    /* Start vector: Philox normal numbers, normalized. */
-    double *v0 = V;
-    for (long p = 0; p < c.n; p += 2) {
-        double z[2];
-        tg_normal2(seed, 0x7e7u, (uint32_t)(p >> 32), (uint32_t)p, z);
-        v0[p] = z[0];
-        if (p + 1 < c.n)
-            v0[p + 1] = z[1];
-    }
-    {
-        const double nv = sqrt(dot(v0, v0, c.n));
-        for (long p = 0; p < c.n; p++)
-            v0[p] /= nv;
-    }
-
+    c.eps = perturbation_size(m, q0, c.n);
+    out->epsilon = c.eps;
+    start_vector(V, c.n, seed);
     int kused = kdim;
     double hnorm = 0.0;
-    for (int j = 0; j < kdim; j++) {
-        if ((rc = jvp(&c, V + (size_t)j * c.n, w, st)) != TG_OK)
-            goto done;
-        double wn0 = sqrt(dot(w, w, c.n));
-        if (!isfinite(wn0)) {
-            rc = tg_fail(st, TG_ERR_NUMERIC,
-                         "linear check: the closure's tendency is not finite near the state "
-                         "(Arnoldi step %d)",
-                         j + 1);
-            goto done;
-        }
-        for (int pass = 0; pass < 2; pass++)
-            for (int i = 0; i <= j; i++) {
-                const double *vi = V + (size_t)i * c.n;
-                const double hij = dot(vi, w, c.n);
-                H[(size_t)j * k1 + i] += hij;
-                for (long p = 0; p < c.n; p++)
-                    w[p] -= hij * vi[p];
-            }
-        const double hn = sqrt(dot(w, w, c.n));
-        H[(size_t)j * k1 + j + 1] = hn;
-        for (int i = 0; i <= j + 1; i++)
-            hnorm = fmax(hnorm, fabs(H[(size_t)j * k1 + i]));
-        /* An invariant subspace (or a zero operator): stop here. */
-        if (hn <= 1e-12 * hnorm || hn == 0.0) {
-            kused = j + 1;
-            break;
-        }
-        double *vn = V + (size_t)(j + 1) * c.n;
-        for (long p = 0; p < c.n; p++)
-            vn[p] = w[p] / hn;
-    }
-
-    /* Ritz values: eigenvalues of the leading kused x kused block. */
-    for (int jc = 0; jc < kused; jc++)
-        for (int i = 0; i < kused; i++)
-            Hs[(size_t)jc * kused + i] = H[(size_t)jc * k1 + i];
-    if (hnorm == 0.0) {
-        for (int i = 0; i < kused; i++)
-            wr[i] = wi[i] = 0.0;
-    } else {
-        double zdummy = 0.0;
-        lapack_int info = LAPACKE_dhseqr(LAPACK_COL_MAJOR, 'E', 'N', kused, 1, kused, Hs, kused,
-                                         wr, wi, &zdummy, 1);
-        if (info != 0) {
-            rc = tg_fail(st, TG_ERR_NUMERIC,
-                         "linear check: LAPACKE_dhseqr failed on the %d x %d Hessenberg matrix "
-                         "(info = %d)",
-                         kused, kused, (int)info);
-            goto done;
-        }
-    }
-    for (int i = 0; i < kused; i++)
-        rz[i] = (ritz){wr[i], wi[i], hypot(wr[i], wi[i])};
-    qsort(rz, (size_t)kused, sizeof *rz, by_magnitude);
+    if ((rc = arnoldi(&c, kdim, V, w, H, &kused, &hnorm, st)) != TG_OK ||
+        (rc = ritz_values(H, k1, kused, hnorm, Hs, wr, wi, rz, st)) != TG_OK)
+        goto done;
     out->n = kused;
     out->growth_rate = -INFINITY;
     for (int i = 0; i < kused; i++) {

@@ -1,11 +1,21 @@
 /* config.h - typed experiment settings and the table of every config key.
  *
  * A config file is INI (read with libinih). Every key has one row in the key
- * table (config.c): section, name, unit, type, default, allowed range and a
- * one-line meaning. The table drives parsing, validation, `--set` overrides,
- * "did you mean" suggestions, the resolved-config dump and the README
- * reference. Loading order: tg_config_defaults -> tg_config_load_file ->
- * tg_config_set (each --set) -> tg_config_check (cross-key rules).
+ * table (config_keys.c): section, name, unit, type, default, allowed range
+ * and a one-line meaning. The table drives parsing, validation, `--set`
+ * overrides, "did you mean" suggestions, the resolved-config dump and the
+ * README reference. The config layer's files (src/files/config_*.c):
+ *   config_keys.c       the key table as data, lookups, sections
+ *   config_value.c      one value: read from text, range-checked, written back
+ *   config_suggest.c    "did you mean" and the unknown-name messages
+ *   config_read.c       defaults, INI files and text, --set
+ *   config_check.c      rules between keys and tg_config_validate
+ *   config_twin.c       the twin's derived configs and the [twin] rules
+ *   config_dump.c       the resolved config (tg_config_to_ini)
+ *   config_reference.c  README's reference table
+ *   config_hooks.c      the checks higher layers install (config_hooks.h)
+ * Loading order: tg_config_defaults -> tg_config_load_file -> tg_config_set
+ * (each --set) -> tg_config_validate (every rule of the commands given).
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
@@ -29,8 +39,12 @@ typedef enum { TG_TWIN_FILTER_SHARP = 0, TG_TWIN_FILTER_GAUSSIAN = 1 } tg_twin_f
 /* Where a key's value came from (tg_config.set_by_user[]). */
 typedef enum { TG_SET_DEFAULT = 0, TG_SET_FILE = 1, TG_SET_OPTION = 2 } tg_set_origin;
 
-/* Upper bound on the number of rows in the key table (checked in config.c). */
+/* Upper bound on the number of rows in the key table (checked in config_impl.h). */
 #define TG_CONFIG_MAX_KEYS 64
+
+/* Most components one [closure] use list may combine (the same value as
+ * closure.h, which plugins include alone). */
+#define TG_MAX_CLOSURES 8
 
 #define TG_MAX_RAW 96
 #define TG_RAW_TEXT 200
@@ -95,7 +109,7 @@ typedef struct tg_config {
 
     /* [closure] and each scheme's own section, kept as written; the
      * closure layer (closure_host.c) validates them against the schemes'
-     * parameter tables in tg_config_check. Sections accepted here: closure,
+     * parameter tables in tg_config_validate. Sections accepted here: closure,
      * every registered scheme name, and plugin.NAME for plugins. */
     int nraw;
     tg_raw_entry raw[TG_MAX_RAW];
@@ -135,6 +149,12 @@ typedef struct tg_config {
     /* Not a config key: the ensemble member (--member), 0 by default. */
     int member;
 
+    /* Not a config key: 1 when the last file read was a resolved config that
+     * twingyre wrote (tg_config_to_ini's first line). Such a file sets every
+     * key, so its keys say nothing about intent: they raise no "ignored"
+     * warnings and do not make tg_config_uses infer [vet]. */
+    int resolved;
+
     /* Not a config key: the directory of the config file that
      * tg_config_load_file read last ("" before any, or for text), against
      * which closure files given in that file are resolved. */
@@ -162,9 +182,38 @@ tg_code tg_config_load_text(tg_config *cfg, const char *text, const char *name, 
  * Messages start with "--set section.key=value: ". */
 tg_code tg_config_set(tg_config *cfg, const char *assignment, tg_status *st);
 
-/* Cross-key rules (e.g. basin points = 2^k + 1, one reduced gravity per
- * interface, wall keys only in a basin, the initial file exists).
- * `origin` names the config file for messages (may be NULL). */
+/* What a config is checked for: the commands that will use it. */
+enum {
+    TG_USE_RUN = 1,   /* a run of this config (run, vet, a sweep's run members) */
+    TG_USE_TWIN = 2,  /* a twin experiment (twin, a sweep's twin members) */
+    TG_USE_VET = 4,   /* the closure battery (vet) */
+    TG_USE_QUIET = 8  /* no warnings: for a config whose warnings were given already */
+};
+
+/* The uses a config is written for, as `describe` infers them: TG_USE_TWIN
+ * when it sets a [twin] key or has [twin.reference]/[twin.coarse] overrides
+ * (a resolved config: when its compare list or overrides differ from the
+ * defaults), else TG_USE_RUN; TG_USE_VET besides when it sets a [vet] key
+ * (not counting a resolved config's). */
+unsigned tg_config_uses(const tg_config *cfg);
+
+/* The one validation entry of every command. Checks every rule of the
+ * given uses (a TG_USE_ mask; 0 means tg_config_uses(cfg)): each key's
+ * rules against the others (basin points = 2^k + 1, one reduced gravity per
+ * interface, wall keys only in a basin, steps against intervals, the step
+ * count, deformation radii and diffusive limits, the initial state file),
+ * the closure sections through the installed hooks (config_hooks.h);
+ * with TG_USE_TWIN the [twin] rules and every derived config of the twin
+ * (the reference and one coarse run per compared closure) instead of the
+ * base config as a run; with TG_USE_VET the [vet] rules. Warnings about
+ * settings without effect (a key ignored unless another is set, a closure
+ * section nothing uses) are logged here, once each. `origin` names the
+ * config file for messages (may be NULL). TG_USE_QUIET added to the mask
+ * leaves the warnings out. */
+tg_code tg_config_validate(const tg_config *cfg, unsigned uses, const char *origin,
+                           tg_status *st);
+
+/* tg_config_validate(cfg, TG_USE_RUN, origin, st). */
 tg_code tg_config_check(const tg_config *cfg, const char *origin, tg_status *st);
 
 /* Writes the fully resolved config as INI text (every key, one per line,
@@ -196,8 +245,9 @@ int tg_config_suggest(const char *given, const char *const *cands, int n);
 /* Finds a raw closure entry; NULL when absent. */
 const tg_raw_entry *tg_config_raw(const tg_config *cfg, const char *section, const char *key);
 
-/* Twin experiments (`twingyre twin`, twin.h). tg_config_check leaves [twin]
- * alone (a plain run ignores it); these apply its rules.
+/* Twin experiments (`twingyre twin`, twin.h): the configs a twin runs,
+ * derived from its base config; tg_config_validate with TG_USE_TWIN checks
+ * all of them, so these only fail on a config it has not passed.
  *
  * tg_config_twin_derive makes the config of the reference (coarse = 0) or
  * of the coarse runs (coarse = 1) from base: grid points from [twin], then
@@ -205,28 +255,36 @@ const tg_raw_entry *tg_config_raw(const tg_config *cfg, const char *section, con
  * override of a key the twin sets itself (grid geometry, size and points,
  * the layers, the run length, the output directory and, for coarse runs,
  * the initial state, snapshot interval and [closure] use) is refused.
- * Messages: "FILE:LINE: [twin.coarse] section.key: ...". out is not checked
- * with tg_config_check (the caller does that). */
+ * Messages: "FILE:LINE: [twin.coarse] section.key: ...". */
 tg_code tg_config_twin_derive(const tg_config *base, int coarse, const char *origin,
                               tg_config *out, tg_status *st);
 
-/* [twin] rules: reference and coarse points of the geometry's form, the
- * coarse spacing an integer multiple r >= 2 of the reference spacing, the
- * spin-up a whole number of reference steps, the sample interval a whole
- * number of steps of both runs, the window a whole number of samples, and
- * the compare list well formed (its names are resolved by twin.c). */
-tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_status *st);
+/* The reference run: tg_config_twin_derive(base, 0) running spin-up plus
+ * window into DIR/reference (DIR: base's output directory). */
+tg_code tg_config_twin_reference(const tg_config *base, const char *origin, tg_config *out,
+                                 tg_status *st);
+
+/* The coarse runs before a closure is chosen: tg_config_twin_derive(base,
+ * 1) running the window from rest (the starting file is written later),
+ * a snapshot at every sample and one summary line. */
+tg_code tg_config_twin_coarse(const tg_config *base, const char *origin, tg_config *out,
+                              tg_status *st);
+
+/* The entries a twin compares: "none" first, then [twin] compare's names
+ * in order without "none"; returns their count (at most TG_MAX_CLOSURES). */
+int tg_config_twin_entries(const tg_config *base, char entries[][TG_RAW_TEXT]);
+
+/* The coarse run of one entry: coarse with [closure] use = entry, or for
+ * "coefficients:PATH" use = coefficients with [coefficients] file = PATH
+ * resolved against the config's directory. */
+tg_code tg_config_twin_entry(const tg_config *base, const tg_config *coarse, const char *entry,
+                             tg_config *out, tg_status *st);
 
 /* A [twin] compare entry "coefficients:PATH" names a coefficients file
  * (e.g. from `twingyre fit`) to run with the closure `coefficients`.
  * Returns 1 for such an entry and writes PATH resolved against the config
  * file's directory (cfg->config_dir; absolute paths unchanged), else 0. */
 int tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n);
-/* [vet] rules (`twingyre vet`, vet.h): a closure is configured, the window
- * holds at least one step, required_margin is at most the largest
- * multiplier, and a reference state file can be opened. Messages name the
- * file and line of the key. */
-tg_code tg_config_check_vet(const tg_config *cfg, const char *origin, tg_status *st);
 
 /* Prints the reference table (Markdown) used in README. */
 void tg_config_print_reference(FILE *out);

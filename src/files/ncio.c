@@ -13,6 +13,7 @@
 
 #include "ncio.h"
 #include "ncio_util.h"
+#include "ncio_keep.h"
 #include "ncverify.h"
 
 #include <errno.h>
@@ -39,16 +40,6 @@
 
 /* Turns a netCDF return code into TG_OK or TG_ERR_IO with a message naming the
  * file, what was being done and (when var is not NULL) the variable. */
-tg_code tg_nc_check(int rc, const char *path, const char *what, const char *var, tg_status *st)
-{
-    if (rc == NC_NOERR)
-        return TG_OK;
-    if (var)
-        return tg_fail(st, TG_ERR_IO, "%s: %s failed (variable %s): %s", path, what, var,
-                       nc_strerror(rc));
-    return tg_fail(st, TG_ERR_IO, "%s: %s failed: %s", path, what, nc_strerror(rc));
-}
-
 /* Shorthand inside functions that have `path`, `st`, a tg_code `code` and a
  * `fail:` label. */
 #define NC_TRY(call, what, var)                                                   \
@@ -65,15 +56,6 @@ static char *dup_string(const char *s)
     if (d)
         memcpy(d, s, n);
     return d;
-}
-
-tg_code tg_nc_put_text(int ncid, int varid, const char *att, const char *value, const char *path,
-                       const char *varname, tg_status *st)
-{
-    char what[128];
-    snprintf(what, sizeof what, "writing attribute \"%s\"", att);
-    return tg_nc_check(nc_put_att_text(ncid, varid, att, strlen(value), value), path, what,
-                    varname, st);
 }
 
 static tg_code check_grid(const char *path, const tg_nc_grid *g, tg_status *st)

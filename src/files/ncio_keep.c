@@ -1,10 +1,11 @@
 /* ncio_keep.c - copies the leading records of an existing record file into a
  * new one, for a run resumed in its own output folder (ncio.h:
- * tg_budget_continue, tg_fields_continue). See ncio_util.h for the contract.
+ * tg_budget_continue, tg_fields_continue). See ncio_keep.h for the contract.
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
-#include "ncio_util.h"
+#include "ncio_keep.h"
+#include "nccheck.h"
 #include "ncverify.h"
 
 #include <math.h>

@@ -6,15 +6,10 @@
 #ifndef TG_NCIO_UTIL_H
 #define TG_NCIO_UTIL_H
 
+#include "nccheck.h"
 #include "ncio.h"
 
-/* netCDF return code -> TG_OK, or TG_ERR_IO naming the file, what was being
- * done and (when var is not NULL) the variable. */
-tg_code tg_nc_check(int rc, const char *path, const char *what, const char *var, tg_status *st);
 
-/* A text attribute, checked. */
-tg_code tg_nc_put_text(int ncid, int varid, const char *att, const char *value, const char *path,
-                       const char *varname, tg_status *st);
 
 /* The global attributes every output file carries (Conventions, title,
  * source, history, command_line, resolved_config). */
@@ -44,13 +39,5 @@ tg_code tg_nc_def_spectrum(int ncid, const char *path, const tg_nc_wavenumbers *
                            int d_layer, const char *long_name, int *v_k, int *v_spec,
                            tg_status *st);
 
-/* For a run resumed in its own output folder: copies into the open file
- * ncid (data mode, same record variables) the leading records of the
- * existing file `from` whose record variable `key` is <= limit (inclusive)
- * or < limit; *nkept is their number and *last the key of the last one
- * (NaN when none). `from` is checked as any input (ncverify.h); a record
- * variable of ncid missing in `from` or of another shape is TG_ERR_IO. */
-tg_code tg_nc_keep_records(const char *from, int ncid, const char *key, double limit,
-                           int inclusive, size_t *nkept, double *last, tg_status *st);
 
 #endif

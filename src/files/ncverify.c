@@ -18,7 +18,7 @@
  */
 #define _POSIX_C_SOURCE 200809L
 #include "ncverify.h"
-#include "ncio_util.h"
+#include "nccheck.h"
 #include "textfile.h"
 
 #include <errno.h>

@@ -128,9 +128,14 @@ tg_code tg_closure_spec_resolve(const tg_config *cfg, const char *origin, tg_clo
         char list[TG_RAW_TEXT];
         snprintf(list, sizeof list, "%s", use->value);
         where(use, origin, at, sizeof at);
-        char *save = NULL;
         int nnone = 0, nitems = 0;
-        for (char *tok = strtok_r(list, ",", &save); tok; tok = strtok_r(NULL, ",", &save)) {
+        /* Split at every comma (strtok would skip empty names: "use = ,,,"
+         * must be refused, not read as no closure). */
+        for (char *tok = list, *next; tok; tok = next) {
+            char *comma = strchr(tok, ',');
+            next = comma ? comma + 1 : NULL;
+            if (comma)
+                *comma = '\0';
             char *name = trim(tok);
             nitems++;
             if (name[0] == '\0')
@@ -213,10 +218,8 @@ tg_code tg_closure_spec_resolve(const tg_config *cfg, const char *origin, tg_clo
                 c = &spec->c[i];
                 ci = i;
             }
-        if (!c) {
-            tg_log(TG_LOG_WARN, "%s: ignored, [%s] is not among [closure] use", at, e->section);
-            continue;
-        }
+        if (!c)
+            continue; /* not among [closure] use: tg_config_validate warns once */
         int p = -1;
         for (int i = 0; i < c->ops->nparams; i++)
             if (!strcmp(c->ops->params[i].key, e->key))
@@ -259,12 +262,63 @@ tg_code tg_closure_spec_resolve(const tg_config *cfg, const char *origin, tg_clo
     return TG_OK;
 }
 
-tg_code tg_closure_check_config(const tg_config *cfg, const char *origin, tg_status *st)
+/* Whether raw section `sec` is named by the use list (a plugin's section is
+ * named after the plugin, known only once loaded: with a plugin every
+ * [plugin.*] section is kept). */
+static int named_in_use(const char *sec, const char *list)
 {
+    const char *p = list;
+    while (*p) {
+        const size_t len = strcspn(p, ",");
+        const char *a = p, *e = p + len;
+        while (a < e && (*a == ' ' || *a == '\t'))
+            a++;
+        while (e > a && (e[-1] == ' ' || e[-1] == '\t'))
+            e--;
+        if (!strncmp(a, "plugin:", 7) ? !strncmp(sec, "plugin.", 7)
+                                      : strlen(sec) == (size_t)(e - a) &&
+                                            !strncmp(sec, a, (size_t)(e - a)))
+            return 1;
+        p += len + (p[len] == ',');
+    }
+    return 0;
+}
+
+tg_code tg_closure_keep_used(tg_config *cfg, const char *origin, char (*used)[TG_SECTION_LEN],
+                             int max, int *nused, tg_status *st)
+{
+    *nused = 0;
+    tg_config *tmp = malloc(sizeof *tmp);
     tg_closure_spec *spec = malloc(sizeof *spec);
-    if (!spec)
-        return tg_fail(st, TG_ERR_NOMEM, "no memory to check the closure settings");
-    tg_code rc = tg_closure_spec_resolve(cfg, origin, spec, st);
+    if (!tmp || !spec) {
+        free(tmp);
+        free(spec);
+        return tg_fail(st, TG_ERR_NOMEM, "no memory to resolve closures");
+    }
+    *tmp = *cfg;
+    tmp->nraw = 0;
+    const tg_raw_entry *use = tg_config_raw(cfg, "closure", "use");
+    for (int r = 0; r < cfg->nraw; r++) {
+        const char *sec = cfg->raw[r].section;
+        if (!strcmp(sec, "closure") || named_in_use(sec, use ? use->value : ""))
+            tmp->raw[tmp->nraw++] = cfg->raw[r];
+    }
+    tg_code rc = tg_closure_spec_resolve(tmp, origin, spec, st);
+    if (rc == TG_OK) {
+        int n = 0;
+        for (int r = 0; r < cfg->nraw; r++) {
+            const tg_raw_entry *e = &cfg->raw[r];
+            int keep = !strcmp(e->section, "closure");
+            for (int c = 0; c < spec->n && !keep; c++)
+                keep = !strcmp(spec->c[c].section, e->section);
+            if (keep)
+                cfg->raw[n++] = *e;
+        }
+        cfg->nraw = n;
+        for (int c = 0; c < spec->n && *nused < max; c++)
+            snprintf(used[(*nused)++], TG_SECTION_LEN, "%s", spec->c[c].section);
+    }
+    free(tmp);
     free(spec);
     return rc;
 }

@@ -18,6 +18,7 @@
 
 #include "closure.h"
 #include "config.h"
+#include "config_hooks.h"
 #include "geometry.h"
 #include "modes.h"
 
@@ -41,8 +42,13 @@ typedef struct {
 tg_code tg_closure_spec_resolve(const tg_config *cfg, const char *origin, tg_closure_spec *spec,
                                 tg_status *st);
 
-/* The same, for tg_config_check (the spec is discarded). */
-tg_code tg_closure_check_config(const tg_config *cfg, const char *origin, tg_status *st);
+/* Keeps in cfg only the closure settings its [closure] use list needs
+ * ([closure] and the sections of the components it names), checking them;
+ * the names of those sections go into used (at most max, *nused of them).
+ * Sections of other schemes are dropped silently (tg_config_validate warns
+ * about them once). */
+tg_code tg_closure_keep_used(tg_config *cfg, const char *origin, char (*used)[TG_SECTION_LEN],
+                             int max, int *nused, tg_status *st);
 
 /* The resolved closure sections as INI text (malloc'ed), for the resolved
  * config; "[closure]\nuse = none\n" without closures; NULL on failure. */

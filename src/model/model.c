@@ -47,28 +47,10 @@ static double wind_curl(const tg_config *cfg, double y, double L)
     return 0.0;
 }
 
-tg_model *tg_model_create(const tg_config *cfg, tg_status *st)
+/* The sizes and every work array of the model on its geometry (all the
+ * step will use). */
+static tg_code alloc_work(tg_model *m, tg_status *st)
 {
-    tg_model *m = calloc(1, sizeof *m);
-    if (!m) {
-        tg_fail(st, TG_ERR_NOMEM, "model: no memory");
-        return NULL;
-    }
-    m->cfg = *cfg;
-    m->nl = cfg->nlayers;
-    m->dt = cfg->step_s;
-    for (int k = 0; k < m->nl; k++)
-        m->Htot += cfg->thickness_m[k];
-
-    if (tg_modes_compute(&m->modes, m->nl, cfg->thickness_m, cfg->reduced_gravity_m_s2,
-                         cfg->coriolis_f0_per_s, st) != TG_OK)
-        goto fail;
-    m->geom = tg_geometry_create(cfg, st);
-    if (!m->geom)
-        goto fail;
-    if (m->geom->ops->setup_modes(m->geom, m->nl, m->modes.F, st) != TG_OK)
-        goto fail;
-
     const tg_geometry *g = m->geom;
     const int ns = g->ns;
     m->npl = (long)ns * ns;
@@ -98,9 +80,18 @@ tg_model *tg_model_create(const tg_config *cfg, tg_status *st)
         !m->rowsums || !m->rowwork || !m->rowidx) {
         tg_fail(st, TG_ERR_NOMEM, "model: no memory for %d layers of %d x %d points", m->nl, ns,
                 ns);
-        goto fail;
+        return TG_ERR_NOMEM;
     }
+    return TG_OK;
+}
 
+/* The fields and constants the configuration fixes: planetary PV and wind
+ * forcing per node, the background flow and its PV gradient, and which
+ * terms the tendency has. */
+static void fixed_fields(tg_model *m, const tg_config *cfg)
+{
+    const tg_geometry *g = m->geom;
+    const int ns = g->ns;
     /* Planetary PV beta (y - y0), y0 the central latitude, when the grid
      * can hold it (basin); otherwise beta enters the mean-flow term. */
     const double y0 = 0.5 * g->length;
@@ -131,6 +122,33 @@ tg_model *tg_model_create(const tg_config *cfg, tg_status *st)
     m->term_active[TG_TERM_VISCOSITY] = 1;
     m->term_active[TG_TERM_MEAN_FLOW] = !g->holds_planetary_pv || any_u;
     m->term_active[TG_TERM_CLOSURE] = 1;
+}
+
+tg_model *tg_model_create(const tg_config *cfg, tg_status *st)
+{
+    tg_model *m = calloc(1, sizeof *m);
+    if (!m) {
+        tg_fail(st, TG_ERR_NOMEM, "model: no memory");
+        return NULL;
+    }
+    m->cfg = *cfg;
+    m->nl = cfg->nlayers;
+    m->dt = cfg->step_s;
+    for (int k = 0; k < m->nl; k++)
+        m->Htot += cfg->thickness_m[k];
+
+    if (tg_modes_compute(&m->modes, m->nl, cfg->thickness_m, cfg->reduced_gravity_m_s2,
+                         cfg->coriolis_f0_per_s, st) != TG_OK)
+        goto fail;
+    m->geom = tg_geometry_create(cfg, st);
+    if (!m->geom)
+        goto fail;
+    if (m->geom->ops->setup_modes(m->geom, m->nl, m->modes.F, st) != TG_OK)
+        goto fail;
+
+    if (alloc_work(m, st) != TG_OK)
+        goto fail;
+    fixed_fields(m, cfg);
     m->closures = tg_closure_host_create(cfg, m->geom, &m->modes, st);
     if (!m->closures)
         goto fail;

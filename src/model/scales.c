@@ -6,6 +6,55 @@
 #include "constants.h"
 #include "modes.h"
 
+/* The periodic domain's scales. No walls, so no boundary layers, basin
+ * modes or Sverdrup transport. With a uniform zonal flow U_k per layer
+ * (psi_k = -U_k y), the background PV gradient of layer k is
+ *     Q_k,y = beta - sum_j S_kj U_j
+ * and a sign change of Q_y between layers is the necessary condition for
+ * baroclinic instability (Charney & Stern 1962, J. Atmos. Sci. 19,
+ * 159-172; Pedlosky 1987, Geophysical Fluid Dynamics, section 7.4). For
+ * two layers, with F_k = f0^2/(g' H_k), Q_2,y = beta - F_2 (U1 - U2) and
+ * Q_1,y = beta + F_1 (U1 - U2), so the gradient changes sign once
+ * U1 - U2 > beta/F_2 = beta g' H_2 / f0^2 (or U2 - U1 > beta/F_1): the
+ * critical shear of the two-layer model (Phillips 1954, Tellus 6,
+ * 273-286; Pedlosky 1987, section 7.11). */
+static void periodic_scales(const tg_config *cfg, const tg_modes *md, tg_scales *s)
+{
+    const double beta = cfg->beta_per_m_per_s;
+    const int nl = cfg->nlayers;
+    s->periodic = cfg->geometry == TG_GEOM_PERIODIC;
+    s->has_background = s->periodic && cfg->n_zonal_velocity == nl;
+    s->gradient_changes_sign = 0;
+    s->critical_shear_m_s = NAN;
+    s->shear_ratio = NAN;
+    for (int k = 0; k < TG_MAX_LAYERS; k++)
+        s->pv_gradient[k] = NAN;
+    if (s->periodic) {
+        s->munk_m = s->stommel_m = s->rossby_period_days = s->sverdrup_transport_sv = NAN;
+    }
+    if (s->has_background) {
+        int pos = 0, neg = 0;
+        for (int k = 0; k < nl; k++) {
+            double g = beta;
+            for (int j = 0; j < nl; j++)
+                g -= md->S[k][j] * cfg->zonal_velocity_m_s[j];
+            s->pv_gradient[k] = g;
+            pos |= g > 0;
+            neg |= g < 0;
+        }
+        s->gradient_changes_sign = pos && neg;
+        if (nl == 2) {
+            double shear = cfg->zonal_velocity_m_s[0] - cfg->zonal_velocity_m_s[1];
+            double f2 = cfg->coriolis_f0_per_s * cfg->coriolis_f0_per_s;
+            double gp = cfg->reduced_gravity_m_s2[0];
+            double H = shear >= 0 ? cfg->thickness_m[1] : cfg->thickness_m[0];
+            s->critical_shear_m_s = beta * gp * H / f2;
+            s->shear_ratio = s->critical_shear_m_s > 0 ? fabs(shear) / s->critical_shear_m_s
+                                                       : INFINITY;
+        }
+    }
+}
+
 tg_code tg_scales_compute(const tg_config *cfg, tg_scales *s, tg_status *st)
 {
     tg_modes md;
@@ -43,48 +92,6 @@ tg_code tg_scales_compute(const tg_config *cfg, tg_scales *s, tg_status *st)
         beta > 0 ? curl * L / (cfg->reference_density_kg_m3 * beta) / 1e6 : NAN;
     s->steps = (long)llround(cfg->duration_days * TG_SECONDS_PER_DAY / cfg->step_s);
 
-    /* Periodic domain: no walls, so no boundary layers, basin modes or
-     * Sverdrup transport. With a uniform zonal flow U_k per layer
-     * (psi_k = -U_k y), the background PV gradient of layer k is
-     *     Q_k,y = beta - sum_j S_kj U_j
-     * and a sign change of Q_y between layers is the necessary condition for
-     * baroclinic instability (Charney & Stern 1962, J. Atmos. Sci. 19,
-     * 159-172; Pedlosky 1987, Geophysical Fluid Dynamics, section 7.4). For
-     * two layers, with F_k = f0^2/(g' H_k), Q_2,y = beta - F_2 (U1 - U2) and
-     * Q_1,y = beta + F_1 (U1 - U2), so the gradient changes sign once
-     * U1 - U2 > beta/F_2 = beta g' H_2 / f0^2 (or U2 - U1 > beta/F_1): the
-     * critical shear of the two-layer model (Phillips 1954, Tellus 6,
-     * 273-286; Pedlosky 1987, section 7.11). */
-    s->periodic = cfg->geometry == TG_GEOM_PERIODIC;
-    s->has_background = s->periodic && cfg->n_zonal_velocity == nl;
-    s->gradient_changes_sign = 0;
-    s->critical_shear_m_s = NAN;
-    s->shear_ratio = NAN;
-    for (int k = 0; k < TG_MAX_LAYERS; k++)
-        s->pv_gradient[k] = NAN;
-    if (s->periodic) {
-        s->munk_m = s->stommel_m = s->rossby_period_days = s->sverdrup_transport_sv = NAN;
-    }
-    if (s->has_background) {
-        int pos = 0, neg = 0;
-        for (int k = 0; k < nl; k++) {
-            double g = beta;
-            for (int j = 0; j < nl; j++)
-                g -= md.S[k][j] * cfg->zonal_velocity_m_s[j];
-            s->pv_gradient[k] = g;
-            pos |= g > 0;
-            neg |= g < 0;
-        }
-        s->gradient_changes_sign = pos && neg;
-        if (nl == 2) {
-            double shear = cfg->zonal_velocity_m_s[0] - cfg->zonal_velocity_m_s[1];
-            double f2 = cfg->coriolis_f0_per_s * cfg->coriolis_f0_per_s;
-            double gp = cfg->reduced_gravity_m_s2[0];
-            double H = shear >= 0 ? cfg->thickness_m[1] : cfg->thickness_m[0];
-            s->critical_shear_m_s = beta * gp * H / f2;
-            s->shear_ratio = s->critical_shear_m_s > 0 ? fabs(shear) / s->critical_shear_m_s
-                                                       : INFINITY;
-        }
-    }
+    periodic_scales(cfg, &md, s);
     return TG_OK;
 }

@@ -69,6 +69,45 @@ static fftw_plan make_plan(const tg_dst *d, int rows)
                                   NULL, 1, d->cdist, FFTW_ESTIMATE);
 }
 
+/* Each thread's batch buffers (rlen doubles, clen complex), zeroed and
+ * aligned like thread 0's, as new-array execution needs. */
+static tg_code alloc_row_buffers(tg_dst *d, size_t rlen, size_t clen, tg_status *st)
+{
+    for (int t = 0; t < d->nthreads; t++) {
+        d->rbuf[t] = fftw_malloc(rlen * sizeof(double));
+        d->cbuf[t] = fftw_malloc(clen * sizeof(fftw_complex));
+        if (!d->rbuf[t] || !d->cbuf[t])
+            return tg_fail(st, TG_ERR_NOMEM,
+                           "sine transform: fftw_malloc failed for the buffers of thread %d of %d",
+                           t, d->nthreads);
+        memset(d->rbuf[t], 0, rlen * sizeof(double));
+        memset(d->cbuf[t], 0, clen * sizeof(fftw_complex));
+        /* New-array execute needs every buffer aligned like the planned one. */
+        if (fftw_alignment_of(d->rbuf[t]) != fftw_alignment_of(d->rbuf[0]) ||
+            fftw_alignment_of((double *)d->cbuf[t]) != fftw_alignment_of((double *)d->cbuf[0]))
+            return tg_fail(st, TG_ERR_INTERNAL,
+                           "sine transform: fftw_malloc returned buffers of different alignment");
+    }
+    return TG_OK;
+}
+
+/* The plans: one for a full batch of rows and one for the last, shorter
+ * batch (the same plan when the rows divide evenly). */
+static tg_code make_plans(tg_dst *d, tg_status *st)
+{
+    if (!(d->full = make_plan(d, TG_DST_BATCH)))
+        return tg_fail(st, TG_ERR_NUMERIC,
+                       "sine transform: FFTW could not plan %d real-to-complex transforms of "
+                       "length %d", TG_DST_BATCH, d->len);
+    if (d->tail == TG_DST_BATCH)
+        d->last = d->full;
+    else if (!(d->last = make_plan(d, d->tail)))
+        return tg_fail(st, TG_ERR_NUMERIC,
+                       "sine transform: FFTW could not plan %d real-to-complex transforms of "
+                       "length %d", d->tail, d->len);
+    return TG_OK;
+}
+
 tg_dst *tg_dst_create(int n, tg_status *st)
 {
     tg_status_clear(st);
@@ -112,51 +151,18 @@ tg_dst *tg_dst_create(int n, tg_status *st)
         tg_dst_destroy(d);
         return NULL;
     }
-    for (int t = 0; t < d->nthreads; t++) {
-        d->rbuf[t] = fftw_malloc(rlen * sizeof(double));
-        d->cbuf[t] = fftw_malloc(clen * sizeof(fftw_complex));
-        if (!d->rbuf[t] || !d->cbuf[t]) {
-            tg_fail(st, TG_ERR_NOMEM,
-                    "sine transform: fftw_malloc failed for the buffers of thread %d of %d",
-                    t, d->nthreads);
-            tg_dst_destroy(d);
-            return NULL;
-        }
-        memset(d->rbuf[t], 0, rlen * sizeof(double));
-        memset(d->cbuf[t], 0, clen * sizeof(fftw_complex));
-        /* New-array execute needs every buffer aligned like the planned one. */
-        if (fftw_alignment_of(d->rbuf[t]) != fftw_alignment_of(d->rbuf[0]) ||
-            fftw_alignment_of((double *)d->cbuf[t]) != fftw_alignment_of((double *)d->cbuf[0])) {
-            tg_fail(st, TG_ERR_INTERNAL,
-                    "sine transform: fftw_malloc returned buffers of different alignment");
-            tg_dst_destroy(d);
-            return NULL;
-        }
+    if (alloc_row_buffers(d, rlen, clen, st) != TG_OK) {
+        tg_dst_destroy(d);
+        return NULL;
     }
 
     const double pi = 3.14159265358979323846;
     for (int j = 0; j <= d->len / 2; j++)
         d->sint[j] = sin(pi * j / d->len);
 
-    d->full = make_plan(d, TG_DST_BATCH);
-    if (!d->full) {
-        tg_fail(st, TG_ERR_NUMERIC,
-                "sine transform: FFTW could not plan %d real-to-complex transforms of length %d",
-                TG_DST_BATCH, d->len);
+    if (make_plans(d, st) != TG_OK) {
         tg_dst_destroy(d);
         return NULL;
-    }
-    if (d->tail == TG_DST_BATCH) {
-        d->last = d->full;
-    } else {
-        d->last = make_plan(d, d->tail);
-        if (!d->last) {
-            tg_fail(st, TG_ERR_NUMERIC,
-                    "sine transform: FFTW could not plan %d real-to-complex transforms of length %d",
-                    d->tail, d->len);
-            tg_dst_destroy(d);
-            return NULL;
-        }
     }
     tg_log(TG_LOG_DEBUG, "sine transform: n = %d, %d row blocks of %d, buffers for %d threads",
            n, d->nblocks, TG_DST_BATCH, d->nthreads);

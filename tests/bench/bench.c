@@ -68,6 +68,7 @@
 #include "status.h"
 #include "stepper.h"
 #include "throughput.h"
+#include "twingyre.h"
 
 #define MAX_LIST 16
 #define MAX_SETS 64
@@ -676,6 +677,7 @@ static double numpy_step_ms(const char *file, int P, int cpu)
 int main(int argc, char **argv)
 {
     cli_wait_policy(argv);
+    tg_init(); /* the closure layer's config checks, as the command installs them */
     options o;
     if (parse_args(argc, argv, &o) != 0)
         return 1;

@@ -19,6 +19,7 @@
  */
 #include "fdops.h"
 #include "geometry.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -427,9 +428,5 @@ static Suite *arakawa_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(arakawa_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(arakawa_suite());
 }

@@ -27,6 +27,8 @@
 #include "fdops.h"
 #include "model.h"
 #include "stepper.h"
+#include "twingyre.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -846,9 +848,5 @@ static Suite *closure_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(closure_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(closure_suite());
 }

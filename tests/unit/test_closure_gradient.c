@@ -13,6 +13,8 @@
  */
 #include "model.h"
 #include "stepper.h"
+#include "twingyre.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -361,9 +363,5 @@ int main(void)
     tcase_add_test(tc, zero_integral_basin);
     tcase_add_test(tc, threads_bitwise);
     suite_add_tcase(s, tc);
-    SRunner *sr = srunner_create(s);
-    srunner_run_all(sr, CK_NORMAL);
-    int nf = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return nf ? EXIT_FAILURE : EXIT_SUCCESS;
+    return tg_unit_run(s);
 }

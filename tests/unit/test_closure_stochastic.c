@@ -18,6 +18,8 @@
  */
 #include "model.h"
 #include "stepper.h"
+#include "twingyre.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -551,9 +553,5 @@ int main(void)
     tcase_add_test(tc, scaling_tendency);
     tcase_add_test(tc, scaling_missing_target);
     suite_add_tcase(s, tc);
-    SRunner *sr = srunner_create(s);
-    srunner_run_all(sr, CK_NORMAL);
-    int nf = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return nf ? EXIT_FAILURE : EXIT_SUCCESS;
+    return tg_unit_run(s);
 }

@@ -18,6 +18,8 @@
 #include "fdops.h"
 #include "model.h"
 #include "stepper.h"
+#include "twingyre.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -478,9 +480,5 @@ static Suite *suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int nf = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return nf ? EXIT_FAILURE : EXIT_SUCCESS;
+    return tg_unit_run(suite());
 }

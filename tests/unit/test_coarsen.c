@@ -25,6 +25,7 @@
 #include "coarsen.h"
 #include "config.h"
 #include "geometry.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <errno.h>
@@ -390,9 +391,5 @@ static Suite *coarsen_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(coarsen_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(coarsen_suite());
 }

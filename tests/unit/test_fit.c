@@ -87,7 +87,7 @@ static tg_model *coarse_model(int periodic, const char *coef_file)
     tg_config *base = malloc(sizeof *base), *crs = malloc(sizeof *crs);
     tg_status st;
     twin_config(base, periodic);
-    ck_assert_msg(tg_twin_coarse_config(base, NULL, crs, &st) == TG_OK, "%s", st.msg);
+    ck_assert_msg(tg_config_twin_coarse(base, NULL, crs, &st) == TG_OK, "%s", st.msg);
     crs->nraw = 0;
     char set[1024];
     if (coef_file) {

@@ -12,6 +12,7 @@
 #include "fdops.h"
 #include "geometry.h"
 #include "model.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -515,9 +516,5 @@ static Suite *geometry_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(geometry_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(geometry_suite());
 }

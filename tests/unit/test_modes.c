@@ -10,6 +10,7 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include "modes.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -286,9 +287,5 @@ static Suite *modes_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(modes_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(modes_suite());
 }

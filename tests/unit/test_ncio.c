@@ -15,7 +15,6 @@
 #define _POSIX_C_SOURCE 200809L
 
 #include <check.h>
-#include <dirent.h>
 #include <errno.h>
 #include <math.h>
 #include <netcdf.h>
@@ -29,6 +28,7 @@
 
 #include "ncio.h"
 #include "ncverify.h"
+#include "unit_util.h"
 
 /* Output directory, set once in main() before any test runs. */
 static char g_dir[4096];
@@ -894,49 +894,15 @@ static Suite *ncio_suite(void)
     return s;
 }
 
-/* Removes the files of a temporary directory and the directory itself. */
-static void remove_dir(const char *dir)
-{
-    DIR *d = opendir(dir);
-    if (!d)
-        return;
-    struct dirent *e;
-    char p[4400];
-    while ((e = readdir(d)) != NULL) {
-        if (strcmp(e->d_name, ".") == 0 || strcmp(e->d_name, "..") == 0)
-            continue;
-        snprintf(p, sizeof p, "%s/%s", dir, e->d_name);
-        if (remove(p) != 0)
-            fprintf(stderr, "test_ncio: could not remove %s: %s\n", p, strerror(errno));
-    }
-    closedir(d);
-    if (rmdir(dir) != 0)
-        fprintf(stderr, "test_ncio: could not remove %s: %s\n", dir, strerror(errno));
-}
-
 int main(void)
 {
     const char *keep = getenv("TG_TEST_OUTDIR");
-    int temporary = !(keep && keep[0]);
-    if (temporary) {
-        const char *tmp = getenv("TMPDIR");
-        snprintf(g_dir, sizeof g_dir, "%s/test_ncio.XXXXXX", tmp && tmp[0] ? tmp : "/tmp");
-        if (!mkdtemp(g_dir)) {
-            fprintf(stderr, "test_ncio: cannot make a temporary directory: %s\n", strerror(errno));
-            return EXIT_FAILURE;
-        }
-    } else {
-        snprintf(g_dir, sizeof g_dir, "%s", keep);
-        if (mkdir(g_dir, 0755) != 0 && errno != EEXIST) {
-            fprintf(stderr, "test_ncio: cannot make %s: %s\n", g_dir, strerror(errno));
-            return EXIT_FAILURE;
-        }
+    if (!(keep && keep[0]))
+        return tg_unit_run_in_scratch(ncio_suite(), g_dir, sizeof g_dir, "ncio");
+    snprintf(g_dir, sizeof g_dir, "%s", keep);
+    if (mkdir(g_dir, 0755) != 0 && errno != EEXIST) {
+        fprintf(stderr, "test_ncio: cannot make %s: %s\n", g_dir, strerror(errno));
+        return EXIT_FAILURE;
     }
-    SRunner *sr = srunner_create(ncio_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    if (temporary)
-        remove_dir(g_dir);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(ncio_suite());
 }

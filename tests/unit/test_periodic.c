@@ -17,6 +17,7 @@
 #include "fdops.h"
 #include "fourier.h"
 #include "geometry.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -647,9 +648,5 @@ static Suite *periodic_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(periodic_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(periodic_suite());
 }

@@ -23,6 +23,8 @@
 #include "closure_host.h"
 #include "model.h"
 #include "stepper.h"
+#include "twingyre.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <stdio.h>
@@ -253,9 +255,5 @@ int main(void)
         printf("SKIP: this build makes no shared objects (--disable-shared), so no plugins\n");
         return 77;
     }
-    SRunner *sr = srunner_create(suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed ? 1 : 0;
+    return tg_unit_run(suite());
 }

@@ -8,6 +8,7 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include "rng.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -253,9 +254,5 @@ static Suite *rng_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(rng_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(rng_suite());
 }

@@ -9,6 +9,7 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include "sinetf.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -441,9 +442,5 @@ static Suite *sinetf_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(sinetf_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(sinetf_suite());
 }

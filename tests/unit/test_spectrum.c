@@ -18,6 +18,7 @@
 #include "geometry.h"
 #include "model.h"
 #include "spectrum.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <errno.h>
@@ -496,9 +497,5 @@ static Suite *spectrum_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(spectrum_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(spectrum_suite());
 }

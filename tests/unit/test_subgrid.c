@@ -18,6 +18,7 @@
 #include "config.h"
 #include "geometry.h"
 #include "subgrid.h"
+#include "unit_util.h"
 
 #include <check.h>
 #include <math.h>
@@ -155,9 +156,5 @@ static Suite *subgrid_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(subgrid_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(subgrid_suite());
 }

@@ -191,6 +191,59 @@ START_TEST(bad_files)
 }
 END_TEST
 
+/* Issue 17, part 5: a sweep file follows the rules of a config file (the
+ * same line reader, src/files/ini_lines.c): a key that takes one value is
+ * refused the second time (it was last-wins), a NUL byte is refused (it cut
+ * the line: "seeds = 7\0, 8, 9" gave one member), and so is text after a
+ * section header. */
+START_TEST(same_rules_as_config_files)
+{
+    put("base.ini", BASE);
+    const char *vary = "[vary]\ntime.step_s = 1, 2\n";
+    char text[512];
+    const struct {
+        const char *lines, *key;
+    } twice[] = {
+        {"[sweep]\nbase = base.ini\ndirectory = a\ndirectory = b\n", "[sweep] directory"},
+        {"[sweep]\nbase = base.ini\nbase = other.ini\n", "[sweep] base"},
+        {"[sweep]\nbase = base.ini\ncombine = zip\ncombine = product\n", "[sweep] combine"},
+        {"[sweep]\nbase = base.ini\nkind = run\nkind = twin\n", "[sweep] kind"},
+        {"[sweep]\nbase = base.ini\n[cluster]\nmemory = 1G\nmemory = 2G\n", "[cluster] memory"},
+        {"[sweep]\nbase = base.ini\n[cluster]\ncpus_per_task = 2\ncpus_per_task = 4\n",
+         "[cluster] cpus_per_task"},
+    };
+    for (size_t i = 0; i < sizeof twice / sizeof twice[0]; i++) {
+        char name[32], want[128];
+        snprintf(name, sizeof name, "twice%zu.ini", i);
+        snprintf(text, sizeof text, "%s%s", twice[i].lines, vary);
+        snprintf(want, sizeof want, "%s: set twice", twice[i].key);
+        expect_error(name, text, TG_ERR_CONFIG, want);
+    }
+    /* extra and setup are lists, a line each. */
+    tg_sweep *sw;
+    tg_status st;
+    ck_assert_int_eq(load("lists.ini", "[sweep]\nbase = base.ini\n[vary]\ntime.step_s = 1, 2\n"
+                                       "[cluster]\nextra = --qos=a\nextra = --nice=1\n",
+                          &sw, &st),
+                     TG_OK);
+    tg_sweep_free(sw);
+
+    const char nul[] = "[sweep]\nbase = base.ini\nseeds = 7\0, 8, 9\n";
+    char path[512];
+    snprintf(path, sizeof path, "%s/nul.ini", g_dir);
+    FILE *f = fopen(path, "wb");
+    ck_assert_ptr_nonnull(f);
+    ck_assert_uint_eq(fwrite(nul, 1, sizeof nul - 1, f), sizeof nul - 1);
+    ck_assert_int_eq(fclose(f), 0);
+    tg_status_clear(&st);
+    ck_assert_int_eq(tg_sweep_load(path, NULL, &sw, &st), TG_ERR_CONFIG);
+    ck_assert_msg(strstr(st.msg, "nul.ini:3: contains a NUL byte") != NULL, "%s", st.msg);
+
+    expect_error("hdr.ini", "[sweep] base = base.ini\n", TG_ERR_CONFIG,
+                 "hdr.ini:1: [sweep]: unexpected text after the section header");
+}
+END_TEST
+
 START_TEST(member_config_failure)
 {
     put("base.ini", BASE);
@@ -245,6 +298,7 @@ static Suite *sweep_suite(void)
     tcase_add_test(tc, name_clashes);
     tcase_add_test(tc, continuation_lines);
     tcase_add_test(tc, bad_files);
+    tcase_add_test(tc, same_rules_as_config_files);
     tcase_add_test(tc, member_config_failure);
     tcase_add_test(tc, status_round_trip);
     suite_add_tcase(s, tc);

@@ -1,8 +1,8 @@
-/* unit_util.h - what several Check suites in tests/unit share: running the
- * file's suite with every case and turning the result into the exit status
- * (0 when every case passed), optionally inside a scratch folder made for
- * the run and removed after it; a model made from a config or the case
- * fails with the set-up's message.
+/* unit_util.h - what the Check suites of tests/unit and tests/validation
+ * share: running the file's suite with every case and turning the result
+ * into the exit status (0 when every case passed), optionally inside a
+ * scratch folder made for the run and removed after it; a model made from a
+ * config or the case fails with the set-up's message.
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
@@ -12,8 +12,10 @@
 #include <check.h>
 #include <stdio.h>
 #include <stdlib.h>
+#include <string.h>
 
 #include "model.h"
+#include "twingyre.h"
 
 /* tg_model_create(cfg), failing the running case with its message. */
 static inline tg_model *tg_unit_model(const tg_config *cfg)
@@ -24,9 +26,11 @@ static inline tg_model *tg_unit_model(const tg_config *cfg)
     return m;
 }
 
-/* Runs s (and frees it with its runner); 1 when a case failed, else 0. */
+/* Runs s (and frees it with its runner); 1 when a case failed, else 0.
+ * Installs the library's config checks first (tg_init), as the command does. */
 static inline int tg_unit_run(Suite *s)
 {
+    tg_init();
     SRunner *sr = srunner_create(s);
     srunner_run_all(sr, CK_NORMAL);
     const int failed = srunner_ntests_failed(sr);
@@ -48,10 +52,13 @@ static inline int tg_unit_run_in_scratch(Suite *s, char *dir, size_t n, const ch
         return 1;
     }
     const int failed = tg_unit_run(s);
-    char cmd[600];
-    snprintf(cmd, sizeof cmd, "rm -rf '%s'", dir);
-    if (system(cmd) != 0)
+    const size_t len = strlen(dir) + sizeof "rm -rf ''";
+    char *cmd = malloc(len); /* as long as the folder's name needs */
+    if (cmd)
+        snprintf(cmd, len, "rm -rf '%s'", dir);
+    if (!cmd || system(cmd) != 0)
         fprintf(stderr, "could not remove %s\n", dir);
+    free(cmd);
     return failed;
 }
 

@@ -36,6 +36,7 @@
 #include "model.h"
 #include "status.h"
 #include "stepper.h"
+#include "../unit/unit_util.h"
 
 static double wall_seconds(void)
 {
@@ -206,9 +207,5 @@ static Suite *budget_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(budget_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(budget_suite());
 }

@@ -48,6 +48,7 @@
 #include "model.h"
 #include "status.h"
 #include "stepper.h"
+#include "../unit/unit_util.h"
 
 static const double T_DAYS = 20.0, DT0 = 7200.0, AMP = 5000.0;
 
@@ -201,9 +202,5 @@ static Suite *convergence_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(convergence_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(convergence_suite());
 }

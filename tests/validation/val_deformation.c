@@ -29,6 +29,7 @@
 #include "modes.h"
 #include "scales.h"
 #include "status.h"
+#include "../unit/unit_util.h"
 
 typedef struct {
     double H1, H2, gprime, f0;
@@ -118,9 +119,5 @@ static Suite *deformation_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(deformation_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(deformation_suite());
 }

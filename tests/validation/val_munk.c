@@ -60,6 +60,7 @@
 #include "model.h"
 #include "status.h"
 #include "stepper.h"
+#include "../unit/unit_util.h"
 
 static const double PI = 3.14159265358979323846;
 static const double L_KM = 2000.0, BETA = 1.75e-11, TAU0 = 1e-5, RHO0 = 1030.0, H = 4000.0;
@@ -251,9 +252,5 @@ static Suite *munk_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(munk_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(munk_suite());
 }

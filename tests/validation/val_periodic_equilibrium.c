@@ -51,6 +51,7 @@
 #include "model.h"
 #include "status.h"
 #include "stepper.h"
+#include "../unit/unit_util.h"
 
 static double wall_seconds(void)
 {
@@ -217,9 +218,5 @@ static Suite *equilibrium_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(equilibrium_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(equilibrium_suite());
 }

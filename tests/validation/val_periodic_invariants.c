@@ -51,6 +51,7 @@
 #include "model.h"
 #include "status.h"
 #include "stepper.h"
+#include "../unit/unit_util.h"
 
 static const double DAYS = 20.0;
 
@@ -211,9 +212,5 @@ static Suite *invariants_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(invariants_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(invariants_suite());
 }

@@ -48,6 +48,7 @@
 #include "model.h"
 #include "status.h"
 #include "stepper.h"
+#include "../unit/unit_util.h"
 
 static const double PI = 3.14159265358979323846;
 
@@ -222,9 +223,5 @@ static Suite *stommel_suite(void)
 
 int main(void)
 {
-    SRunner *sr = srunner_create(stommel_suite());
-    srunner_run_all(sr, CK_NORMAL);
-    int failed = srunner_ntests_failed(sr);
-    srunner_free(sr);
-    return failed == 0 ? EXIT_SUCCESS : EXIT_FAILURE;
+    return tg_unit_run(stommel_suite());
 }
