@@ -169,6 +169,34 @@ static void periodic_solve_modes_parts(tg_geometry *g, int nmodes, double *phi, 
         halo_copy(g, phi + m * stride);
 }
 
+/* solve_modes_rows: the fused solves of tg_fft2_apply_rows, whose rows
+ * 0..P-1 are the stored rows 1..P. */
+typedef struct {
+    tg_geometry_rows_fn fn;
+    void *ctx;
+} rows_relay;
+
+static void relay_row(void *ctx, int m, int j, const double *row)
+{
+    const rows_relay *r = ctx;
+    r->fn(r->ctx, m, j + 1, row);
+}
+
+static void periodic_solve_modes_rows(tg_geometry *g, int nmodes, const double *rhs, long stride,
+                                      tg_geometry_rows_fn fn, void *ctx)
+{
+    periodic *p = g->impl;
+    const int ns = g->ns;
+    const double *fields[TG_MAX_LAYERS] = {NULL};
+    const double *factors[TG_MAX_LAYERS] = {NULL};
+    for (int m = 0; m < nmodes; m++) {
+        fields[m] = rhs + m * stride + ns + 1;
+        factors[m] = p->invden[m];
+    }
+    rows_relay r = {fn, ctx};
+    tg_fft2_apply_rows(p->fft, nmodes, fields, ns, factors, relay_row, &r);
+}
+
 static void periodic_filter_gaussian(tg_geometry *g, double *f, double width)
 {
     periodic *p = g->impl;
@@ -222,6 +250,7 @@ static const tg_geometry_ops periodic_ops = {
     .setup_modes = periodic_setup_modes,
     .solve_mode = periodic_solve_mode,
     .solve_modes_parts = periodic_solve_modes_parts,
+    .solve_modes_rows = periodic_solve_modes_rows,
     .fill_ring = periodic_fill_ring,
     .fill_vorticity_ring = periodic_fill_vorticity_ring,
     .fill_ring_extend = periodic_fill_ring_extend,

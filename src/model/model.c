@@ -230,6 +230,48 @@ static inline void add_mode_row(double *restrict o, const double *f, const doubl
     }
 }
 
+/* Relative vorticity on the active nodes of stored row j from the inverted
+ * relation zeta_k = lap psi_k = q_k - beta (y - y0) - (S psi)_k, which the
+ * Helmholtz solves satisfy to round-off (one pass instead of a stencil). */
+static void vorticity_row(tg_model *m, int j)
+{
+    const tg_geometry *g = m->geom;
+    const int nl = m->nl, a0 = g->a0, a1 = g->a1;
+    const long npl = m->npl, r0 = (long)j * g->ns;
+    const double by = m->beta_y[r0 + a0]; /* the same on the whole row */
+    for (int k = 0; k < nl; k++) {
+        double *z = m->zeta + k * npl + r0;
+        const double *qk = m->q + k * npl + r0;
+#pragma omp simd
+        for (int i = a0; i < a1; i++)
+            z[i] = qk[i] - by;
+        for (int kk = 0; kk < nl; kk++) {
+            const double s = m->modes.S[k][kk];
+            if (s == 0.0)
+                continue;
+            const double *pk = m->psi + kk * npl + r0;
+#pragma omp simd
+            for (int i = a0; i < a1; i++)
+                z[i] -= s * pk[i];
+        }
+    }
+}
+
+/* ops->solve_modes_rows: mode md's share of psi_k = sum_m P[k][m] phi_m on
+ * the active nodes of row j (the same sum, in the same order, as the pass
+ * of tg_model_invert), and after the last mode the row's vorticity. */
+static void layers_row(void *ctx, int md, int j, const double *phi)
+{
+    tg_model *m = ctx;
+    const tg_geometry *g = m->geom;
+    const long r0 = (long)j * g->ns + g->a0;
+    for (int k = 0; k < m->nl; k++)
+        add_mode_row(m->psi + k * m->npl + r0, phi, NULL, 0.0, m->modes.P[k][md], md == 0,
+                     g->a1 - g->a0);
+    if (md == m->nl - 1)
+        vorticity_row(m, j);
+}
+
 void tg_model_invert(tg_model *m)
 {
     tg_geometry *g = m->geom;
@@ -238,50 +280,40 @@ void tg_model_invert(tg_model *m)
     double cwall[TG_MAX_LAYERS];
     const double *homog[TG_MAX_LAYERS];
 
-    /* One Helmholtz solve per mode, in place (geometry.h). When the
-     * geometry can, it solves them all in one call (possibly several at
-     * once) and leaves the wall correction c phi_h to the pass below
-     * instead of making a pass of its own. */
-    if (g->ops->solve_modes_parts) {
-        g->ops->solve_modes_parts(g, nl, m->phi, npl, cwall, homog);
+    if (g->ops->solve_modes_rows) {
+        /* The solves hand each row of each mode to layers_row: psi and
+         * zeta of the active nodes without storing the modes; the rings
+         * follow below. */
+        g->ops->solve_modes_rows(g, nl, m->phi, npl, layers_row, m);
+        for (int md = 0; md < nl; md++)
+            cwall[md] = 0.0;
     } else {
-        for (int md = 0; md < nl; md++) {
-            cwall[md] = g->ops->solve_mode(g, md, m->phi + md * npl, m->phi + md * npl);
-            homog[md] = NULL;
-        }
-    }
-    /* One pass over the rows: back to layers, psi_k = sum_m P[k][m] phi_m
-     * with phi_m = phi_p + c_m phi_h (every stored node); on the active nodes
-     * of the same row, relative vorticity from the inverted relation
-     * zeta_k = lap psi_k = q_k - beta (y - y0) - (S psi)_k, which the
-     * Helmholtz solves satisfy to round-off (one pass instead of a stencil). */
-#pragma omp parallel for schedule(static)
-    for (int j = 0; j < ns; j++) {
-        const long r0 = (long)j * ns;
-        for (int k = 0; k < nl; k++) {
-            for (int md = 0; md < nl; md++)
-                add_mode_row(m->psi + k * npl + r0, m->phi + md * npl + r0,
-                             homog[md] ? homog[md] + r0 : NULL, cwall[md], m->modes.P[k][md],
-                             md == 0, ns);
-        }
-        if (j < a0 || j >= a1)
-            continue;
-        const double by = m->beta_y[r0 + a0]; /* the same on the whole row */
-        for (int k = 0; k < nl; k++) {
-            double *z = m->zeta + k * npl + r0;
-            const double *qk = m->q + k * npl + r0;
-#pragma omp simd
-            for (int i = a0; i < a1; i++)
-                z[i] = qk[i] - by;
-            for (int kk = 0; kk < nl; kk++) {
-                const double s = m->modes.S[k][kk];
-                if (s == 0.0)
-                    continue;
-                const double *pk = m->psi + kk * npl + r0;
-#pragma omp simd
-                for (int i = a0; i < a1; i++)
-                    z[i] -= s * pk[i];
+        /* One Helmholtz solve per mode, in place (geometry.h). When the
+         * geometry can, it solves them all in one call (possibly several
+         * at once) and leaves the wall correction c phi_h to the pass
+         * below instead of making a pass of its own. */
+        if (g->ops->solve_modes_parts) {
+            g->ops->solve_modes_parts(g, nl, m->phi, npl, cwall, homog);
+        } else {
+            for (int md = 0; md < nl; md++) {
+                cwall[md] = g->ops->solve_mode(g, md, m->phi + md * npl, m->phi + md * npl);
+                homog[md] = NULL;
             }
+        }
+        /* One pass over the rows: back to layers, psi_k = sum_m P[k][m]
+         * phi_m with phi_m = phi_p + c_m phi_h (every stored node), and on
+         * the active rows the vorticity. */
+#pragma omp parallel for schedule(static)
+        for (int j = 0; j < ns; j++) {
+            const long r0 = (long)j * ns;
+            for (int k = 0; k < nl; k++) {
+                for (int md = 0; md < nl; md++)
+                    add_mode_row(m->psi + k * npl + r0, m->phi + md * npl + r0,
+                                 homog[md] ? homog[md] + r0 : NULL, cwall[md],
+                                 m->modes.P[k][md], md == 0, ns);
+            }
+            if (j >= a0 && j < a1)
+                vorticity_row(m, j);
         }
     }
     /* Rings: psi's wall value, the wall vorticity, then PV on the ring for

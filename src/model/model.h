@@ -85,7 +85,9 @@ typedef struct tg_model {
 
     /* Work arrays, made once. */
     double *phi;            /* nl*npl: modal right-hand sides, then the particular
-                               solutions of the Helmholtz solves (tg_model_invert) */
+                               solutions of the Helmholtz solves (tg_model_invert;
+                               the right-hand sides stay where the geometry hands
+                               the solutions over row by row, ops->solve_modes_rows) */
     double *lap1;           /* npl, biharmonic viscosity scratch */
     double *lap2;           /* nl*npl, Laplacian of the Laplacian of zeta (biharmonic) */
     double *tend;           /* nl*npl total tendency (tg_model_tendency) */

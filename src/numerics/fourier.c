@@ -270,9 +270,12 @@ static void row_pass_forward(const tg_fft2 *f, const double *in, int stride, dou
     }
 }
 
-/* Rows of w[kx][j] (after the column pass) back along kx into `out` (row
- * length `stride`), with the factor 1/P^2, in the enclosing parallel region. */
-static void row_pass_inverse(const tg_fft2 *f, const double *w, double *out, int stride)
+/* Rows of w[kx][j] (after the column pass) back along kx with the factor
+ * 1/P^2, in the enclosing parallel region: into `out` (row length
+ * `stride`), or, with fn, handed row by row to fn(ctx, field, j, row)
+ * from the thread's buffer (tg_fft2_apply_rows). */
+static void row_pass_inverse(const tg_fft2 *f, const double *w, double *out, int stride,
+                             tg_fft2_rows_fn fn, void *ctx, int field)
 {
     const int P = f->P, nc = f->nc, rr = f->rrows;
     /* 1/P^2 with P a power of two: exact. */
@@ -292,10 +295,12 @@ static void row_pass_inverse(const tg_fft2 *f, const double *w, double *out, int
         }
         fftw_execute_dft_c2r(f->c2r, cb, rb);
         for (int r = 0; r < rr; r++) {
-            const double *x = rb + (size_t)r * f->rdist;
-            double *o = out + (size_t)(j0 + r) * stride;
+            double *x = rb + (size_t)r * f->rdist;
+            double *o = fn ? x : out + (size_t)(j0 + r) * stride;
             for (int i = 0; i < P; i++)
                 o[i] = scale * x[i];
+            if (fn)
+                fn(ctx, field, j0 + r, x);
         }
     }
 }
@@ -317,18 +322,32 @@ void tg_fft2_inverse(tg_fft2 *f, const double *spec, double *out, int stride)
         /* along ky: work[kx][j] */
         column_pass(f, spec, f->work, f->cbwd, f->cbwd_tail, NULL, NULL, NULL);
         /* along kx: out[j][i] */
-        row_pass_inverse(f, f->work, out, stride);
+        row_pass_inverse(f, f->work, out, stride, NULL, NULL, 0);
     }
 }
 
-void tg_fft2_apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
-                   const double *const *factors)
+/* tg_fft2_apply and tg_fft2_apply_rows: one parallel region, field after field. */
+static void apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
+                  const double *const *factors, tg_fft2_rows_fn fn, void *ctx)
 {
 #pragma omp parallel num_threads(team_size(f))
     for (int n = 0; n < nfields; n++) {
         row_pass_forward(f, fields[n], stride, f->work);
         column_pass(f, f->work, f->work, f->cfwd, f->cfwd_tail, factors[n], f->cbwd,
                     f->cbwd_tail);
-        row_pass_inverse(f, f->work, fields[n], stride);
+        row_pass_inverse(f, f->work, fields[n], stride, fn, ctx, n);
     }
+}
+
+void tg_fft2_apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
+                   const double *const *factors)
+{
+    apply(f, nfields, fields, stride, factors, NULL, NULL);
+}
+
+void tg_fft2_apply_rows(tg_fft2 *f, int nfields, const double *const *fields, int stride,
+                        const double *const *factors, tg_fft2_rows_fn fn, void *ctx)
+{
+    /* With fn, the fields are only read. */
+    apply(f, nfields, (double *const *)fields, stride, factors, fn, ctx);
 }

@@ -79,4 +79,16 @@ void tg_fft2_inverse(tg_fft2 *f, const double *spec, double *out, int stride);
 void tg_fft2_apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
                    const double *const *factors);
 
+/* Receives row j (0..P-1) of field n's result: row[i], i = 0..P-1. */
+typedef void (*tg_fft2_rows_fn)(void *ctx, int n, int j, const double *row);
+
+/* tg_fft2_apply without storing the results: fields[n] are left as they
+ * are, and each row of each result (bit for bit that of tg_fft2_apply) is
+ * handed to fn(ctx, n, j, row) while it is in cache, inside one parallel
+ * region: field after field (every row of field n before any of n + 1),
+ * rows shared among the threads in fixed blocks, so fn must write only what
+ * belongs to row j. */
+void tg_fft2_apply_rows(tg_fft2 *f, int nfields, const double *const *fields, int stride,
+                        const double *const *factors, tg_fft2_rows_fn fn, void *ctx);
+
 #endif

@@ -211,10 +211,28 @@ START_TEST(fft_threads_bitwise)
 }
 END_TEST
 
+/* tg_fft2_apply_rows receiver: copies row j of field n into out (row
+ * length `stride`, fields nr apart) and counts the calls of each row. */
+typedef struct {
+    double *out;
+    int *calls;
+    int P, stride;
+    size_t nr;
+} row_sink;
+
+static void sink_row(void *ctx, int n, int j, const double *row)
+{
+    row_sink *s = ctx;
+    memcpy(s->out + n * s->nr + (size_t)j * s->stride, row, sizeof(double) * s->P);
+#pragma omp atomic
+    s->calls[n * s->P + j]++;
+}
+
 /* tg_fft2_apply on two fields equals, bit for bit, forward transform,
  * multiplication of each (re, im) by the factor and inverse transform,
- * with 1 and 2 threads; it writes only the P x P blocks. Source: the
- * contract of fourier.h (the fused pass does the same arithmetic). */
+ * with 1 and 2 threads; it writes only the P x P blocks. tg_fft2_apply_rows
+ * hands over the same rows, each once, and leaves its input alone. Source:
+ * the contract of fourier.h (the fused pass does the same arithmetic). */
 START_TEST(fft_apply_bitwise)
 {
     const int P = thread_sizes[_i], stride = P + 3, nc = P / 2 + 1;
@@ -252,6 +270,25 @@ START_TEST(fft_apply_bitwise)
         ck_assert_msg(memcmp(got[t], want, 2 * nr * sizeof(double)) == 0,
                       "P = %d, %d thread(s): apply differs from forward, product, inverse", P,
                       t + 1);
+        /* the same through rows: the P x P blocks of want, input untouched */
+        int *calls = calloc(2 * (size_t)P, sizeof(int));
+        ck_assert_ptr_nonnull(calls);
+        memcpy(got[t], in, 2 * nr * sizeof(double));
+        row_sink sink = {alloc0(2 * nr), calls, P, stride, nr};
+        const double *cfields[2] = {in, in + nr};
+        tg_fft2_apply_rows(f, 2, cfields, stride, factors, sink_row, &sink);
+        for (int n = 0; n < 2; n++)
+            for (int j = 0; j < P; j++) {
+                ck_assert_msg(calls[n * P + j] == 1, "P = %d, %d thread(s): row %d of field "
+                              "%d handed over %d times", P, t + 1, j, n, calls[n * P + j]);
+                const size_t o = n * nr + (size_t)j * stride;
+                ck_assert_msg(memcmp(sink.out + o, want + o, sizeof(double) * P) == 0,
+                              "P = %d, %d thread(s): row %d of field %d differs from apply",
+                              P, t + 1, j, n);
+            }
+        ck_assert_msg(memcmp(got[t], in, 2 * nr * sizeof(double)) == 0, "input changed");
+        free(sink.out);
+        free(calls);
     }
     omp_set_num_threads(saved);
     free(in);
