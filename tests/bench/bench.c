@@ -231,6 +231,7 @@ static int parse_args(int argc, char **argv, options *o)
                    .threads = {1, 2}, .nthreads = 2, .steps = 0, .warmup = 2, .seconds = 1.0};
     o->tp.program = "./twingyre";
     o->tp.adaptive_set = "time.step_choice=adaptive";
+    o->tp.fixed_set = "time.step_choice=fixed";
     o->tp.threads[0] = 1;
     o->tp.threads[1] = 2;
     static char cache[4096];

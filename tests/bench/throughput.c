@@ -201,7 +201,7 @@ static int spun_up(const tp_options *o, const tp_config *c, char *ckpt, size_t l
     const char *base = strrchr(c->path, '/');
     base = base ? base + 1 : c->path;
     char dir[4096], tmp[4200], log[4300], set[64], threads[16];
-    snprintf(dir, sizeof dir, "%s/%.*s-%016llx-%gd", o->cache,
+    snprintf(dir, sizeof dir, "%s/%.*s-%016llx-%gd-fixed", o->cache,
              (int)(strcspn(base, ".")), base, (unsigned long long)h, c->spinup_days);
     snprintf(ckpt, len, "%s/checkpoint.nc", dir);
     if (access(ckpt, R_OK) == 0) {
@@ -217,8 +217,10 @@ static int spun_up(const tp_options *o, const tp_config *c, char *ckpt, size_t l
     snprintf(log, sizeof log, "%s.log", tmp);
     snprintf(set, sizeof set, "time.duration_days=%g", c->spinup_days);
     snprintf(threads, sizeof threads, "%d", o->threads[1]);
+    /* Fixed steps, so that both the fixed and the adaptive rows can resume
+     * the state (an adaptive checkpoint resumes only with adaptive steps). */
     char *argv[] = {(char *)o->program, "run", (char *)c->path, "--set", set, "--out", tmp,
-                    "--threads", threads, "--quiet", NULL};
+                    "--threads", threads, "--quiet", "--set", (char *)o->fixed_set, NULL};
     fprintf(stderr, "tg-bench: spinning up %s for %g model days into %s (once; log %s) ...\n",
             c->path, c->spinup_days, dir, log);
     double wall, cpu;
@@ -310,10 +312,8 @@ int tp_run(const tp_options *o)
                                                "--set", init, "--set", dur, "--out", out,
                                                "--overwrite", "--threads", threads, "--quiet"};
                     int na = 13;
-                    if (ad) {
-                        argv[na++] = "--set";
-                        argv[na++] = (char *)o->adaptive_set;
-                    }
+                    argv[na++] = "--set";
+                    argv[na++] = (char *)(ad ? o->adaptive_set : o->fixed_set);
                     argv[na] = NULL;
                     pid_t busy[64];
                     const int nbusy = ncpu < 64 ? ncpu : 64;

@@ -18,6 +18,7 @@ typedef struct {
     const char *cache;          /* folder of the spun-up states */
     const char *scratch;        /* folder for the timed runs' output */
     const char *adaptive_set;   /* --set that selects adaptive steps */
+    const char *fixed_set;      /* --set that selects fixed steps (the spin-up and fixed rows) */
     tp_config configs[TP_MAX_CONFIGS];
     int nconfigs;
     int threads[2];             /* the thread counts compared: 1 and 2 */
