@@ -177,17 +177,17 @@ tg_code tg_twin_coarse_config(const tg_config *cfg, const char *origin, tg_confi
     return TG_OK;
 }
 
-/* The label of a fitted-file entry "coefficients:PATH": "coefficients-"
- * and the file's name without its directory and last extension, with any
- * character other than letters, digits, '-', '_' and '.' replaced by '_'
- * (it names the coarse run's directory). */
-static void fitted_label(const char *path, char *label, size_t n)
+/* The label of a file entry "coefficients:PATH" or "network:PATH": the
+ * scheme, '-', and the file's name without its directory and last
+ * extension, with any character other than letters, digits, '-', '_' and
+ * '.' replaced by '_' (it names the coarse run's directory). */
+static void fitted_label(const char *scheme, const char *path, char *label, size_t n)
 {
     const char *b = strrchr(path, '/');
     b = b ? b + 1 : path;
     const char *dot = strrchr(b, '.');
     size_t len = (dot && dot > b) ? (size_t)(dot - b) : strlen(b);
-    int w = snprintf(label, n, "coefficients-");
+    int w = snprintf(label, n, "%s-", scheme);
     for (size_t i = 0; i < len && (size_t)w + 1 < n; i++) {
         char ch = b[i];
         int okc = (ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') ||
@@ -243,9 +243,9 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
         memset(cl, 0, sizeof *cl);
         snprintf(cl->use, sizeof cl->use, "%.*s", TG_RAW_TEXT - 1, entries[i]);
         char fitted[TG_PATH_LEN];
-        const int is_fitted = tg_config_fitted_entry(cfg, entries[i], fitted, sizeof fitted);
+        const char *is_fitted = tg_config_fitted_entry(cfg, entries[i], fitted, sizeof fitted);
         if (is_fitted)
-            fitted_label(fitted, cl->label, sizeof cl->label);
+            fitted_label(is_fitted, fitted, cl->label, sizeof cl->label);
         else if ((rc = entry_label(k, entries[i], origin, cl->label, sizeof cl->label, st)) !=
                  TG_OK)
             return tg_fail(st, rc, "[twin] compare: %s", st->msg);
@@ -257,7 +257,7 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
         *cc = *k;
         char a[TG_PATH_LEN + 32];
         snprintf(a, sizeof a, "closure.use=%.*s", TG_RAW_TEXT - 1,
-                 is_fitted ? "coefficients" : entries[i]);
+                 is_fitted ? is_fitted : entries[i]);
         if ((rc = tg_config_set(cc, a, st)) != TG_OK)
             return rc;
         if (is_fitted) {
@@ -266,7 +266,7 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
                 return tg_fail(st, TG_ERR_CONFIG, "%s: [twin] compare: '%s': path longer than "
                                "%d characters", origin ? origin : "config", entries[i],
                                TG_RAW_TEXT - 2);
-            snprintf(a, sizeof a, "coefficients.file=%s", fitted);
+            snprintf(a, sizeof a, "%s.file=%s", is_fitted, fitted);
             if ((rc = tg_config_set(cc, a, st)) != TG_OK)
                 return rc;
         }
@@ -274,6 +274,15 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
             return rc;
         if ((rc = tg_config_check(cc, origin, st)) != TG_OK)
             return tg_fail(st, rc, "the coarse run with closure %s: %s", cl->label, st->msg);
+        if (is_fitted && !strcmp(is_fitted, "network")) {
+            /* A network is loaded and tried on the coarse grid now, not after
+             * the reference has run. */
+            tg_model *m = tg_model_create(cc, st);
+            if (!m)
+                return tg_fail(st, st->code, "the coarse run with closure %s: %s", cl->label,
+                               st->msg);
+            tg_model_destroy(m);
+        }
     }
 
     /* Closure sections that no run uses: one warning each. */

@@ -303,7 +303,8 @@ static const key_row rows[K_COUNT] = {
         .info = {"twin", "compare", "", "text", "none",
                  "comma-separated closure names (`twingyre closures`), plugin:PATH.so, "
                  "coefficients:FILE (a fitted coefficients file, relative to the config's "
-                 "directory) or none; at most 7 besides none",
+                 "directory), network:FILE.pt (a trained network) or none; at most 7 besides "
+                 "none",
                  "closures of the coarse runs, one coarse run each; none (no closure) is always run"},
         .kind = V_TEXT, .off = OFF(twin_compare),
         .expect = "a comma-separated list of closure names"},
@@ -1874,19 +1875,25 @@ static int whole_multiple(double x, double unit, long *n)
     return fabs(r - k) <= 1e-9 * fmax(1.0, fabs(r));
 }
 
-int tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n)
+const char *tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n)
 {
-    static const char prefix[] = "coefficients:";
-    if (strncmp(entry, prefix, sizeof prefix - 1) != 0)
-        return 0;
-    const char *p = entry + sizeof prefix - 1;
-    while (isspace((unsigned char)*p))
-        p++;
-    if (p[0] == '/' || p[0] == '\0' || cfg->config_dir[0] == '\0')
-        snprintf(path, n, "%s", p);
-    else
-        snprintf(path, n, "%s/%s", cfg->config_dir, p);
-    return 1;
+    /* Prefix and the scheme that reads the file through its key `file`. */
+    static const char *const kinds[2][2] = {{"coefficients:", "coefficients"},
+                                            {"network:", "network"}};
+    for (int k = 0; k < 2; k++) {
+        const size_t len = strlen(kinds[k][0]);
+        if (strncmp(entry, kinds[k][0], len) != 0)
+            continue;
+        const char *p = entry + len;
+        while (isspace((unsigned char)*p))
+            p++;
+        if (p[0] == '/' || p[0] == '\0' || cfg->config_dir[0] == '\0')
+            snprintf(path, n, "%s", p);
+        else
+            snprintf(path, n, "%s/%s", cfg->config_dir, p);
+        return kinds[k][1];
+    }
+    return NULL;
 }
 
 tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_status *st)
@@ -1981,20 +1988,31 @@ tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_statu
             if (strcmp(seen[k], name) == 0)
                 return key_fail(base, K_TWIN_COMPARE, origin, st, "'%s' is listed twice", name);
         char fitted[TG_PATH_LEN];
-        if (tg_config_fitted_entry(base, name, fitted, sizeof fitted)) {
+        const char *scheme = tg_config_fitted_entry(base, name, fitted, sizeof fitted);
+        if (scheme && !strcmp(name + strlen(scheme) + 1, ""))
+            return key_fail(base, K_TWIN_COMPARE, origin, st,
+                            "entry %d: %s: needs a file, e.g. %s:fitted.%s", item, scheme, scheme,
+                            strcmp(scheme, "network") ? "txt" : "pt");
+        if (scheme && !strcmp(scheme, "coefficients")) {
             /* A coefficients file: it must load for this many layers. */
             tg_coef_list list;
             tg_status cs;
             tg_status_clear(&cs);
-            if (!strcmp(name + strlen("coefficients:"), ""))
-                return key_fail(base, K_TWIN_COMPARE, origin, st,
-                                "entry %d: coefficients: needs a file, e.g. "
-                                "coefficients:fitted.txt", item);
             if (tg_coef_read(fitted, base->nlayers, &list, &cs) != TG_OK)
                 return key_fail(base, K_TWIN_COMPARE, origin, st,
                                 "'%s': the coefficients file does not load: %s (relative paths "
                                 "are taken from the config file's directory)", name, cs.msg);
             tg_coef_list_free(&list);
+        } else if (scheme) {
+            /* A network file: twin.c loads it with the coarse grid before the
+             * reference runs; here it must at least open. */
+            FILE *f = fopen(fitted, "rb");
+            if (!f)
+                return key_fail(base, K_TWIN_COMPARE, origin, st,
+                                "'%s': cannot open the network file %s: %s (relative paths are "
+                                "taken from the config file's directory)", name, fitted,
+                                strerror(errno));
+            fclose(f);
         } else if (strcmp(name, "none") != 0 && strncmp(name, "plugin:", 7) != 0 &&
             !tg_closure_find(name)) {
             const char *names[64];

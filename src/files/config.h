@@ -218,10 +218,12 @@ tg_code tg_config_twin_derive(const tg_config *base, int coarse, const char *ori
 tg_code tg_config_check_twin(const tg_config *base, const char *origin, tg_status *st);
 
 /* A [twin] compare entry "coefficients:PATH" names a coefficients file
- * (e.g. from `twingyre fit`) to run with the closure `coefficients`.
- * Returns 1 for such an entry and writes PATH resolved against the config
- * file's directory (cfg->config_dir; absolute paths unchanged), else 0. */
-int tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n);
+ * (e.g. from `twingyre fit`) to run with the closure `coefficients`;
+ * "network:PATH" a TorchScript file (scripts/train-network) for the closure
+ * `network`. For such an entry returns the scheme's name (whose key `file`
+ * takes PATH) and writes PATH resolved against the config file's directory
+ * (cfg->config_dir; absolute paths unchanged), else NULL. */
+const char *tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n);
 /* [vet] rules (`twingyre vet`, vet.h): a closure is configured, the window
  * holds at least one step, required_margin is at most the largest
  * multiplier, and a reference state file can be opened. Messages name the
