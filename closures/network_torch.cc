@@ -8,8 +8,11 @@
 // output_scale; optional text records inputs and output), and evaluates
 //     y = network((x - input_mean) / input_scale) * output_scale
 // per channel, with x the caller's channels (a batch of one, shape
-// 1 x C x ny x nx). Every libtorch exception is caught here and returned
-// as a message; no C++ exception crosses into the C library.
+// 1 x C x ny x nx). The scaled input goes into one tensor made at the
+// first evaluation and reused; the output is scaled while it is copied out,
+// so the bridge adds no tensors of its own to the network's. Every libtorch
+// exception is caught here and returned as a message; no C++ exception
+// crosses into the C library.
 //
 // Reproducibility: the graph executor's optimizations are switched off
 // (setGraphExecutorOptimize(false)), because the profiling executor
@@ -33,10 +36,31 @@
 
 struct tg_net {
     torch::jit::script::Module module;
-    at::Tensor mean, scale, oscale; // double, shape 1 x C x 1 x 1
+    std::vector<double> mean, scale, oscale; // per input / output channel
     at::ScalarType dtype;
     int nin, nout;
+    at::Tensor x; // the network's input, made at the first evaluation and reused
 };
+
+// dst[i] = (src[i] - m) / s for n values, in the network's precision.
+template <typename T> static void scale_in(T *dst, const double *src, size_t n, double m, double s)
+{
+    for (size_t i = 0; i < n; i++)
+        dst[i] = (T)((src[i] - m) / s);
+}
+
+// dst[i] = src[i] * s for n values, back in double precision.
+template <typename T> static void scale_out(double *dst, const T *src, size_t n, double s)
+{
+    for (size_t i = 0; i < n; i++)
+        dst[i] = (double)src[i] * s;
+}
+
+static std::vector<double> to_vector(const at::Tensor &t)
+{
+    at::Tensor d = t.to(at::kDouble).contiguous();
+    return std::vector<double>(d.data_ptr<double>(), d.data_ptr<double>() + d.numel());
+}
 
 static void put_err(char *err, size_t n, const std::string &msg)
 {
@@ -126,11 +150,16 @@ extern "C" tg_net *tg_net_open(const char *path, int threads, int deterministic,
             return nullptr;
         }
         net->dtype = scale.scalar_type();
+        if (net->dtype != at::kFloat && net->dtype != at::kDouble) {
+            put_err(err, nerr, "input_scale is neither float32 nor float64");
+            delete net;
+            return nullptr;
+        }
         net->nin = (int)scale.size(0);
         net->nout = (int)osc.size(0);
-        net->mean = mean.to(at::kDouble).reshape({1, net->nin, 1, 1}).clone();
-        net->scale = scale.to(at::kDouble).reshape({1, net->nin, 1, 1}).clone();
-        net->oscale = osc.to(at::kDouble).reshape({1, net->nout, 1, 1}).clone();
+        net->mean = to_vector(mean);
+        net->scale = to_vector(scale);
+        net->oscale = to_vector(osc);
         info->nin = net->nin;
         info->nout = net->nout;
         info->double_precision = net->dtype == at::kDouble;
@@ -151,9 +180,23 @@ extern "C" int tg_net_eval(tg_net *net, const double *in, int nin, int ny, int n
 {
     try {
         c10::InferenceMode guard;
-        at::Tensor x = at::from_blob(const_cast<double *>(in), {1, nin, ny, nx},
-                                     at::TensorOptions().dtype(at::kDouble));
-        x = ((x - net->mean) / net->scale).to(net->dtype);
+        if (nin != net->nin) {
+            put_err(err, nerr, "the input has " + std::to_string(nin) + " channels, the "
+                                   "normalization " + std::to_string(net->nin));
+            return -1;
+        }
+        if (!net->x.defined() || net->x.size(2) != ny || net->x.size(3) != nx)
+            net->x = at::empty({1, nin, ny, nx}, at::TensorOptions().dtype(net->dtype));
+        const size_t npl = (size_t)ny * (size_t)nx;
+        for (int c = 0; c < nin; c++) {
+            if (net->dtype == at::kFloat)
+                scale_in(net->x.data_ptr<float>() + c * npl, in + c * npl, npl, net->mean[c],
+                         net->scale[c]);
+            else
+                scale_in(net->x.data_ptr<double>() + c * npl, in + c * npl, npl, net->mean[c],
+                         net->scale[c]);
+        }
+        const at::Tensor &x = net->x;
         std::vector<c10::IValue> args{x};
         c10::IValue r = net->module.forward(args);
         if (!r.isTensor()) {
@@ -172,7 +215,6 @@ extern "C" int tg_net_eval(tg_net *net, const double *in, int nin, int ny, int n
                                    std::to_string(net->nout) + " channels)");
             return -1;
         }
-        y = (y.to(at::kDouble) * net->oscale).contiguous();
         *oy = (int)y.size(2);
         *ox = (int)y.size(3);
         if ((size_t)y.numel() > cap) {
@@ -180,7 +222,18 @@ extern "C" int tg_net_eval(tg_net *net, const double *in, int nin, int ny, int n
                                    std::to_string(*ox) + " per channel) is larger than its input");
             return -1;
         }
-        std::memcpy(out, y.data_ptr<double>(), sizeof(double) * (size_t)y.numel());
+        y = y.contiguous();
+        const size_t opl = (size_t)*oy * (size_t)*ox;
+        for (int c = 0; c < net->nout; c++) {
+            if (y.scalar_type() == at::kFloat)
+                scale_out(out + c * opl, y.data_ptr<float>() + c * opl, opl, net->oscale[c]);
+            else if (y.scalar_type() == at::kDouble)
+                scale_out(out + c * opl, y.data_ptr<double>() + c * opl, opl, net->oscale[c]);
+            else {
+                put_err(err, nerr, "the network returned neither float32 nor float64 values");
+                return -1;
+            }
+        }
         return 0;
     } catch (const c10::Error &e) {
         put_err(err, nerr, first_line(e.what_without_backtrace()));
