@@ -58,6 +58,15 @@ tg_code tg_read_text(const char *path, const char *what, long max, char **out, s
     return TG_OK;
 }
 
+const char *tg_not_regular(const char *path)
+{
+    struct stat sb;
+    if (stat(path, &sb) != 0 || S_ISREG(sb.st_mode))
+        return NULL;
+    return S_ISFIFO(sb.st_mode) ? "a FIFO" : S_ISDIR(sb.st_mode) ? "a directory"
+                                                                 : "a device or socket";
+}
+
 tg_code tg_make_dirs(const char *path, tg_status *st)
 {
     char *buf = strdup(path);

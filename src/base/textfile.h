@@ -22,6 +22,11 @@
 tg_code tg_read_text(const char *path, const char *what, long max, char **out, size_t *len,
                      tg_status *st);
 
+/* NULL when path is a regular file or cannot be examined (opening it then
+ * says why); otherwise what it is: "a FIFO", "a directory" or "a device or
+ * socket". Opening a FIFO would wait for a writer, so readers ask first. */
+const char *tg_not_regular(const char *path);
+
 /* Creates path and its missing parents; TG_ERR_IO naming the folder that
  * could not be made, or a file that stands in the way. */
 tg_code tg_make_dirs(const char *path, tg_status *st);

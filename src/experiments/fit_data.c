@@ -15,6 +15,7 @@
 #include "closure_tools.h"
 #include "fit.h"
 #include "ncio_util.h"
+#include "ncverify.h"
 #include "twin.h"
 #include "twin_io.h"
 
@@ -80,7 +81,7 @@ static tg_code read_header(tg_fit_data *d, char **config_text, int *nx, int *ny,
     const char *path = d->path;
     int ncid = -1, dim, var;
     size_t len;
-    tg_code code = tg_nc_check(nc_open(path, NC_NOWRITE, &ncid), path, "opening the file", NULL, st);
+    tg_code code = tg_nc_open_verified(path, &ncid, st);
     if (code)
         return code;
     *config_text = get_text_attr(ncid, "resolved_config");

@@ -131,12 +131,15 @@ static tg_code write_snapshot(run_ctx *c, tg_fields_file *f, tg_status *st)
     return tg_fields_append(f, m->time_s, c->psi_out, c->q_out, c->spec_out, st);
 }
 
-static tg_code initial_state(run_ctx *c, long nsteps, tg_status *st)
+static tg_code initial_state(run_ctx *c, long nsteps, int resume_here, tg_status *st)
 {
     const tg_config *cfg = c->cfg;
     tg_model *m = c->m;
     tg_initial_info info;
     tg_code rc = tg_state_initial(m, cfg, &info, st);
+    if (rc == TG_OK && resume_here && !(info.has_q && info.has_time))
+        return tg_fail(st, TG_ERR_IO, "%s: not a checkpoint (no q, time and step), so the run "
+                       "cannot resume from it in its own folder", cfg->initial_path);
     if (rc != TG_OK || !(info.has_q && info.has_time))
         return rc;
     /* A checkpoint (initial.h took its PV): resume at its step, with the
@@ -146,6 +149,18 @@ static tg_code initial_state(run_ctx *c, long nsteps, tg_status *st)
                        "%s: the checkpoint is at step %ld (day %.6g), outside this "
                        "experiment's %ld steps ([time] duration_days counts from day 0)",
                        cfg->initial_path, info.step, info.time_s / TG_SECONDS_PER_DAY, nsteps);
+    /* With a fixed step, time = step * dt (as tg_model_invert sets it): a
+     * checkpoint whose time says otherwise was written with another step
+     * size. (tg_initial_read already checked that step is whole and time
+     * finite and >= 0.) */
+    const double want = (double)info.step * m->dt;
+    if (fabs(info.time_s - want) > 1e-9 * fmax(want, m->dt))
+        return tg_fail(st, TG_ERR_CONFIG,
+                       "%s: the checkpoint is at step %ld and day %.9g, but step %ld of "
+                       "[time] step_s = %g s is day %.9g: it was written with another step "
+                       "size",
+                       cfg->initial_path, info.step, info.time_s / TG_SECONDS_PER_DAY, info.step,
+                       m->dt, want / TG_SECONDS_PER_DAY);
     m->step = info.step;
     m->time_s = m->step * m->dt; /* as tg_model_invert sets it */
     return load_extras(c, cfg->initial_path, st);
@@ -167,12 +182,21 @@ static void log_summary(const tg_model *m, const tg_diag *d, const tg_term_rates
            r->energy[TG_TERM_VISCOSITY], r->energy[TG_TERM_CLOSURE], z, d->max_cfl, eres, zres);
 }
 
+/* 1 when the initial state is this run's own checkpoint.nc (the same file):
+ * the run then continues the folder's fields.nc and budget.nc. */
+static int resumes_here(const tg_config *cfg, const run_ctx *c)
+{
+    struct stat a, b;
+    return cfg->initial_kind == TG_INIT_FILE && stat(cfg->initial_path, &a) == 0 &&
+           stat(c->path_ckpt, &b) == 0 && a.st_dev == b.st_dev && a.st_ino == b.st_ino;
+}
+
 static tg_code check_outputs_free(const char *dir, const run_ctx *c, int overwrite, tg_status *st)
 {
     if (overwrite)
         return TG_OK;
-    const char *paths[] = {c->path_fields, c->path_budget};
-    for (int i = 0; i < 2; i++)
+    const char *paths[] = {c->path_fields, c->path_budget, c->path_ckpt};
+    for (int i = 0; i < 3; i++)
         if (access(paths[i], F_OK) == 0)
             return tg_fail(st, TG_ERR_IO,
                            "%s already exists; choose another output directory than %s or pass "
@@ -196,8 +220,13 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
     snprintf(c.path_fields, sizeof c.path_fields, "%s/fields.nc", dir);
     snprintf(c.path_budget, sizeof c.path_budget, "%s/budget.nc", dir);
     snprintf(c.path_ckpt, sizeof c.path_ckpt, "%s/checkpoint.nc", dir);
-    if ((rc = check_outputs_free(dir, &c, opt->overwrite, st)) != TG_OK)
+    /* Resumed from its own checkpoint (without --overwrite): the folder's
+     * files are continued, not replaced. */
+    const int resume_here = !opt->overwrite && resumes_here(cfg, &c);
+    if (!resume_here && (rc = check_outputs_free(dir, &c, opt->overwrite, st)) != TG_OK)
         return rc;
+    const int made_dir = access(dir, F_OK) != 0;
+    int stepping = 0; /* set once the set-up is done and steps begin */
 
     c.m = tg_model_create(cfg, st);
     if (!c.m)
@@ -234,7 +263,7 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
 
     if ((rc = setup_extras(&c, st)) != TG_OK)
         goto done;
-    if ((rc = initial_state(&c, nsteps, st)) != TG_OK)
+    if ((rc = initial_state(&c, nsteps, resume_here, st)) != TG_OK)
         goto done;
 
     /* Output files: only now, after every input has been checked. */
@@ -247,11 +276,6 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
                           .title = "twingyre layered quasi-geostrophic experiment"};
     const tg_nc_wavenumbers wn = {.nbins = c.spec->nbins, .k = c.spec->k,
                                   .bin_width = c.spec->dk};
-    ff = tg_fields_create(c.path_fields, &c.grid, &wn, st);
-    if (!ff) {
-        rc = st->code;
-        goto done;
-    }
     tg_budget_layout_init(&lay, m->nl, m->term_active);
     {
         const char *labels[TG_MAX_CLOSURES];
@@ -260,8 +284,19 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
             labels[k] = tg_closure_host_label(m->closures, k);
         tg_budget_layout_components(&lay, nc, labels);
     }
-    bf = tg_budget_create(c.path_budget, &c.grid, lay.var, lay.n, st);
+    /* budget.nc first: a resume in place may refuse it (steps missing)
+     * before fields.nc is touched. */
+    bf = resume_here && access(c.path_budget, F_OK) == 0
+             ? tg_budget_continue(c.path_budget, &c.grid, lay.var, lay.n, m->step, st)
+             : tg_budget_create(c.path_budget, &c.grid, lay.var, lay.n, st);
     if (!bf) {
+        rc = st->code;
+        goto done;
+    }
+    ff = resume_here && access(c.path_fields, F_OK) == 0
+             ? tg_fields_continue(c.path_fields, &c.grid, &wn, m->time_s - 0.5 * dt, st)
+             : tg_fields_create(c.path_fields, &c.grid, &wn, st);
+    if (!ff) {
         rc = st->code;
         goto done;
     }
@@ -292,6 +327,7 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
 
     const long first = m->step;
     double worst_e = 0.0, worst_z = 0.0;
+    stepping = 1;
     while (m->step < nsteps) {
         if (opt->stop_requested && *opt->stop_requested) {
             if ((rc = write_checkpoint(&c, st)) != TG_OK)
@@ -365,8 +401,10 @@ tg_code tg_run(const tg_config *cfg, const tg_run_options *opt, tg_status *st)
                 (rc = tg_budget_flush(bf, st)) != TG_OK)
                 goto done;
         }
+        /* budget.nc first: after a kill, it holds every step up to the
+         * checkpoint's, from which a resume continues it. */
         if (ckpt_every > 0 && m->step % ckpt_every == 0 && m->step < nsteps &&
-            (rc = write_checkpoint(&c, st)) != TG_OK)
+            ((rc = tg_budget_flush(bf, st)) != TG_OK || (rc = write_checkpoint(&c, st)) != TG_OK))
             goto done;
         if (m->step % log_every == 0 || m->step == nsteps) {
             log_summary(m, &after, &rates, worst_e, worst_z);
@@ -400,6 +438,16 @@ done:
         tg_code r2 = tg_fields_close(ff, rc == TG_OK ? st : &s2);
         if (rc == TG_OK)
             rc = r2;
+    }
+    /* A run that fails during its set-up leaves no folder it made (the
+     * files it began are of no use); later, only an empty one goes. */
+    if (rc != TG_OK && made_dir) {
+        if (!stepping && rc != TG_ERR_BLOWUP) {
+            const char *mine[] = {c.path_fields, c.path_budget, c.path_ckpt};
+            for (int i = 0; i < 3; i++)
+                (void)remove(mine[i]);
+        }
+        (void)rmdir(dir); /* fails, as meant, when files remain */
     }
     free(cfg_text);
     free(rec);

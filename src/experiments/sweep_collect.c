@@ -19,6 +19,7 @@
  * files cannot be read gets empty figures and a warning in the log.
  */
 #include "ncio_util.h"
+#include "ncverify.h"
 #include "strbuf.h"
 #include "sweep.h"
 #include "textfile.h"
@@ -85,7 +86,7 @@ static tg_code budget_figures(const char *path, double fig[NFIG], tg_status *st)
     tg_code rc;
     for (int i = 0; i < NFIG; i++)
         fig[i] = NAN;
-    if ((rc = tg_nc_check(nc_open(path, NC_NOWRITE, &ncid), path, "opening", NULL, st)) != TG_OK)
+    if ((rc = tg_nc_open_verified(path, &ncid, st)) != TG_OK)
         return rc;
     double *e = NULL, *z = NULL, *buf = NULL;
     rc = tg_nc_check(nc_inq_dimid(ncid, "time", &d), path, "finding dimension time", NULL, st);

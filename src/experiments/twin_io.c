@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "ncio_util.h"
+#include "ncverify.h"
 
 #define DAY_S 86400.0
 
@@ -72,6 +73,9 @@ struct tg_record_file {
     int v_time, v_spec, v_var[MAX_VARS];
     char name[MAX_VARS][64];
     size_t nrec;
+    /* Running checksums (ncverify.h) of time, the variables and the
+     * spectrum over the records written so far. */
+    uint64_t h_time, h_var[MAX_VARS], h_spec;
 };
 
 tg_record_file *tg_record_file_create(const char *path, const tg_nc_grid *g,
@@ -124,6 +128,18 @@ tg_record_file *tg_record_file_create(const char *path, const tg_nc_grid *g,
     }
     if ((code = globals(ncid, path, g, atts, natts, st)))
         goto fail;
+    /* Checksums of no records yet; each append rewrites them (same length,
+     * so allowed in data mode). */
+    f->h_time = f->h_spec = TG_FNV1A_START;
+    if ((code = tg_nc_put_checksum(ncid, f->v_time, f->h_time, path, "time", st)))
+        goto fail;
+    for (int v = 0; v < nvars; v++) {
+        f->h_var[v] = TG_FNV1A_START;
+        if ((code = tg_nc_put_checksum(ncid, f->v_var[v], f->h_var[v], path, f->name[v], st)))
+            goto fail;
+    }
+    if (wn && (code = tg_nc_put_checksum(ncid, f->v_spec, f->h_spec, path, "ke_spectrum", st)))
+        goto fail;
     TRY(nc_enddef(ncid), "finishing the header", NULL);
     if ((code = tg_nc_put_grid(ncid, path, g, &id, st)))
         goto fail;
@@ -160,7 +176,25 @@ tg_code tg_record_file_append(tg_record_file *f, double time_s, const double *co
         TRY(nc_put_vara_double(f->ncid, f->v_spec, s0, sc, spectrum), "writing a record",
             "ke_spectrum");
     }
+    /* The checksums now cover this record too; written by the same sync. */
+    const size_t n = (size_t)f->nl * (size_t)f->ny * (size_t)f->nx;
+    uint64_t h_time = tg_fnv1a_doubles(f->h_time, &days, 1), h_var[MAX_VARS], h_spec = f->h_spec;
+    if ((code = tg_nc_put_checksum(f->ncid, f->v_time, h_time, path, "time", st)))
+        goto fail;
+    for (int v = 0; v < f->nvars; v++) {
+        h_var[v] = tg_fnv1a_doubles(f->h_var[v], data[v], n);
+        if ((code = tg_nc_put_checksum(f->ncid, f->v_var[v], h_var[v], path, f->name[v], st)))
+            goto fail;
+    }
+    if (spectrum) {
+        h_spec = tg_fnv1a_doubles(h_spec, spectrum, (size_t)f->nl * (size_t)f->nbins);
+        if ((code = tg_nc_put_checksum(f->ncid, f->v_spec, h_spec, path, "ke_spectrum", st)))
+            goto fail;
+    }
     TRY(nc_sync(f->ncid), "syncing the file", NULL);
+    f->h_time = h_time;
+    memcpy(f->h_var, h_var, sizeof(uint64_t) * (size_t)f->nvars);
+    f->h_spec = h_spec;
     f->nrec = t + 1;
     return TG_OK;
 fail:
@@ -198,15 +232,21 @@ tg_code tg_map_file_write(const char *path, const tg_nc_grid *g, double time_s,
     if ((code = tg_nc_time_atts(ncid, v_time, path, st)))
         goto fail;
     const int dims[3] = {id.d_layer, id.d_y, id.d_x};
+    const double days = time_s / DAY_S;
+    const size_t n = (size_t)g->nlayers * (size_t)g->ny * (size_t)g->nx;
+    if ((code = tg_nc_put_checksum(ncid, v_time, tg_fnv1a_doubles(TG_FNV1A_START, &days, 1), path,
+                                   "time", st)))
+        goto fail;
     for (int v = 0; v < nvars; v++)
-        if ((code = def_var(ncid, path, &vars[v], 3, dims, &vid[v], st)))
+        if ((code = def_var(ncid, path, &vars[v], 3, dims, &vid[v], st)) ||
+            (code = tg_nc_put_checksum(ncid, vid[v], tg_fnv1a_doubles(TG_FNV1A_START, data[v], n),
+                                       path, vars[v].name, st)))
             goto fail;
     if ((code = globals(ncid, path, g, atts, natts, st)))
         goto fail;
     TRY(nc_enddef(ncid), "finishing the header", NULL);
     if ((code = tg_nc_put_grid(ncid, path, g, &id, st)))
         goto fail;
-    const double days = time_s / DAY_S;
     TRY(nc_put_var_double(ncid, v_time, &days), "writing", "time");
     for (int v = 0; v < nvars; v++)
         TRY(nc_put_var_double(ncid, vid[v], data[v]), "writing", vars[v].name);
@@ -242,7 +282,8 @@ tg_record_reader *tg_record_reader_open(const char *path, int nx, int ny, int nl
     r->nl = nl;
     int ncid = -1, d;
     size_t len;
-    TRY(nc_open(path, NC_NOWRITE, &ncid), "opening the file", NULL);
+    if ((code = tg_nc_open_verified(path, &ncid, st)))
+        goto fail;
     const char *names[3] = {"layer", "y", "x"};
     const int want[3] = {nl, ny, nx};
     for (int k = 0; k < 3; k++) {

@@ -44,7 +44,9 @@ typedef struct {
 
 typedef struct tg_record_file tg_record_file;
 
-/* Creates (clobbering) a record file. wn may be NULL (no spectrum). */
+/* Creates (clobbering) a record file. wn may be NULL (no spectrum). time,
+ * every variable and ke_spectrum carry a data_checksum attribute over the
+ * records written so far (ncverify.h), rewritten by each append. */
 tg_record_file *tg_record_file_create(const char *path, const tg_nc_grid *g,
                                       const tg_nc_wavenumbers *wn, const tg_twin_var *vars,
                                       int nvars, const tg_twin_attr *atts, int natts,
@@ -56,14 +58,16 @@ tg_code tg_record_file_append(tg_record_file *f, double time_s, const double *co
 /* Closes and frees (frees even on error). */
 tg_code tg_record_file_close(tg_record_file *f, tg_status *st);
 
-/* Writes (clobbering) a map file: data[v] is nlayers*ny*nx. */
+/* Writes (clobbering) a map file: data[v] is nlayers*ny*nx. time and every
+ * variable carry a data_checksum attribute (ncverify.h). */
 tg_code tg_map_file_write(const char *path, const tg_nc_grid *g, double time_s,
                           const tg_twin_var *vars, int nvars, const double *const *data,
                           const tg_twin_attr *atts, int natts, tg_status *st);
 
 typedef struct tg_record_reader tg_record_reader;
 
-/* Opens a record file whose (layer, y, x) shape must be (nl, ny, nx). */
+/* Opens a record file whose (layer, y, x) shape must be (nl, ny, nx), after
+ * checking it (tg_nc_open_verified: regular, whole, checksums match). */
 tg_record_reader *tg_record_reader_open(const char *path, int nx, int ny, int nl,
                                         tg_status *st);
 int tg_record_reader_count(const tg_record_reader *r);

@@ -1668,6 +1668,11 @@ tg_code tg_config_check(const tg_config *cfg, const char *origin, tg_status *st)
         char hint[64] = "";
         if (close)
             snprintf(hint, sizeof hint, "; did you mean %s?", close);
+        /* Not opened unless regular: opening a FIFO would wait for a writer. */
+        const char *kind = tg_not_regular(path);
+        if (kind)
+            return key_fail(cfg, K_INITIAL_STATE, origin, st,
+                            "initial state '%s' is not a regular file (%s)", path, kind);
         FILE *f = fopen(path, "rb");
         if (!f)
             return key_fail(cfg, K_INITIAL_STATE, origin, st,

@@ -13,8 +13,10 @@
 
 #include "ncio.h"
 #include "ncio_util.h"
+#include "ncverify.h"
 
 #include <errno.h>
+#include <math.h>
 #include <netcdf.h>
 #include <stdio.h>
 #include <stdlib.h>
@@ -397,6 +399,76 @@ tg_code tg_fields_close(tg_fields_file *f, tg_status *st)
     return code;
 }
 
+/* PATH.tmp, malloc'ed (NULL when out of memory). */
+static char *tmp_path(const char *path)
+{
+    size_t n = strlen(path);
+    char *t = malloc(n + 5);
+    if (t) {
+        memcpy(t, path, n);
+        memcpy(t + n, ".tmp", 5);
+    }
+    return t;
+}
+
+/* Fills a file made at PATH.tmp (open as ncid) with the records of PATH
+ * whose `key` is <= limit (inclusive) or < limit, then renames it over PATH:
+ * the old file stays whole until then. With want_last >= 0 the kept records
+ * must end at key want_last (or be none). *own_path, the handle's path for
+ * messages, switches to PATH; *n is the number of records kept. */
+static tg_code continue_fill(int ncid, const char *tmp, const char *path, const char *key,
+                             double limit, int inclusive, double want_last, char **own_path,
+                             size_t *n, tg_status *st)
+{
+    double last;
+    tg_code code = tg_nc_keep_records(path, ncid, key, limit, inclusive, n, &last, st);
+    if (code)
+        return code;
+    if (want_last >= 0.0 && *n > 0 && last != want_last)
+        return tg_fail(st, TG_ERR_IO,
+                       "%s: the records end at %s %.17g, before the checkpoint's %.17g: the "
+                       "ones between are lost (resume into another folder, or pass "
+                       "--overwrite to start the output files afresh)",
+                       path, key, last, want_last);
+    if ((code = tg_nc_check(nc_sync(ncid), tmp, "syncing the file", NULL, st)))
+        return code;
+    char *final = dup_string(path);
+    if (!final)
+        return tg_fail(st, TG_ERR_NOMEM, "%s: no memory for the file name", path);
+    if (rename(tmp, path) != 0) {
+        free(final);
+        return tg_fail(st, TG_ERR_IO, "%s: renaming %s over it failed: %s", path, tmp,
+                       strerror(errno));
+    }
+    free(*own_path);
+    *own_path = final;
+    return TG_OK;
+}
+
+tg_fields_file *tg_fields_continue(const char *path, const tg_nc_grid *g,
+                                   const tg_nc_wavenumbers *wn, double before_s, tg_status *st)
+{
+    char *tmp = tmp_path(path);
+    if (!tmp) {
+        tg_fail(st, TG_ERR_NOMEM, "%s: no memory for the file name", path);
+        return NULL;
+    }
+    tg_fields_file *f = tg_fields_create(tmp, g, wn, st);
+    size_t n = 0;
+    if (f && continue_fill(f->ncid, tmp, path, "time", before_s / TG_SECONDS_PER_DAY, 0, -1.0,
+                           &f->path, &n, st)) {
+        close_quietly(f->ncid);
+        (void)remove(tmp); /* the old file is left as it was */
+        free(f->path);
+        free(f);
+        f = NULL;
+    }
+    if (f)
+        f->nrec = n;
+    free(tmp);
+    return f;
+}
+
 /* ------------------------------------------------------------------------ */
 /* budget.nc                                                                 */
 /* ------------------------------------------------------------------------ */
@@ -581,6 +653,30 @@ fail:
     return NULL;
 }
 
+tg_budget_file *tg_budget_continue(const char *path, const tg_nc_grid *g,
+                                   const tg_budget_var *vars, int nvars, long last_step,
+                                   tg_status *st)
+{
+    char *tmp = tmp_path(path);
+    if (!tmp) {
+        tg_fail(st, TG_ERR_NOMEM, "%s: no memory for the file name", path);
+        return NULL;
+    }
+    tg_budget_file *b = tg_budget_create(tmp, g, vars, nvars, st);
+    size_t n = 0;
+    if (b && continue_fill(b->ncid, tmp, path, "step", (double)last_step, 1, (double)last_step,
+                           &b->path, &n, st)) {
+        close_quietly(b->ncid);
+        (void)remove(tmp); /* the old file is left as it was */
+        budget_free(b);
+        b = NULL;
+    }
+    if (b)
+        b->nrec = n;
+    free(tmp);
+    return b;
+}
+
 tg_code tg_budget_set_buffer(tg_budget_file *b, int nrecords, tg_status *st)
 {
     if (!b)
@@ -685,8 +781,7 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
                            final_path, c->extra_names[e]);
     }
 
-    size_t plen = strlen(final_path);
-    char *path = malloc(plen + 5); /* the temporary file: errors name it */
+    char *path = tmp_path(final_path); /* the temporary file: errors name it */
     int *v_extra = malloc((c->nextra > 0 ? (size_t)c->nextra : 1) * sizeof *v_extra);
     if (!path || !v_extra) {
         free(path);
@@ -694,8 +789,6 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
         return tg_fail(st, TG_ERR_NOMEM, "%s: allocating checkpoint bookkeeping failed",
                        final_path);
     }
-    memcpy(path, final_path, plen);
-    memcpy(path + plen, ".tmp", 5);
 
     int ncid = -1, created = 0;
     tg_nc_grid_ids ids;
@@ -724,6 +817,21 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
     int dims[3] = {ids.d_layer, ids.d_y, ids.d_x};
     if ((code = def_psi_q(ncid, path, 3, dims, &v_psi, &v_q, st)))
         goto fail;
+    double days = c->time_s / TG_SECONDS_PER_DAY;
+    double step = (double)c->step;
+    const size_t n3 = (size_t)g->nlayers * (size_t)g->ny * (size_t)g->nx;
+    /* Each variable's checksum, which a reader verifies (ncverify.h). */
+    if ((code = tg_nc_put_checksum(ncid, v_time, tg_fnv1a_doubles(TG_FNV1A_START, &days, 1), path,
+                                   "time", st)) ||
+        (code = tg_nc_put_checksum(ncid, v_secs, tg_fnv1a_doubles(TG_FNV1A_START, &c->time_s, 1),
+                                   path, "time_seconds", st)) ||
+        (code = tg_nc_put_checksum(ncid, v_step, tg_fnv1a_doubles(TG_FNV1A_START, &step, 1), path,
+                                   "step", st)) ||
+        (code = tg_nc_put_checksum(ncid, v_psi, tg_fnv1a_doubles(TG_FNV1A_START, c->psi, n3), path,
+                                   "psi", st)) ||
+        (code = tg_nc_put_checksum(ncid, v_q, tg_fnv1a_doubles(TG_FNV1A_START, c->q, n3), path,
+                                   "q", st)))
+        goto fail;
     for (int e = 0; e < c->nextra; e++) {
         char dname[NC_MAX_NAME + 1];
         const char *name = c->extra_names[e];
@@ -734,7 +842,11 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
                name);
         if ((code = tg_nc_put_text(ncid, v_extra[e], "long_name",
                              "saved state of a closure (opaque to the file format)", path, name,
-                             st)))
+                             st)) ||
+            (code = tg_nc_put_checksum(
+                 ncid, v_extra[e],
+                 tg_fnv1a_doubles(TG_FNV1A_START, c->extra_data[e], c->extra_len[e]), path, name,
+                 st)))
             goto fail;
     }
     if ((code = tg_nc_globals(ncid, path, g, "twingyre checkpoint", st)))
@@ -742,8 +854,6 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
     NC_TRY(nc_enddef(ncid), "finishing the header", NULL);
     if ((code = tg_nc_put_grid(ncid, path, g, &ids, st)))
         goto fail;
-    double days = c->time_s / TG_SECONDS_PER_DAY;
-    double step = (double)c->step;
     NC_TRY(nc_put_var_double(ncid, v_time, &days), "writing the data", "time");
     NC_TRY(nc_put_var_double(ncid, v_secs, &c->time_s), "writing the data", "time_seconds");
     NC_TRY(nc_put_var_double(ncid, v_step, &step), "writing the data", "step");
@@ -815,7 +925,8 @@ static tg_code read_layered(int ncid, const char *path, const char *name, int va
     count[o + 1] = len[o + 1];
     count[o + 2] = len[o + 2];
     NC_TRY(nc_get_vara_double(ncid, varid, start, count, out), "reading", name);
-    return TG_OK;
+    return tg_nc_check_finite(path, name, ndims == 4 ? (long)start[0] + 1 : -1, out, nlayers, ny,
+                              nx, st);
 fail:
     return code;
 }
@@ -862,7 +973,8 @@ tg_code tg_initial_read(const char *path, int nx, int ny, int nlayers, double *p
         return tg_fail(st, TG_ERR_INTERNAL, "initial state: missing path or psi array, or bad grid");
 
     int ncid = -1;
-    NC_TRY(nc_open(path, NC_NOWRITE, &ncid), "opening the file", NULL);
+    if ((code = tg_nc_open_verified(path, &ncid, st)))
+        goto fail;
 
     int v_psi, found;
     if ((code = find_var(ncid, path, "psi", &v_psi, &found, st)))
@@ -893,6 +1005,24 @@ tg_code tg_initial_read(const char *path, int nx, int ny, int nlayers, double *p
     if ((has_days || has_secs) && has_step) {
         info->has_time = 1;
         info->time_s = has_secs ? secs : days * TG_SECONDS_PER_DAY;
+        /* A step count is a whole number a long holds exactly (a double is
+         * exact to 2^53); the time is finite and not before day 0. Whether
+         * time and step agree depends on the run's step size: the caller
+         * checks that. */
+        if (!(step >= 0.0 && step <= 9007199254740992.0) || step != floor(step)) {
+            code = tg_fail(st, TG_ERR_IO,
+                           "%s: damaged file: step is %.17g; a checkpoint's step is a whole "
+                           "number from 0 to 2^53",
+                           path, step);
+            goto fail;
+        }
+        if (!isfinite(info->time_s) || info->time_s < 0.0) {
+            code = tg_fail(st, TG_ERR_IO,
+                           "%s: damaged file: %s is %.17g; a checkpoint's time is finite and "
+                           ">= 0",
+                           path, has_secs ? "time_seconds" : "time", has_secs ? secs : days);
+            goto fail;
+        }
         info->step = (long)step;
     }
 
@@ -917,7 +1047,8 @@ tg_code tg_checkpoint_read_extra(const char *path, const char *name, double *dat
         return tg_fail(st, TG_ERR_INTERNAL, "checkpoint extra: missing path, name or array");
     int ncid = -1, varid, found, ndims, dimid;
     size_t n;
-    NC_TRY(nc_open(path, NC_NOWRITE, &ncid), "opening the file", NULL);
+    if ((code = tg_nc_open_verified(path, &ncid, st)))
+        goto fail;
     if ((code = find_var(ncid, path, name, &varid, &found, st)))
         goto fail;
     if (!found) {

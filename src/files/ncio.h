@@ -66,6 +66,14 @@ tg_fields_file *tg_fields_create(const char *path, const tg_nc_grid *g,
  * so it is readable if the run dies. */
 tg_code tg_fields_append(tg_fields_file *f, double time_s, const double *psi, const double *q,
                          const double *ke_spectrum, tg_status *st);
+/* For a run resumed from the checkpoint of its own output folder: a new
+ * file (as tg_fields_create) that keeps the records of the existing `path`
+ * before model time `before_s` (s); later ones are dropped, as the resumed
+ * run writes them again. The new file is made as PATH.tmp and renamed over
+ * PATH, so the old one stays whole until then. Errors (the old file damaged,
+ * or with other variables) are TG_ERR_IO. */
+tg_fields_file *tg_fields_continue(const char *path, const tg_nc_grid *g,
+                                   const tg_nc_wavenumbers *wn, double before_s, tg_status *st);
 /* Closes and frees (frees even on error). */
 tg_code tg_fields_close(tg_fields_file *f, tg_status *st);
 
@@ -86,6 +94,15 @@ typedef struct tg_budget_file tg_budget_file;
  * The record buffer holds 256 records unless tg_budget_set_buffer changes it. */
 tg_budget_file *tg_budget_create(const char *path, const tg_nc_grid *g, const tg_budget_var *vars,
                                  int nvars, tg_status *st);
+/* For a run resumed from the checkpoint of its own output folder: as
+ * tg_budget_create, keeping the records of the existing `path` up to and
+ * including step `last_step` (later ones are dropped; the resumed run
+ * appends them again). Made as PATH.tmp and renamed over PATH. TG_ERR_IO
+ * when the old file is damaged, has other variables, or its kept records do
+ * not end at last_step (steps would be missing). */
+tg_budget_file *tg_budget_continue(const char *path, const tg_nc_grid *g,
+                                   const tg_budget_var *vars, int nvars, long last_step,
+                                   tg_status *st);
 /* Re-sizes the record buffer to `nrecords` (>= 1). Allocates, so call it at
  * set-up; allowed only while the buffer is empty (before the first append or
  * right after a flush), otherwise TG_ERR_INTERNAL. */
@@ -97,7 +114,8 @@ tg_code tg_budget_set_buffer(tg_budget_file *b, int nrecords, tg_status *st);
  * synced) by the append that fills it. Never allocates. */
 tg_code tg_budget_append(tg_budget_file *b, double time_s, long step, const double *values,
                          tg_status *st);
-/* Writes buffered records and syncs. Called at snapshot times and on exit. */
+/* Writes buffered records and syncs. Called at snapshot and checkpoint
+ * times and on exit. */
 tg_code tg_budget_flush(tg_budget_file *b, tg_status *st);
 /* Flushes, closes and frees (frees even on error). */
 tg_code tg_budget_close(tg_budget_file *b, tg_status *st);
@@ -118,6 +136,7 @@ typedef struct {
 } tg_checkpoint;
 
 /* Writes to PATH.tmp then renames over PATH, so a crash never leaves a half file.
+ * Every variable carries its data_checksum attribute (ncverify.h).
  * Holds psi(layer, y, x), q(layer, y, x), scalar time (days, CF), time_seconds
  * (the exact time_s), step (double), and each extra array as a 1-D variable
  * named after it with its own dimension "<name>_len" (length >= 1). */
@@ -140,7 +159,11 @@ typedef struct {
  * as "nx x ny". A missing psi, or one of another rank, is TG_ERR_IO.
  * info (may be NULL): has_q says whether the file holds q; has_time is set
  * when the file has scalar time (or time_seconds) and step, as a checkpoint
- * has; time_s then prefers the exact time_seconds. */
+ * has; time_s then prefers the exact time_seconds.
+ * The file is checked first (tg_nc_open_verified: regular, whole, matching
+ * its checksums); NaN/Inf in psi or q, a step that is not a whole number in
+ * [0, 2^53] and a time that is not finite and >= 0 are TG_ERR_IO too, with
+ * the file, the variable and (for values) the position in the message. */
 tg_code tg_initial_read(const char *path, int nx, int ny, int nlayers, double *psi, double *q,
                         tg_initial_info *info, tg_status *st);
 

@@ -44,4 +44,13 @@ tg_code tg_nc_def_spectrum(int ncid, const char *path, const tg_nc_wavenumbers *
                            int d_layer, const char *long_name, int *v_k, int *v_spec,
                            tg_status *st);
 
+/* For a run resumed in its own output folder: copies into the open file
+ * ncid (data mode, same record variables) the leading records of the
+ * existing file `from` whose record variable `key` is <= limit (inclusive)
+ * or < limit; *nkept is their number and *last the key of the last one
+ * (NaN when none). `from` is checked as any input (ncverify.h); a record
+ * variable of ncid missing in `from` or of another shape is TG_ERR_IO. */
+tg_code tg_nc_keep_records(const char *from, int ncid, const char *key, double limit,
+                           int inclusive, size_t *nkept, double *last, tg_status *st);
+
 #endif

@@ -35,6 +35,8 @@
 #   dir_state DIR   names and checksums of every file in DIR (or "absent")
 #   small_basin POINTS [VISCOSITY [STEP_S]]   the start of the small invented
 #                   basin config the twin, fit and sweep tests share
+#   tiny_twin SPINUP_DAYS ANALYSIS_DAYS       a whole twin config on it
+#                   (33 -> 17 points) whose subgrid.nc takes a second
 #
 # Part of twingyre. GPL-3.0-or-later.
 
@@ -180,5 +182,34 @@ viscosity_m2_per_s = ${2:-300}
 
 [time]
 step_s = ${3:-3600}
+EOF
+}
+
+# tiny_twin SPINUP_DAYS ANALYSIS_DAYS: prints a whole twin config on
+# small_basin 33 (noise start, seed 3): reference 33 -> coarse 17 points,
+# Gaussian filter of width factor 2, samples every 2 days, no closure
+# compared, coarse viscosity 600 m2 s-1 and step 7200 s.
+tiny_twin() {
+    small_basin 33
+    cat <<EOF
+
+[initial]
+state = noise
+noise_amplitude_m2_per_s = 100
+seed = 3
+
+[twin]
+reference_points = 33
+coarse_points = 17
+spinup_days = $1
+analysis_days = $2
+sample_every_days = 2
+compare = none
+filter = gaussian
+filter_width_factor = 2
+
+[twin.coarse]
+dissipation.viscosity_m2_per_s = 600
+time.step_s = 7200
 EOF
 }

@@ -28,6 +28,7 @@
 #include <unistd.h>
 
 #include "ncio.h"
+#include "ncverify.h"
 
 /* Output directory, set once in main() before any test runs. */
 static char g_dir[4096];
@@ -750,6 +751,75 @@ END_TEST
 /* A file without a spectrum has neither wavenumber nor ke_spectrum; a
  * spectrum given to the wrong kind of file, or an incomplete wavenumber
  * axis, is the caller's mistake (TG_ERR_INTERNAL). */
+/* FNV-1a 64 test vectors of its authors' reference (IETF draft-eastlake-fnv,
+ * section 2: offset basis and prime; the vectors "a" and "foobar" from
+ * memory, agreeing with an independent Python implementation), and the
+ * doubles hashed as their big-endian bytes. */
+START_TEST(test_fnv1a_known_answers)
+{
+    ck_assert_uint_eq(tg_fnv1a_bytes(TG_FNV1A_START, NULL, 0), UINT64_C(0xcbf29ce484222325));
+    ck_assert_uint_eq(tg_fnv1a_bytes(TG_FNV1A_START, (const unsigned char *)"a", 1),
+                      UINT64_C(0xaf63dc4c8601ec8c));
+    ck_assert_uint_eq(tg_fnv1a_bytes(TG_FNV1A_START, (const unsigned char *)"foobar", 6),
+                      UINT64_C(0x85944171f73967e8));
+    const double one = 1.0; /* 0x3ff0000000000000 */
+    const unsigned char be[8] = {0x3f, 0xf0, 0, 0, 0, 0, 0, 0};
+    ck_assert_uint_eq(tg_fnv1a_doubles(TG_FNV1A_START, &one, 1),
+                      tg_fnv1a_bytes(TG_FNV1A_START, be, 8));
+    /* a running hash over two appends equals the hash of both */
+    const double two[2] = {1.0, -2.5};
+    ck_assert_uint_eq(tg_fnv1a_doubles(tg_fnv1a_doubles(TG_FNV1A_START, two, 1), two + 1, 1),
+                      tg_fnv1a_doubles(TG_FNV1A_START, two, 2));
+}
+END_TEST
+
+/* Every length of a written checkpoint short of whole is refused (the
+ * length check: the header's offsets and shapes against the file), and a
+ * byte changed in psi's data fails its checksum; the whole file reads. */
+START_TEST(test_checkpoint_damage_refused)
+{
+    enum { NX = 5, NY = 4, NL = 2, N = NL * NY * NX };
+    char path[4200], cut[4200];
+    path_in_dir(path, sizeof path, "damage.nc");
+    path_in_dir(cut, sizeof cut, "damage_cut.nc");
+    test_grid t;
+    make_grid(&t, NX, NY, NL);
+    double psi[N], q[N];
+    fill_field(psi, 3, NL, NY, NX, 0);
+    fill_field(q, 3, NL, NY, NX, 1);
+    tg_checkpoint c = {.time_s = 7200.0, .step = 2, .psi = psi, .q = q};
+    tg_status st;
+    tg_status_clear(&st);
+    ck_assert_msg(tg_checkpoint_write(path, &t.g, &c, &st) == TG_OK, "%s", st.msg);
+    FILE *f = fopen(path, "rb");
+    ck_assert_ptr_nonnull(f);
+    static unsigned char buf[1 << 16];
+    size_t n = fread(buf, 1, sizeof buf, f);
+    fclose(f);
+    ck_assert(n > 0 && n < sizeof buf);
+    double p2[N], q2[N];
+    ck_assert_msg(tg_initial_read(path, NX, NY, NL, p2, q2, NULL, &st) == TG_OK, "%s", st.msg);
+    for (size_t len = 0; len < n; len += (len < n - 64 ? 97 : 1)) {
+        f = fopen(cut, "wb");
+        ck_assert_ptr_nonnull(f);
+        ck_assert_uint_eq(fwrite(buf, 1, len, f), len);
+        fclose(f);
+        tg_status_clear(&st);
+        ck_assert_msg(tg_initial_read(cut, NX, NY, NL, p2, q2, NULL, &st) == TG_ERR_IO,
+                      "%zu of %zu bytes read without error", len, n);
+        ck_assert_ptr_nonnull(strstr(st.msg, cut));
+    }
+    /* psi's data end where q's begin: n - 8*NL*NY*NX; change its last byte */
+    buf[n - sizeof q - 1] ^= 0x01;
+    f = fopen(cut, "wb");
+    ck_assert_uint_eq(fwrite(buf, 1, n, f), n);
+    fclose(f);
+    tg_status_clear(&st);
+    ck_assert_int_eq(tg_initial_read(cut, NX, NY, NL, p2, q2, NULL, &st), TG_ERR_IO);
+    ck_assert_msg(strstr(st.msg, "variable psi do not match their checksum"), "%s", st.msg);
+}
+END_TEST
+
 START_TEST(test_fields_spectrum_optional)
 {
     enum { NX = 3, NY = 3, NL = 2, NB = 4 };
@@ -813,6 +883,8 @@ static Suite *ncio_suite(void)
     tcase_add_test(tc, test_budget_buffering);
     tcase_add_test(tc, test_budget_one_layer);
     tcase_add_test(tc, test_checkpoint_round_trip);
+    tcase_add_test(tc, test_fnv1a_known_answers);
+    tcase_add_test(tc, test_checkpoint_damage_refused);
     tcase_add_test(tc, test_initial_plain_3d);
     tcase_add_test(tc, test_initial_mismatch);
     tcase_add_test(tc, test_initial_bad_files);
