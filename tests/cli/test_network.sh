@@ -55,35 +55,8 @@ else
 fi
 
 # ---------------------------------------------------------------- configs
-# A one-layer 33-point basin over 1280 km: dx = 40 km.
+# vet_basin (testlib.sh): one layer, 33 points over 1280 km, dx = 40 km.
 DX=40000
-base() {
-    cat <<'INI'
-[grid]
-geometry = basin
-size_km = 1280
-points = 33
-
-[layers]
-thickness_m = 4000
-reduced_gravity_m_s2 =
-
-[wind]
-stress_amplitude_pa = 0.05
-
-[dissipation]
-viscosity_m2_per_s = 200
-
-[time]
-step_s = 3600
-max_cfl = 0.8
-
-[initial]
-state = noise
-noise_amplitude_m2_per_s = 100
-seed = 5
-INI
-}
 for k in laplacian flux channels shape nan; do
     "$PYTHON" "$MAKE_NET" "$k" "$k.pt" --layers 1 --dx "$DX" --a2 200 >py 2>&1 ||
         { notok "make_network.py $k" "$(cat py)"; finish; }
@@ -92,7 +65,7 @@ done
     { notok "make_network.py anti" "$(cat py)"; finish; }
 echo "not a network" >text.pt
 {
-    base
+    vet_basin
     printf '\n[output]\nsnapshot_every_days = 5\ncheckpoint_every_days = 5\n'
     printf '\n[closure]\nuse = network\n\n[network]\nfile = laplacian.pt\n'
 } >net.ini
@@ -179,7 +152,7 @@ fi
 
 # ---------------------------------------------------------------- vet
 {
-    base
+    vet_basin
     printf '\n[closure]\nuse = network\n\n[network]\nfile = laplacian.pt\n'
     printf '\n[vet]\nspinup_days = 30\nwindow_days = 10\nstep_factors = 1\n'
     printf 'multipliers = 0.5, 1, 2\n'
@@ -199,30 +172,11 @@ else
 fi
 
 # ---------------------------------------------------------------- training
-{
-    small_basin 65
-    cat <<'INI'
-
-[initial]
-state = noise
-noise_amplitude_m2_per_s = 100
-seed = 3
-
-[twin]
-reference_points = 65
-coarse_points = 33
-spinup_days = 60
-analysis_days = 40
-sample_every_days = 2
-compare = none
-filter = gaussian
-filter_width_factor = 2
-
-[twin.coarse]
-dissipation.viscosity_m2_per_s = 600
-time.step_s = 7200
-INI
-} >twin.ini
+# The twin: tiny_twin (testlib.sh) with a 65-point reference and the
+# 33-point coarse grid.
+tiny_twin 60 40 | sed -e 's/^points = 33$/points = 65/' \
+    -e 's/^reference_points = 33$/reference_points = 65/' \
+    -e 's/^coarse_points = 17$/coarse_points = 33/' >twin.ini
 tg twin twin.ini --out tw --quiet
 if [ "$rc" -ne 0 ]; then
     notok "the small twin runs" "$(err_tail)"

@@ -34,37 +34,10 @@ tg_scratch vet
 tg_need_program
 
 # ---------------------------------------------------------------- configs
-# One layer, 33 points over 1280 km (dx = 40 km), a short spin-up and window.
-base() {
-    cat <<'EOF'
-[grid]
-geometry = basin
-size_km = 1280
-points = 33
-
-[layers]
-thickness_m = 4000
-reduced_gravity_m_s2 =
-
-[wind]
-stress_amplitude_pa = 0.05
-
-[dissipation]
-viscosity_m2_per_s = 200
-
-[time]
-step_s = 3600
-max_cfl = 0.8
-
-[initial]
-state = noise
-noise_amplitude_m2_per_s = 100
-seed = 5
-EOF
-}
+# One layer, 33 points over 1280 km (dx = 40 km): vet_basin (testlib.sh).
 
 {
-    base
+    vet_basin
     cat <<'EOF'
 
 [closure]
@@ -174,7 +147,7 @@ if [ -z "$dl" ]; then
 else
     so="$TG_BUILDDIR/tests/unit/.libs/$dl"
     {
-        base
+        vet_basin
         cat <<EOF
 
 [closure]
@@ -229,15 +202,15 @@ bad() { # NAME EXPECTED-STATUS PHRASE -- config in bad.ini
         notok "bad input ($1): exit $2, '$3', nothing written" "$(err_tail)"
     fi
 }
-{ base; printf '\n[closure]\nuse = viscosity\n\n[vet]\nmultipliers = 0.5, -1\n'; } >bad.ini
+{ vet_basin; printf '\n[closure]\nuse = viscosity\n\n[vet]\nmultipliers = 0.5, -1\n'; } >bad.ini
 bad multipliers 2 "bad.ini:29: [vet] multipliers"
-{ base; printf '\n[closure]\nuse = viscosity\n\n[vet]\nrequired_margin = 8\n'; } >bad.ini
+{ vet_basin; printf '\n[closure]\nuse = viscosity\n\n[vet]\nrequired_margin = 8\n'; } >bad.ini
 bad margin 2 "bad.ini:29: [vet] required_margin"
-{ base; printf '\n[closure]\nuse = viscosity\n\n[vet]\nreference_state = nowhere.nc\n'; } >bad.ini
+{ vet_basin; printf '\n[closure]\nuse = viscosity\n\n[vet]\nreference_state = nowhere.nc\n'; } >bad.ini
 bad reference 2 "bad.ini:29: [vet] reference_state: cannot open reference state file"
-{ base; printf '\n[vet]\nwindow_days = 5\n'; } >bad.ini
+{ vet_basin; printf '\n[vet]\nwindow_days = 5\n'; } >bad.ini
 bad no_closure 2 "vet needs a closure"
-{ base; printf '\n[closure]\nuse = viscosity\n\n[vet]\nwindow_dayz = 5\n'; } >bad.ini
+{ vet_basin; printf '\n[closure]\nuse = viscosity\n\n[vet]\nwindow_dayz = 5\n'; } >bad.ini
 bad unknown_key 2 "did you mean [vet] window_days"
 
 sum_before=$(cksum <vb/vet.json)

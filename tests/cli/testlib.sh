@@ -33,6 +33,7 @@
 #   calc EXPR       floating-point arithmetic (awk, %.17g)
 #   close_to GOT WANT RELTOL           |GOT - WANT| <= RELTOL |WANT|
 #   dir_state DIR   names and checksums of every file in DIR (or "absent")
+#   vet_basin       the one-layer 33-point basin the vet and network tests use
 #   small_basin POINTS [VISCOSITY [STEP_S]]   the start of the small invented
 #                   basin config the twin, fit and sweep tests share
 #   tiny_twin SPINUP_DAYS ANALYSIS_DAYS       a whole twin config on it
@@ -182,6 +183,37 @@ viscosity_m2_per_s = ${2:-300}
 
 [time]
 step_s = ${3:-3600}
+EOF
+}
+
+# vet_basin: prints the one-layer basin the vet and network tests vet
+# closures on: 33 points over 1280 km (dx = 40 km), wind 0.05 Pa, viscosity
+# 200 m2 s-1, step 3600 s, noise start with seed 5.
+vet_basin() {
+    cat <<'EOF'
+[grid]
+geometry = basin
+size_km = 1280
+points = 33
+
+[layers]
+thickness_m = 4000
+reduced_gravity_m_s2 =
+
+[wind]
+stress_amplitude_pa = 0.05
+
+[dissipation]
+viscosity_m2_per_s = 200
+
+[time]
+step_s = 3600
+max_cfl = 0.8
+
+[initial]
+state = noise
+noise_amplitude_m2_per_s = 100
+seed = 5
 EOF
 }
 
