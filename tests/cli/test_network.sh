@@ -22,7 +22,8 @@
 #     check names a growing mode;
 #   - training: scripts/train-network on a small twin gives a held-out
 #     R^2 above zero in every layer; `[twin] compare = network:FILE.pt`
-#     runs it with skill rows labelled network-NAME; its vet at the twin's
+#     runs it with skill rows labelled network-NAME (a missing or broken
+#     network file there exits 2 before the reference runs); its vet at the twin's
 #     coarse resolution runs and its online checks (stable at the configured
 #     step and up to the required multiplier) pass. The linear check around
 #     the reference state is printed, not required: trained networks have
@@ -198,6 +199,15 @@ else
     notok "train-network: held-out R2 above zero in every layer" "$(tail -n 5 train.out)" \
         "$(cat py)"
 fi
+for f in nowhere.pt text.pt; do
+    tg twin twin.ini --out "twbad_$f" --set "twin.compare=network:$T/$f"
+    if [ "$rc" -eq 2 ] && [ ! -e "twbad_$f" ] && has "$T/$f" err; then
+        ok "[twin] compare = network:$f: exit 2 before the reference runs, nothing written"
+    else
+        notok "[twin] compare = network:$f: exit 2 before the reference runs, nothing written" \
+            "$(err_tail)"
+    fi
+done
 sed 's/^compare = none/compare = network:small.pt/' twin.ini >twin2.ini
 tg twin twin2.ini --out tw2 --quiet
 if [ "$rc" -eq 0 ] && [ -d tw2/coarse-network-small ] && grep -q '^network-small' out; then
