@@ -28,6 +28,13 @@ typedef struct {
     const char *slurm_script; /* --slurm-script FILE (sweep), NULL when not given */
 } cli_opts;
 
+/* Makes waiting OpenMP threads sleep instead of spinning unless the user's
+ * environment sets OMP_WAIT_POLICY or GOMP_SPINCOUNT: sets
+ * OMP_WAIT_POLICY=passive and executes the program again with argv
+ * (wait_policy.c says why). Call first thing in main; returns when nothing
+ * was to be done or the new start failed. */
+void cli_wait_policy(char **argv);
+
 /* Parses argv[first..] into o. Unknown options are a usage error (message in
  * st). `allow` is a string of the option names this command takes, e.g.
  * "set out quiet overwrite threads". The one file argument is the config. */

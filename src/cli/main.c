@@ -80,6 +80,7 @@ static void usage(FILE *f)
 
 int main(int argc, char **argv)
 {
+    cli_wait_policy(argv);
     if (argc < 2) {
         usage(stderr);
         return 1;

@@ -109,18 +109,6 @@ static void periodic_fill_laplacian_ring(const tg_geometry *g, double *lap)
     halo_copy(g, lap);
 }
 
-/* spec *= factor[k] for every coefficient k (real factors). */
-static void scale_spec(periodic *p, const double *factor)
-{
-    double *s = p->spec;
-    const long n = p->nspec;
-#pragma omp parallel for schedule(static)
-    for (long k = 0; k < n; k++) {
-        s[2 * k] *= factor[k];
-        s[2 * k + 1] *= factor[k];
-    }
-}
-
 static tg_code periodic_setup_modes(tg_geometry *g, int nmodes, const double *F, tg_status *st)
 {
     periodic *p = g->impl;
@@ -145,15 +133,40 @@ static tg_code periodic_setup_modes(tg_geometry *g, int nmodes, const double *F,
     return TG_OK;
 }
 
+/* The Helmholtz solve: forward transform, division by lambda - F_m (a
+ * multiplication by invden[m]) and inverse transform in one pass
+ * (tg_fft2_apply), in place. */
 static double periodic_solve_mode(tg_geometry *g, int m, double *rhs, double *phi)
 {
     periodic *p = g->impl;
     const int ns = g->ns;
-    tg_fft2_forward(p->fft, rhs + ns + 1, ns, p->spec);
-    scale_spec(p, p->invden[m]);
-    tg_fft2_inverse(p->fft, p->spec, phi + ns + 1, ns);
+    if (phi != rhs)
+        memcpy(phi, rhs, sizeof(double) * (size_t)ns * ns);
+    double *field = phi + ns + 1;
+    const double *factor = p->invden[m];
+    tg_fft2_apply(p->fft, 1, &field, ns, &factor);
     halo_copy(g, phi);
     return 0.0;
+}
+
+/* Every mode's solve in one parallel region (geometry.h, solve_modes_parts):
+ * the same arithmetic as solve_mode, mode after mode. No wall correction. */
+static void periodic_solve_modes_parts(tg_geometry *g, int nmodes, double *phi, long stride,
+                                       double *c, const double **homog)
+{
+    periodic *p = g->impl;
+    const int ns = g->ns;
+    double *fields[TG_MAX_LAYERS] = {NULL};
+    const double *factors[TG_MAX_LAYERS] = {NULL};
+    for (int m = 0; m < nmodes; m++) {
+        fields[m] = phi + m * stride + ns + 1;
+        factors[m] = p->invden[m];
+        c[m] = 0.0;
+        homog[m] = NULL;
+    }
+    tg_fft2_apply(p->fft, nmodes, fields, ns, factors);
+    for (int m = 0; m < nmodes; m++)
+        halo_copy(g, phi + m * stride);
 }
 
 static void periodic_filter_gaussian(tg_geometry *g, double *f, double width)
@@ -208,6 +221,7 @@ static const tg_geometry_ops periodic_ops = {
     .destroy = periodic_destroy,
     .setup_modes = periodic_setup_modes,
     .solve_mode = periodic_solve_mode,
+    .solve_modes_parts = periodic_solve_modes_parts,
     .fill_ring = periodic_fill_ring,
     .fill_vorticity_ring = periodic_fill_vorticity_ring,
     .fill_ring_extend = periodic_fill_ring_extend,

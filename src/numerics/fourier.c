@@ -209,9 +209,14 @@ static int team_size(const tg_fft2 *f)
 
 /* Complex FFTs of rows kx of `src` (P complex each, interleaved doubles)
  * into the same rows of `dst` (may equal src), blocks of TG_FFT2_BATCH rows
- * shared among the threads of the enclosing parallel region. */
+ * shared among the threads of the enclosing parallel region. With `factor`
+ * (tg_fft2_apply), each block goes forward through `full`/`tail`, is
+ * multiplied by factor[kx P + ky] and goes back through `back`/`back_tail`
+ * while it is in the thread's buffer; the values are those that the
+ * separate passes would give, bit for bit. */
 static void column_pass(const tg_fft2 *f, const double *src, double *dst, fftw_plan full,
-                        fftw_plan tail)
+                        fftw_plan tail, const double *factor, fftw_plan back,
+                        fftw_plan back_tail)
 {
     const int P = f->P;
     fftw_complex *lb = f->lbuf[omp_get_thread_num()];
@@ -223,72 +228,107 @@ static void column_pass(const tg_fft2 *f, const double *src, double *dst, fftw_p
             memcpy(lb + (size_t)c * f->ldist, src + 2 * (size_t)(k0 + c) * P,
                    sizeof(fftw_complex) * P);
         fftw_execute_dft(cols == TG_FFT2_BATCH ? full : tail, lb, lb);
+        if (factor) {
+            for (int c = 0; c < cols; c++) {
+                double *v = (double *)(lb + (size_t)c * f->ldist);
+                const double *fc = factor + (size_t)(k0 + c) * P;
+                for (int ky = 0; ky < P; ky++) {
+                    v[2 * ky] *= fc[ky];
+                    v[2 * ky + 1] *= fc[ky];
+                }
+            }
+            fftw_execute_dft(cols == TG_FFT2_BATCH ? back : back_tail, lb, lb);
+        }
         for (int c = 0; c < cols; c++)
             memcpy(dst + 2 * (size_t)(k0 + c) * P, lb + (size_t)c * f->ldist,
                    sizeof(fftw_complex) * P);
     }
 }
 
-void tg_fft2_forward(tg_fft2 *f, const double *in, int stride, double *spec)
+/* Rows along x of `in` (row length `stride`) into spec[kx][j], in the
+ * enclosing parallel region. */
+static void row_pass_forward(const tg_fft2 *f, const double *in, int stride, double *spec)
 {
     const int P = f->P, nc = f->nc, rr = f->rrows;
-#pragma omp parallel num_threads(team_size(f))
-    {
-        const int tid = omp_get_thread_num();
-        double *rb = f->rbuf[tid];
-        fftw_complex *cb = f->cbuf[tid];
-        /* rows along x: spec[kx][j] */
+    const int tid = omp_get_thread_num();
+    double *rb = f->rbuf[tid];
+    fftw_complex *cb = f->cbuf[tid];
 #pragma omp for schedule(static)
-        for (int b = 0; b < f->nrb; b++) {
-            const int j0 = b * rr;
-            for (int r = 0; r < rr; r++)
-                memcpy(rb + (size_t)r * f->rdist, in + (size_t)(j0 + r) * stride,
-                       sizeof(double) * P);
-            fftw_execute_dft_r2c(f->r2c, rb, cb);
-            for (int kx = 0; kx < nc; kx++) {
-                double *o = spec + 2 * ((size_t)kx * P + j0);
-                for (int r = 0; r < rr; r++) {
-                    o[2 * r] = cb[(size_t)r * f->cdist + kx][0];
-                    o[2 * r + 1] = cb[(size_t)r * f->cdist + kx][1];
-                }
+    for (int b = 0; b < f->nrb; b++) {
+        const int j0 = b * rr;
+        for (int r = 0; r < rr; r++)
+            memcpy(rb + (size_t)r * f->rdist, in + (size_t)(j0 + r) * stride,
+                   sizeof(double) * P);
+        fftw_execute_dft_r2c(f->r2c, rb, cb);
+        for (int kx = 0; kx < nc; kx++) {
+            double *o = spec + 2 * ((size_t)kx * P + j0);
+            for (int r = 0; r < rr; r++) {
+                o[2 * r] = cb[(size_t)r * f->cdist + kx][0];
+                o[2 * r + 1] = cb[(size_t)r * f->cdist + kx][1];
             }
         }
+    }
+}
+
+/* Rows of w[kx][j] (after the column pass) back along kx into `out` (row
+ * length `stride`), with the factor 1/P^2, in the enclosing parallel region. */
+static void row_pass_inverse(const tg_fft2 *f, const double *w, double *out, int stride)
+{
+    const int P = f->P, nc = f->nc, rr = f->rrows;
+    /* 1/P^2 with P a power of two: exact. */
+    const double scale = 1.0 / ((double)P * (double)P);
+    const int tid = omp_get_thread_num();
+    double *rb = f->rbuf[tid];
+    fftw_complex *cb = f->cbuf[tid];
+#pragma omp for schedule(static)
+    for (int b = 0; b < f->nrb; b++) {
+        const int j0 = b * rr;
+        for (int kx = 0; kx < nc; kx++) {
+            const double *s = w + 2 * ((size_t)kx * P + j0);
+            for (int r = 0; r < rr; r++) {
+                cb[(size_t)r * f->cdist + kx][0] = s[2 * r];
+                cb[(size_t)r * f->cdist + kx][1] = s[2 * r + 1];
+            }
+        }
+        fftw_execute_dft_c2r(f->c2r, cb, rb);
+        for (int r = 0; r < rr; r++) {
+            const double *x = rb + (size_t)r * f->rdist;
+            double *o = out + (size_t)(j0 + r) * stride;
+            for (int i = 0; i < P; i++)
+                o[i] = scale * x[i];
+        }
+    }
+}
+
+void tg_fft2_forward(tg_fft2 *f, const double *in, int stride, double *spec)
+{
+#pragma omp parallel num_threads(team_size(f))
+    {
+        row_pass_forward(f, in, stride, spec);
         /* along y: spec[kx][ky] */
-        column_pass(f, spec, spec, f->cfwd, f->cfwd_tail);
+        column_pass(f, spec, spec, f->cfwd, f->cfwd_tail, NULL, NULL, NULL);
     }
 }
 
 void tg_fft2_inverse(tg_fft2 *f, const double *spec, double *out, int stride)
 {
-    const int P = f->P, nc = f->nc, rr = f->rrows;
-    /* 1/P^2 with P a power of two: exact. */
-    const double scale = 1.0 / ((double)P * (double)P);
-    double *w = f->work;
 #pragma omp parallel num_threads(team_size(f))
     {
-        const int tid = omp_get_thread_num();
-        double *rb = f->rbuf[tid];
-        fftw_complex *cb = f->cbuf[tid];
         /* along ky: work[kx][j] */
-        column_pass(f, spec, w, f->cbwd, f->cbwd_tail);
+        column_pass(f, spec, f->work, f->cbwd, f->cbwd_tail, NULL, NULL, NULL);
         /* along kx: out[j][i] */
-#pragma omp for schedule(static)
-        for (int b = 0; b < f->nrb; b++) {
-            const int j0 = b * rr;
-            for (int kx = 0; kx < nc; kx++) {
-                const double *s = w + 2 * ((size_t)kx * P + j0);
-                for (int r = 0; r < rr; r++) {
-                    cb[(size_t)r * f->cdist + kx][0] = s[2 * r];
-                    cb[(size_t)r * f->cdist + kx][1] = s[2 * r + 1];
-                }
-            }
-            fftw_execute_dft_c2r(f->c2r, cb, rb);
-            for (int r = 0; r < rr; r++) {
-                const double *x = rb + (size_t)r * f->rdist;
-                double *o = out + (size_t)(j0 + r) * stride;
-                for (int i = 0; i < P; i++)
-                    o[i] = scale * x[i];
-            }
-        }
+        row_pass_inverse(f, f->work, out, stride);
+    }
+}
+
+void tg_fft2_apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
+                   const double *const *factors)
+{
+#pragma omp parallel num_threads(team_size(f))
+    for (int n = 0; n < nfields; n++) {
+        row_pass_forward(f, fields[n], stride, f->work);
+        column_pass(f, f->work, f->work, f->cfwd, f->cfwd_tail, factors[n], f->cbwd,
+                    f->cbwd_tail);
+        row_pass_inverse(f, f->work, fields[n], stride);
     }
 }

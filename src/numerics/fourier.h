@@ -22,7 +22,9 @@
  * backward FFTs along the columns, then complex-to-real along the rows).
  * Rows and columns go in fixed blocks of TG_FFT2_BATCH through batched
  * FFTW plans made at set-up (FFTW_ESTIMATE), executed on per-thread buffers
- * (new-array execute). The blocks are fixed by index, not by thread, so the
+ * (new-array execute). A spectral multiplication (a Helmholtz solve)
+ * can run as one pass (tg_fft2_apply): the columns go forward, are
+ * multiplied and go back while they are in cache. The blocks are fixed by index, not by thread, so the
  * arithmetic done on every row and column, and so every result bit, is the
  * same for any OpenMP thread count. FFTW's own threaded plans are not used
  * (their decomposition may change with the number of threads).
@@ -64,5 +66,17 @@ void tg_fft2_forward(tg_fft2 *f, const double *in, int stride, double *spec);
  * in ky (a Helmholtz solve, a filter) keeps this. For other input the
  * result is real but otherwise unspecified. */
 void tg_fft2_inverse(tg_fft2 *f, const double *spec, double *out, int stride);
+
+/* Spectral multiplication of nfields fields in place: each P x P block
+ * fields[n] (row length `stride`) becomes
+ *   tg_fft2_inverse(factors[n] (.) tg_fft2_forward(fields[n])),
+ * factors[n] real with the layout of `spec` without the (re, im) pairs
+ * (factors[n][kx P + ky], (P/2 + 1) P values) and even in kx and ky as
+ * tg_fft2_inverse needs. The result is bit for bit that of the three calls
+ * with the product formed as spec[2 k] * factor[k], spec[2 k + 1] * factor[k];
+ * each block of columns goes forward, is multiplied and goes back while it
+ * is in cache, and all the fields take one parallel region. */
+void tg_fft2_apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
+                   const double *const *factors);
 
 #endif

@@ -23,8 +23,27 @@
  * -DTG_BENCH_FFTW_OMP and linked with -lfftw3_omp, when it uses the
  * configuration's thread count.
  *
- * Usage: tg-bench [--sizes 129,257,513] [--threads 1,2] [--steps N]
- *                 [--warmup N] [--seconds S] [--set section.key=value]...
+ * Periodic configurations (--periodic-sizes, P = 2^k points, no wind) time
+ * the same step beside FFTW's P x P real-to-complex transform: a periodic
+ * step needs 6 x layers 2-D transforms (3 stages x (forward + inverse) per
+ * mode), so "step / its transforms" is the step over 6 x layers r2c times.
+ * With --numpy FILE, the plain NumPy two-layer model FILE (a script that
+ * prints "... : X ms/step" for the size given) runs with /usr/bin/python3
+ * just before and just after each one-thread periodic configuration, and the
+ * faster of its two times is compared with the step; a third run with its
+ * clock replaced by the process's CPU time gives the same comparison in CPU
+ * time, as the step's and the r2c's CPU times give theirs (on a machine that
+ * other programs keep busy, CPU times are nearer to what an idle machine
+ * would show than wall times).
+ *
+ * --throughput CONFIG:DAYS:SPINUP_DAYS (repeatable) adds model years per
+ * wall-clock hour of whole `twingyre run`s (throughput.c).
+ *
+ * Usage: tg-bench [--sizes 129,257,513|none] [--periodic-sizes 512|none]
+ *                 [--threads 1,2] [--steps N] [--warmup N] [--seconds S]
+ *                 [--set section.key=value]... [--numpy FILE]
+ *                 [--throughput CONFIG:DAYS:SPINUP_DAYS]... [--program PATH]
+ *                 [--cache DIR] [--scratch DIR] [--adaptive-set S.K=V]
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
@@ -42,11 +61,13 @@
 #include <unistd.h>
 
 #include "budget.h"
+#include "cli.h"
 #include "config.h"
 #include "model.h"
 #include "sinetf.h"
 #include "status.h"
 #include "stepper.h"
+#include "throughput.h"
 
 #define MAX_LIST 16
 #define MAX_SETS 64
@@ -57,21 +78,27 @@
 #define TARGET_DST_OVER_R2C 2.0
 #define TARGET_PEAK_MB 120.0
 #define TARGET_SPEEDUP 1.6         /* two threads over one */
+#define TARGET_PERIODIC_OVER_R2C 2.5 /* one thread */
+#define TARGET_NUMPY_OVER_STEP 10.0  /* one thread */
 
 typedef struct {
     int sizes[MAX_LIST], nsizes;
+    int psizes[MAX_LIST], npsizes; /* periodic */
     int threads[MAX_LIST], nthreads;
     int steps;       /* 0: enough for `seconds` per configuration */
     int warmup;
     double seconds;
     const char *sets[MAX_SETS];
     int nsets;
+    const char *numpy;  /* NumPy model script, or NULL */
+    tp_options tp;      /* --throughput */
 } options;
 
 /* What a child sends back through its pipe. */
 typedef struct {
     int ok;
     char msg[TG_MSG_LEN + 64];
+    int periodic;        /* 1: periodic geometry (no sine transforms) */
     int points, threads, layers, steps; /* steps: timed repetitions */
     int ndst;            /* sine transforms per step */
     double step_ms;      /* median time of one tg_step with rates */
@@ -79,11 +106,15 @@ typedef struct {
     double dst_step_ms;  /* median time of the ndst transforms of one step */
     double dst_ms;       /* dst_step_ms / ndst */
     double r2c_ms;       /* median time of one r2c 2-D FFT */
+    double step_cpu_ms, r2c_cpu_ms;   /* median process CPU times (all threads) */
+    double numpy_cpu_ms; /* the NumPy model's CPU time per step, or 0 */
     int r2c_threads;
     double rss_start_mb; /* ru_maxrss before the model exists */
     double rss_peak_mb;  /* ru_maxrss after the warm-up steps */
     double cpu_per_wall; /* process CPU time / wall time over the timed steps */
     double max_cfl;      /* at the end, to show the state is sane */
+    double tr_step_ms;   /* the transforms of one step: DST, or ndst x r2c (periodic) */
+    double numpy_ms;     /* the NumPy model's step (periodic, 1 thread), or 0 */
 } result;
 
 static double now_s(void)
@@ -98,19 +129,6 @@ static double cpu_s(void)
     struct timespec ts;
     clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &ts);
     return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
-}
-
-/* The 1-minute load average, or -1 when /proc/loadavg cannot be read. */
-static double load_average(void)
-{
-    double l = -1.0;
-    FILE *f = fopen("/proc/loadavg", "r");
-    if (f) {
-        if (fscanf(f, "%lf", &l) != 1)
-            l = -1.0;
-        fclose(f);
-    }
-    return l;
 }
 
 static int cmp_double(const void *a, const void *b)
@@ -136,21 +154,39 @@ static double maxrss_mb(void)
 static void usage(FILE *out)
 {
     fprintf(out,
-            "usage: tg-bench [--sizes LIST] [--threads LIST] [--steps N] [--warmup N]\n"
-            "                [--seconds S] [--set section.key=value]...\n"
-            "  --sizes LIST     grid points per side, 2^k + 1 (default 129,257,513)\n"
+            "usage: tg-bench [--sizes LIST] [--periodic-sizes LIST] [--threads LIST] [--steps N]\n"
+            "                [--warmup N] [--seconds S] [--set section.key=value]...\n"
+            "                [--numpy FILE] [--throughput CONFIG:DAYS:SPINUP_DAYS]...\n"
+            "                [--program PATH] [--cache DIR] [--scratch DIR] [--adaptive-set S.K=V]\n"
+            "  --sizes LIST     basin grid points per side, 2^k + 1 (default 129,257,513), or none\n"
+            "  --periodic-sizes LIST  periodic points per side, 2^k (default 512), or none\n"
             "  --threads LIST   OpenMP thread counts (default 1,2)\n"
             "  --steps N        timed steps per configuration (default: enough for\n"
             "                   --seconds, at least 5)\n"
             "  --warmup N       untimed steps first (default 2, at least 1)\n"
             "  --seconds S      time aimed at per configuration and measurement (default 1)\n"
             "  --set S.K=V      config override, as for `twingyre run` (repeatable)\n"
-            "The model: two layers, double-gyre wind, noise initial state (config defaults).\n");
+            "  --numpy FILE     the NumPy model to compare the periodic step with (run with\n"
+            "                   /usr/bin/python3 FILE P)\n"
+            "  --throughput CONFIG:DAYS:SPINUP_DAYS  model years per hour of `twingyre run\n"
+            "                   CONFIG` over DAYS from a cached state spun up for SPINUP_DAYS\n"
+            "                   (repeatable); fixed and adaptive steps, 1 and 2 threads, quiet\n"
+            "                   and with one busy process per CPU\n"
+            "  --program PATH   the twingyre executable (default ./twingyre)\n"
+            "  --cache DIR      spun-up states (default $XDG_CACHE_HOME/twingyre-bench, else\n"
+            "                   $HOME/.cache/twingyre-bench)\n"
+            "  --scratch DIR    output of the timed runs (default $TMPDIR or /tmp)\n"
+            "  --adaptive-set S.K=V  what selects adaptive steps (default\n"
+            "                   time.step_choice=adaptive)\n"
+            "The model: two layers, double-gyre wind (basin) or no wind (periodic), noise\n"
+            "initial state (config defaults otherwise).\n");
 }
 
 static int parse_list(const char *s, int *out, int *n, const char *what)
 {
     *n = 0;
+    if (!strcmp(s, "none") && strcmp(what, "--threads") != 0)
+        return 0;
     const char *p = s;
     while (*p) {
         char *end;
@@ -190,8 +226,21 @@ static int parse_int(const char *s, int lo, int *out, const char *what)
 
 static int parse_args(int argc, char **argv, options *o)
 {
-    *o = (options){.sizes = {129, 257, 513}, .nsizes = 3, .threads = {1, 2}, .nthreads = 2,
-                   .steps = 0, .warmup = 2, .seconds = 1.0};
+    *o = (options){.sizes = {129, 257, 513}, .nsizes = 3, .psizes = {512}, .npsizes = 1,
+                   .threads = {1, 2}, .nthreads = 2, .steps = 0, .warmup = 2, .seconds = 1.0};
+    o->tp.program = "./twingyre";
+    o->tp.adaptive_set = "time.step_choice=adaptive";
+    o->tp.threads[0] = 1;
+    o->tp.threads[1] = 2;
+    static char cache[4096];
+    const char *xdg = getenv("XDG_CACHE_HOME"), *home = getenv("HOME");
+    if (xdg && *xdg)
+        snprintf(cache, sizeof cache, "%s/twingyre-bench", xdg);
+    else
+        snprintf(cache, sizeof cache, "%s/.cache/twingyre-bench", home && *home ? home : "/tmp");
+    o->tp.cache = cache;
+    const char *tmp = getenv("TMPDIR");
+    o->tp.scratch = tmp && *tmp ? tmp : "/tmp";
     for (int a = 1; a < argc; a++) {
         const char *opt = argv[a];
         if (!strcmp(opt, "--help") || !strcmp(opt, "-h")) {
@@ -206,6 +255,26 @@ static int parse_args(int argc, char **argv, options *o)
         if (!strcmp(opt, "--sizes")) {
             if (parse_list(val, o->sizes, &o->nsizes, "--sizes"))
                 return -1;
+        } else if (!strcmp(opt, "--periodic-sizes")) {
+            if (parse_list(val, o->psizes, &o->npsizes, "--periodic-sizes"))
+                return -1;
+        } else if (!strcmp(opt, "--numpy")) {
+            o->numpy = val;
+        } else if (!strcmp(opt, "--throughput")) {
+            if (o->tp.nconfigs == TP_MAX_CONFIGS) {
+                fprintf(stderr, "tg-bench: at most %d --throughput configs\n", TP_MAX_CONFIGS);
+                return -1;
+            }
+            if (tp_parse_config(val, &o->tp.configs[o->tp.nconfigs++]))
+                return -1;
+        } else if (!strcmp(opt, "--program")) {
+            o->tp.program = val;
+        } else if (!strcmp(opt, "--cache")) {
+            o->tp.cache = val;
+        } else if (!strcmp(opt, "--scratch")) {
+            o->tp.scratch = val;
+        } else if (!strcmp(opt, "--adaptive-set")) {
+            o->tp.adaptive_set = val;
         } else if (!strcmp(opt, "--threads")) {
             if (parse_list(val, o->threads, &o->nthreads, "--threads"))
                 return -1;
@@ -238,14 +307,18 @@ static int parse_args(int argc, char **argv, options *o)
 }
 
 /* The configuration of one grid size; 0 or a tg_code with a message on stderr. */
-static int make_config(const options *o, int points, tg_config *cfg)
+static int make_config(const options *o, int points, int periodic, tg_config *cfg)
 {
     tg_status st;
     char buf[64];
     tg_config_defaults(cfg);
     const char *fixed[] = {"wind.profile=double_gyre", "initial.state=noise"};
-    for (size_t i = 0; i < sizeof fixed / sizeof fixed[0]; i++)
-        if (tg_config_set(cfg, fixed[i], &st) != TG_OK)
+    const char *fixed_p[] = {"grid.geometry=periodic", "wind.profile=none",
+                             "initial.state=noise"};
+    const char **f = periodic ? fixed_p : fixed;
+    const size_t nf = periodic ? 3 : 2;
+    for (size_t i = 0; i < nf; i++)
+        if (tg_config_set(cfg, f[i], &st) != TG_OK)
             goto fail;
     for (int i = 0; i < o->nsets; i++)
         if (tg_config_set(cfg, o->sets[i], &st) != TG_OK)
@@ -297,14 +370,18 @@ static int kit_make(kit *k, const tg_model *m, int threads, int *r2c_threads, ch
     tg_status st;
     memset(k, 0, sizeof *k);
     const int ns = m->geom->ns, n = ns - 2;
+    const int periodic = m->geom->kind == TG_GEOM_PERIODIC;
     const long npl = m->npl;
     k->ns = ns;
     k->nl = m->nl;
-    k->N = ns - 1;
-    k->dst = tg_dst_create(n, &st);
-    if (!k->dst) {
-        snprintf(msg, msglen, "transform set-up: %s", st.msg);
-        return -1;
+    /* basin: r2c of (points - 1)^2 values; periodic: of the P^2 points */
+    k->N = periodic ? ns - 2 : ns - 1;
+    if (!periodic) {
+        k->dst = tg_dst_create(n, &st);
+        if (!k->dst) {
+            snprintf(msg, msglen, "transform set-up: %s", st.msg);
+            return -1;
+        }
     }
     k->field = malloc(sizeof(double) * (size_t)npl);
     k->out = calloc((size_t)npl, sizeof(double));
@@ -343,6 +420,8 @@ static int kit_make(kit *k, const tg_model *m, int threads, int *r2c_threads, ch
 static double kit_dst_step(kit *k)
 {
     const int ns = k->ns;
+    if (!k->dst)
+        return 0.0;
     double t0 = now_s();
     for (int s = 0; s < 3; s++)
         for (int md = 0; md < k->nl; md++) {
@@ -375,6 +454,7 @@ static int run_config(const options *o, const tg_config *cfg, int threads, resul
     r->threads = threads;
     r->layers = cfg->nlayers;
     r->ndst = 6 * cfg->nlayers;
+    r->periodic = cfg->geometry == TG_GEOM_PERIODIC;
     r->rss_start_mb = maxrss_mb();
 
     tg_model *m = tg_model_create(cfg, &st);
@@ -412,7 +492,7 @@ static int run_config(const options *o, const tg_config *cfg, int threads, resul
     if (reps == 0)
         reps = (int)fmin(100000.0, fmax(5.0, ceil(o->seconds / (last + 1e-9))));
     r->steps = reps;
-    double *tv = malloc(sizeof(double) * 4 * (size_t)reps);
+    double *tv = malloc(sizeof(double) * 6 * (size_t)reps);
     if (!tv) {
         kit_free(&k);
         tg_model_destroy(m);
@@ -420,6 +500,7 @@ static int run_config(const options *o, const tg_config *cfg, int threads, resul
         return -1;
     }
     double *ts = tv, *td = tv + reps, *tf = tv + 2 * reps, *tr = tv + 3 * reps;
+    double *tsc = tv + 4 * reps, *trc = tv + 5 * reps; /* CPU times */
     double wall = 0.0, cpu = 0.0;
     int rc = 0;
     for (int s = 0; s < reps; s++) {
@@ -432,13 +513,16 @@ static int run_config(const options *o, const tg_config *cfg, int threads, resul
             break;
         }
         ts[s] = t1 - t0;
+        tsc[s] = c1 - c0;
         wall += t1 - t0;
         cpu += c1 - c0;
         t0 = now_s();
         tg_diag_compute(m, &diag);
         td[s] = now_s() - t0;
         tf[s] = kit_dst_step(&k);
+        const double rc0 = cpu_s();
         tr[s] = kit_r2c(&k);
+        trc[s] = (cpu_s() - rc0) / KIT_R2C_BATCH;
     }
     if (rc == 0 && (!isfinite(diag.max_cfl) || diag.max_cfl > cfg->max_cfl)) {
         snprintf(r->msg, sizeof r->msg, "the state blew up (max CFL %g)", diag.max_cfl);
@@ -450,6 +534,9 @@ static int run_config(const options *o, const tg_config *cfg, int threads, resul
         r->dst_step_ms = 1e3 * median(tf, reps);
         r->dst_ms = r->dst_step_ms / r->ndst;
         r->r2c_ms = 1e3 * median(tr, reps);
+        r->step_cpu_ms = 1e3 * median(tsc, reps);
+        r->r2c_cpu_ms = 1e3 * median(trc, reps);
+        r->tr_step_ms = r->periodic ? r->ndst * r->r2c_ms : r->dst_step_ms;
         r->cpu_per_wall = wall > 0.0 ? cpu / wall : 0.0;
         r->max_cfl = diag.max_cfl;
         r->ok = 1;
@@ -556,77 +643,148 @@ static void target_line(const char *what, const char *conf, double v, const char
            unsure ? " (CPUs were busy: unsure)" : "");
 }
 
+/* The NumPy model's ms per step at P points (/usr/bin/python3 FILE P), or
+ * -1. With cpu, the script's clock (time.perf_counter) is replaced by the
+ * process's CPU time (time.process_time) before it runs, so that it reports
+ * CPU ms per step. */
+static double numpy_step_ms(const char *file, int P, int cpu)
+{
+    char cmd[4400], line[512];
+    if (cpu)
+        snprintf(cmd, sizeof cmd,
+                 "/usr/bin/python3 -c 'import runpy, sys, time; "
+                 "time.perf_counter = time.process_time; sys.argv = sys.argv[1:]; "
+                 "runpy.run_path(sys.argv[0], run_name=\"__main__\")' '%s' %d", file, P);
+    else
+        snprintf(cmd, sizeof cmd, "/usr/bin/python3 '%s' %d", file, P);
+    fflush(NULL);
+    FILE *f = popen(cmd, "r");
+    if (!f)
+        return -1.0;
+    double ms = -1.0;
+    while (fgets(line, sizeof line, f)) {
+        const char *c = strrchr(line, ':');
+        double v;
+        if (c && strstr(c, "ms/step") && sscanf(c + 1, "%lf", &v) == 1)
+            ms = v;
+    }
+    if (pclose(f) != 0)
+        return -1.0;
+    return ms;
+}
+
 int main(int argc, char **argv)
 {
+    cli_wait_policy(argv);
     options o;
     if (parse_args(argc, argv, &o) != 0)
         return 1;
 
-    tg_config cfgs[MAX_LIST];
-    for (int s = 0; s < o.nsizes; s++) {
-        int rc = make_config(&o, o.sizes[s], &cfgs[s]);
+    /* The configurations: basin sizes, then periodic sizes. */
+    const int nsz = o.nsizes + o.npsizes;
+    tg_config cfgs[2 * MAX_LIST];
+    for (int s = 0; s < nsz; s++) {
+        const int periodic = s >= o.nsizes;
+        int rc = make_config(&o, periodic ? o.psizes[s - o.nsizes] : o.sizes[s], periodic,
+                             &cfgs[s]);
         if (rc)
             return rc == TG_ERR_USAGE ? 1 : 2;
     }
 
-    const int nconf = o.nsizes * o.nthreads;
-    result *res = calloc((size_t)nconf, sizeof *res);
+    const int nconf = nsz * o.nthreads;
+    result *res = calloc((size_t)(nconf > 0 ? nconf : 1), sizeof *res);
     if (!res) {
         fprintf(stderr, "tg-bench: no memory\n");
         return 7;
     }
-    const tg_config *c0 = &cfgs[0];
-    printf("tg-bench: %d layers, %s wind, noise initial state (r.m.s. %g m2/s, seed %llu), "
-           "step %g s, %d warm-up step%s; %d CPU%s online\n",
-           c0->nlayers,
-           c0->wind_profile == TG_WIND_DOUBLE_GYRE   ? "double-gyre"
-           : c0->wind_profile == TG_WIND_SINGLE_GYRE ? "single-gyre"
-                                                     : "no",
-           c0->noise_amplitude_m2_per_s,
-           (unsigned long long)c0->seed, c0->step_s, o.warmup, o.warmup == 1 ? "" : "s",
-           (int)sysconf(_SC_NPROCESSORS_ONLN),
-           sysconf(_SC_NPROCESSORS_ONLN) == 1 ? "" : "s");
-    printf("one child process per configuration; times are medians over the repetitions\n");
-    const double load0 = load_average();
+    const char *wp = getenv("OMP_WAIT_POLICY"), *sc = getenv("GOMP_SPINCOUNT");
+    printf("tg-bench: %d CPU%s online; OpenMP waiting threads: OMP_WAIT_POLICY=%s%s%s\n",
+           (int)sysconf(_SC_NPROCESSORS_ONLN), sysconf(_SC_NPROCESSORS_ONLN) == 1 ? "" : "s",
+           wp ? wp : "(unset)", sc ? ", GOMP_SPINCOUNT=" : "", sc ? sc : "");
+    if (nsz > 0) {
+        const tg_config *c0 = &cfgs[0];
+        printf("step table: %d layers, double-gyre wind (basin) or none (periodic), noise "
+               "initial state (r.m.s. %g m2/s, seed %llu), step %g s, %d warm-up step%s\n",
+               c0->nlayers, c0->noise_amplitude_m2_per_s, (unsigned long long)c0->seed,
+               c0->step_s, o.warmup, o.warmup == 1 ? "" : "s");
+        printf("one child process per configuration; times are medians over the repetitions\n");
+    }
+    const double load0 = tp_load_average();
     if (load0 >= 0.0)
         printf("load average before: %.2f\n", load0);
     printf("\n");
 
     int failures = 0, k = 0;
-    for (int s = 0; s < o.nsizes; s++)
+    for (int s = 0; s < nsz; s++)
         for (int t = 0; t < o.nthreads; t++, k++) {
-            fprintf(stderr, "tg-bench: running %d^2 points, %d thread%s ...\n", o.sizes[s],
-                    o.threads[t], o.threads[t] == 1 ? "" : "s");
+            const int periodic = s >= o.nsizes;
+            const int numpy = periodic && o.numpy && o.threads[t] == 1;
+            fprintf(stderr, "tg-bench: running %d^2 points%s, %d thread%s ...\n",
+                    cfgs[s].points, periodic ? " (periodic)" : "", o.threads[t],
+                    o.threads[t] == 1 ? "" : "s");
+            double np0 = numpy ? numpy_step_ms(o.numpy, cfgs[s].points, 0) : -1.0;
+            double npc = numpy ? numpy_step_ms(o.numpy, cfgs[s].points, 1) : -1.0;
             if (fork_config(&o, &cfgs[s], o.threads[t], &res[k]) != 0) {
-                fprintf(stderr, "tg-bench: %d^2 points, %d threads: %s\n", o.sizes[s],
+                fprintf(stderr, "tg-bench: %d^2 points, %d threads: %s\n", cfgs[s].points,
                         o.threads[t], res[k].msg);
                 failures++;
             }
+            double np1 = numpy ? numpy_step_ms(o.numpy, cfgs[s].points, 0) : -1.0;
+            if (numpy && (np0 <= 0.0 || np1 <= 0.0 || npc <= 0.0)) {
+                fprintf(stderr, "tg-bench: the NumPy model %s did not give a time\n", o.numpy);
+            } else if (numpy) {
+                res[k].numpy_ms = fmin(np0, np1);
+                res[k].numpy_cpu_ms = npc;
+            }
         }
 
-    /* The figures. */
-    printf("%6s %3s %6s %9s %8s %10s %8s %8s %8s %7s %8s %8s %8s\n", "points", "thr", "steps",
-           "step ms", "diag ms", "DST ms", "step/DST", "DST ms", "r2c ms", "DST/r2c",
-           "peak MB", "speed-up", "cpu/wall");
-    printf("%6s %3s %6s %9s %8s %10s %8s %8s %8s %7s %8s %8s %8s\n", "", "", "", "", "",
-           "(per step)", "", "(one)", "(one)", "", "", "vs 1 thr", "");
+    if (nconf > 0) {
+        /* The figures. */
+        printf("%-9s %3s %6s %9s %8s %10s %8s %8s %8s %7s %8s %8s %8s\n", "points", "thr",
+               "steps", "step ms", "diag ms", "transf ms", "step/tr", "DST ms", "r2c ms",
+               "DST/r2c", "peak MB", "speed-up", "cpu/wall");
+        printf("%-9s %3s %6s %9s %8s %10s %8s %8s %8s %7s %8s %8s %8s\n", "", "", "", "", "",
+               "(per step)", "", "(one)", "(one)", "", "", "vs 1 thr", "");
+    }
     for (int i = 0; i < nconf; i++) {
         const result *r = &res[i];
+        char pts[16];
+        snprintf(pts, sizeof pts, "%d%s", r->points, r->periodic ? " per" : "");
         if (!r->ok) {
-            printf("%6d %3d   failed: %s\n", r->points, r->threads, r->msg);
+            printf("%-9s %3d   failed: %s\n", pts, r->threads, r->msg);
             continue;
         }
         const result *one = find(res, nconf, r->points, 1);
         char sp[16] = "-";
         if (one && r->threads != 1)
             snprintf(sp, sizeof sp, "%.2f", one->step_ms / r->step_ms);
-        char r2c[24];
+        char r2c[24], dst[16] = "-", dr[16] = "-";
         snprintf(r2c, sizeof r2c, "%.3f%s", r->r2c_ms, r->r2c_threads != r->threads ? "*" : "");
-        printf("%6d %3d %6d %9.3f %8.3f %10.3f %8.2f %8.3f %8s %7.2f %8.1f %8s %7.2f%s\n",
-               r->points, r->threads, r->steps, r->step_ms, r->diag_ms, r->dst_step_ms,
-               r->step_ms / r->dst_step_ms, r->dst_ms, r2c, r->dst_ms / r->r2c_ms,
-               r->rss_peak_mb, sp, r->cpu_per_wall, starved(r) ? "!" : "");
+        if (!r->periodic) {
+            snprintf(dst, sizeof dst, "%.3f", r->dst_ms);
+            snprintf(dr, sizeof dr, "%.2f", r->dst_ms / r->r2c_ms);
+        }
+        printf("%-9s %3d %6d %9.3f %8.3f %10.3f %8.2f %8s %8s %7s %8.1f %8s %7.2f%s\n", pts,
+               r->threads, r->steps, r->step_ms, r->diag_ms, r->tr_step_ms,
+               r->step_ms / r->tr_step_ms, dst, r2c, dr, r->rss_peak_mb, sp, r->cpu_per_wall,
+               starved(r) ? "!" : "");
     }
+    for (int i = 0; i < nconf; i++)
+        if (res[i].ok && res[i].periodic && res[i].threads == 1)
+            printf("periodic %d^2, one thread, in CPU time (truer on a busy machine): step %.3f "
+                   "ms, %d r2c %.3f ms, ratio %.2f\n", res[i].points, res[i].step_cpu_ms,
+                   res[i].ndst, res[i].ndst * res[i].r2c_cpu_ms,
+                   res[i].step_cpu_ms / (res[i].ndst * res[i].r2c_cpu_ms));
+    for (int i = 0; i < nconf; i++)
+        if (res[i].ok && res[i].numpy_cpu_ms > 0.0)
+            printf("NumPy model, %d^2, in CPU time: %.2f ms per step, %.1f times the periodic "
+                   "step\n", res[i].points, res[i].numpy_cpu_ms,
+                   res[i].numpy_cpu_ms / res[i].step_cpu_ms);
+    for (int i = 0; i < nconf; i++)
+        if (res[i].ok && res[i].numpy_ms > 0.0)
+            printf("NumPy model (%s), %d^2, one thread: %.2f ms per step, %.1f times the "
+                   "periodic step\n", o.numpy, res[i].points, res[i].numpy_ms,
+                   res[i].numpy_ms / res[i].step_ms);
     int any_star = 0;
     double start_mb = 0.0;
     for (int i = 0; i < nconf; i++)
@@ -634,36 +792,39 @@ int main(int argc, char **argv)
             start_mb = res[i].rss_start_mb;
     for (int i = 0; i < nconf; i++)
         any_star |= res[i].ok && res[i].r2c_threads != res[i].threads;
-    printf("\nstep ms: one tg_step (3 RK stages, with budget rates); diag ms: the per-step "
-           "tg_diag_compute a run adds.\n"
-           "DST/step: the %d sine transforms of one step (3 stages x %d modes x forward + "
-           "inverse), timed alone.\n"
-           "r2c: FFTW 2-D real-to-complex of (points-1)^2 values, FFTW_ESTIMATE.\n"
-           "peak MB: ru_maxrss of the child after the warm-up, before the benchmark's own "
-           "arrays (before the\n  model: %.1f MB or less).\n"
-           "Each repetition times one step, the diagnostics, the transforms and a batch of "
-           "r2c in turn.\n"
-           "cpu/wall: process CPU time over wall time in the timed steps; ! = below 0.9 x "
-           "threads: the threads\n  waited for CPUs that other processes held, and the "
-           "row's times are too slow\n  (a quiet machine, or OMP_WAIT_POLICY=passive when CPUs are "
-           "shared, gives truer figures).\n",
-           res[0].ok ? res[0].ndst : 6 * c0->nlayers, c0->nlayers, start_mb);
+    if (nconf > 0)
+        printf("\nstep ms: one tg_step (3 RK stages, with budget rates); diag ms: the per-step "
+               "tg_diag_compute a run adds.\n"
+               "transf ms: the transforms of one step, timed alone: basin, the %d sine "
+               "transforms (3 stages x\n  %d modes x forward + inverse); periodic (\"per\"), "
+               "%d times one r2c. step/tr: step ms / transf ms.\n"
+               "r2c: FFTW 2-D real-to-complex of (points-1)^2 (basin) or points^2 (periodic) "
+               "values, FFTW_ESTIMATE.\n"
+               "peak MB: ru_maxrss of the child after the warm-up, before the benchmark's own "
+               "arrays (before the\n  model: %.1f MB or less).\n"
+               "Each repetition times one step, the diagnostics, the transforms and a batch of "
+               "r2c in turn.\n"
+               "cpu/wall: process CPU time over wall time in the timed steps; ! = below 0.9 x "
+               "threads: the threads\n  waited for CPUs that other processes held, and the "
+               "row's times are too slow.\n",
+               6 * cfgs[0].nlayers, cfgs[0].nlayers, 6 * cfgs[0].nlayers, start_mb);
     if (any_star)
         printf("* the FFTW reference ran on 1 thread (build with -DTG_BENCH_FFTW_OMP "
-               "-lfftw3_omp for a threaded one);\n  its DST/r2c target is judged on the "
+               "-lfftw3_omp for a threaded one);\n  its targets are judged on the "
                "1-thread rows only.\n");
 
-    const double load1 = load_average();
-    if (load1 >= 0.0)
+    const double load1 = tp_load_average();
+    if (load1 >= 0.0 && nconf > 0)
         printf("load average after: %.2f (it counts this program's own threads too)\n", load1);
 
     /* The targets. */
-    printf("\n%-40s %-14s %9s %8s  %s\n", "target", "configuration", "measured", "limit",
-           "status");
+    if (nconf > 0)
+        printf("\n%-40s %-14s %9s %8s  %s\n", "target", "configuration", "measured", "limit",
+               "status");
     char conf[32];
     for (int i = 0; i < nconf; i++) {
         const result *r = &res[i];
-        if (!r->ok || r->points != TARGET_STEP_POINTS)
+        if (!r->ok || r->periodic || r->points != TARGET_STEP_POINTS)
             continue;
         snprintf(conf, sizeof conf, "%d^2, %d thr", r->points, r->threads);
         double v = r->step_ms / r->dst_step_ms;
@@ -672,12 +833,32 @@ int main(int argc, char **argv)
     }
     for (int i = 0; i < nconf; i++) {
         const result *r = &res[i];
-        if (!r->ok || r->r2c_threads != r->threads)
+        if (!r->ok || r->periodic || r->r2c_threads != r->threads)
             continue;
         snprintf(conf, sizeof conf, "%d^2, %d thr", r->points, r->threads);
         double v = r->dst_ms / r->r2c_ms;
         target_line("2-D sine transform / same-size r2c FFT", conf, v, "<= 2.0",
                     v <= TARGET_DST_OVER_R2C, starved(r));
+    }
+    for (int i = 0; i < nconf; i++) {
+        const result *r = &res[i];
+        if (!r->ok || !r->periodic || r->threads != 1)
+            continue;
+        snprintf(conf, sizeof conf, "%d^2 per, 1 thr", r->points);
+        double v = r->step_ms / r->tr_step_ms;
+        target_line("periodic step / its r2c transforms", conf, v, "<= 2.5",
+                    v <= TARGET_PERIODIC_OVER_R2C, starved(r));
+        v = r->step_cpu_ms / (r->ndst * r->r2c_cpu_ms);
+        target_line("  the same, in CPU time", conf, v, "<= 2.5", v <= TARGET_PERIODIC_OVER_R2C,
+                    0);
+        if (r->numpy_ms > 0.0) {
+            v = r->numpy_ms / r->step_ms;
+            target_line("NumPy model step / periodic step", conf, v, ">= 10",
+                        v >= TARGET_NUMPY_OVER_STEP, starved(r));
+            v = r->numpy_cpu_ms / r->step_cpu_ms;
+            target_line("  the same, in CPU time", conf, v, ">= 10",
+                        v >= TARGET_NUMPY_OVER_STEP, 0);
+        }
     }
     for (int i = 0; i < nconf; i++) {
         const result *r = &res[i];
@@ -698,6 +879,9 @@ int main(int argc, char **argv)
                     starved(r) || starved(one));
     }
     free(res);
+    fflush(stdout);
+    if (o.tp.nconfigs > 0)
+        failures += tp_run(&o.tp);
     if (failures) {
         fprintf(stderr, "tg-bench: %d configuration%s failed\n", failures,
                 failures == 1 ? "" : "s");

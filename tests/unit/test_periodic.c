@@ -2,7 +2,8 @@
  * (src/model/geom_periodic.c) and its 2-D real FFT (src/numerics/fourier.c).
  *
  * Checks the forward transform against the DFT by direct summation, the
- * round trip, bitwise equality for 1 and 2 OpenMP threads, the grid tables
+ * round trip, bitwise equality for 1 and 2 OpenMP threads, the fused
+ * spectral multiplication (tg_fft2_apply) against the separate calls, the grid tables
  * and halo copies, the five-point Laplacian of Fourier modes, the Helmholtz
  * solve on manufactured discrete solutions, the conservation properties of
  * the Arakawa Jacobian in the periodic domain, and the Gaussian filter's
@@ -166,14 +167,21 @@ END_TEST
  * parallel runs. */
 static const int thread_sizes[] = {16, 64, 256};
 
-START_TEST(fft_threads_bitwise)
+/* A transform of P x P with buffers for two threads (the thread tests). */
+static tg_fft2 *fft_for_two_threads(int P)
 {
-    const int P = thread_sizes[_i], stride = P + 2;
-    const int saved = omp_get_max_threads();
     omp_set_num_threads(2);
     tg_status st;
     tg_fft2 *f = tg_fft2_create(P, &st);
     ck_assert_msg(f != NULL, "create failed: %s", st.msg);
+    return f;
+}
+
+START_TEST(fft_threads_bitwise)
+{
+    const int P = thread_sizes[_i], stride = P + 2;
+    const int saved = omp_get_max_threads();
+    tg_fft2 *f = fft_for_two_threads(P);
     const size_t nl = (size_t)tg_fft2_spec_len(f), nr = (size_t)P * stride;
     double *in = alloc0(nr), *s1 = alloc0(nl), *s2 = alloc0(nl), *o1 = alloc0(nr),
            *o2 = alloc0(nr);
@@ -198,6 +206,59 @@ START_TEST(fft_threads_bitwise)
     free(s2);
     free(o1);
     free(o2);
+    tg_fft2_destroy(f);
+}
+END_TEST
+
+/* tg_fft2_apply on two fields equals, bit for bit, forward transform,
+ * multiplication of each (re, im) by the factor and inverse transform,
+ * with 1 and 2 threads; it writes only the P x P blocks. Source: the
+ * contract of fourier.h (the fused pass does the same arithmetic). */
+START_TEST(fft_apply_bitwise)
+{
+    const int P = thread_sizes[_i], stride = P + 3, nc = P / 2 + 1;
+    const int saved = omp_get_max_threads();
+    tg_fft2 *f = fft_for_two_threads(P);
+    const size_t nl = (size_t)tg_fft2_spec_len(f), nr = (size_t)P * stride;
+    double *in = alloc0(2 * nr), *want = alloc0(2 * nr), *spec = alloc0(nl);
+    double *fac = alloc0(2 * (size_t)nc * P), *got[2] = {alloc0(2 * nr), alloc0(2 * nr)};
+    uint64_t seed = 77u;
+    for (size_t a = 0; a < 2 * nr; a++)
+        in[a] = next_uniform(&seed);
+    /* factors even in kx and ky: functions of kx and min(ky, P - ky) */
+    for (int m = 0; m < 2; m++)
+        for (int kx = 0; kx < nc; kx++)
+            for (int ky = 0; ky < P; ky++) {
+                const int ks = ky <= P / 2 ? ky : P - ky;
+                fac[(size_t)m * nc * P + (size_t)kx * P + ky] =
+                    1.0 / (1.0 + (m + 1) * (kx * kx + ks * ks));
+            }
+    for (int m = 0; m < 2; m++) {
+        memcpy(want + m * nr, in + m * nr, nr * sizeof(double));
+        tg_fft2_forward(f, in + m * nr, stride, spec);
+        for (size_t k = 0; k < nl / 2; k++) {
+            spec[2 * k] *= fac[(size_t)m * nc * P + k];
+            spec[2 * k + 1] *= fac[(size_t)m * nc * P + k];
+        }
+        tg_fft2_inverse(f, spec, want + m * nr, stride);
+    }
+    const double *factors[2] = {fac, fac + (size_t)nc * P};
+    for (int t = 0; t < 2; t++) {
+        memcpy(got[t], in, 2 * nr * sizeof(double));
+        double *fields[2] = {got[t], got[t] + nr};
+        omp_set_num_threads(t + 1);
+        tg_fft2_apply(f, 2, fields, stride, factors);
+        ck_assert_msg(memcmp(got[t], want, 2 * nr * sizeof(double)) == 0,
+                      "P = %d, %d thread(s): apply differs from forward, product, inverse", P,
+                      t + 1);
+    }
+    omp_set_num_threads(saved);
+    free(in);
+    free(want);
+    free(spec);
+    free(fac);
+    free(got[0]);
+    free(got[1]);
     tg_fft2_destroy(f);
 }
 END_TEST
@@ -529,6 +590,8 @@ static Suite *periodic_suite(void)
                         (int)(sizeof direct_sizes / sizeof direct_sizes[0]));
     tcase_add_loop_test(tf, fft_round_trip, 0, (int)(sizeof trip_sizes / sizeof trip_sizes[0]));
     tcase_add_loop_test(tf, fft_threads_bitwise, 0,
+                        (int)(sizeof thread_sizes / sizeof thread_sizes[0]));
+    tcase_add_loop_test(tf, fft_apply_bitwise, 0,
                         (int)(sizeof thread_sizes / sizeof thread_sizes[0]));
     tcase_add_test(tf, fft_rejects_bad_sizes);
     suite_add_tcase(s, tf);
