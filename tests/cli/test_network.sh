@@ -23,11 +23,12 @@
 #   - training: scripts/train-network on a small twin gives a held-out
 #     R^2 above zero in every layer; `[twin] compare = network:FILE.pt`
 #     runs it with skill rows labelled network-NAME (a missing or broken
-#     network file there exits 2 before the reference runs); its vet at the twin's
-#     coarse resolution runs and its online checks (stable at the configured
-#     step and up to the required multiplier) pass. The linear check around
-#     the reference state is printed, not required: trained networks have
-#     failed it (README, "Training a network closure").
+#     network file there exits 2 before the reference runs); its vet at the
+#     twin's coarse resolution, with vet's default 30-day window, passes every
+#     check, the linear check around the reference state included (the
+#     network trained with train-network's default weight decay, AdamW:
+#     Loshchilov & Hutter 2019, ICLR; the same twin's network trained with
+#     --decay 0 fails that check, e-folding in about 65 days).
 # Skips (77) in a build without libtorch unless TG_REQUIRE_TORCH=1.
 #
 # Environment: TWINGYRE, TG_SRCDIR, PYTHON, TG_TEST_TMPDIR, TG_TORCH_BUILT.
@@ -220,20 +221,20 @@ fi
 with netCDF4.Dataset(sys.argv[1]) as d: sys.stdout.write(d.getncattr("resolved_config"))' \
     tw/coarse-none/fields.nc >coarse.ini
 tg vet coarse.ini --out vet_small --set closure.use=network --set "network.file=$T/small.pt" \
-    --set "vet.reference_state=$T/tw/coarse_start.nc" --set vet.window_days=10 \
-    --set vet.step_factors=1 --set vet.multipliers=1,2 --set vet.finer_grid=no
-cat >online.py <<'PY'
+    --set "vet.reference_state=$T/tw/coarse_start.nc" --set vet.step_factors=1 \
+    --set vet.multipliers=1,2 --set vet.finer_grid=no
+cat >vetall.py <<'PY'
 import json, sys
 d = json.load(open(sys.argv[1]))
 v = {c["name"]: c["verdict"] for c in d["checks"]}
-for n in ("online", "stability_margin"):
+for n in ("linear_growth_reference", "online", "stability_margin"):
     assert v.get(n) == "pass", "%s: %s" % (n, v.get(n))
-print("linear check around the reference: " + v.get("linear_growth_reference", "?"))
+print("linear growth around the reference: pass")
 PY
-if { [ "$rc" -eq 0 ] || [ "$rc" -eq 9 ]; } && py online.py vet_small/vet.json; then
-    ok "vet of the trained network at the coarse resolution: online checks pass ($(cat py))"
+if [ "$rc" -eq 0 ] && py vetall.py vet_small/vet.json; then
+    ok "vet of the trained network at the coarse resolution: every check passes ($(cat py))"
 else
-    notok "vet of the trained network at the coarse resolution: online checks pass" \
+    notok "vet of the trained network at the coarse resolution: every check passes" \
         "$(err_tail)" "$(cat py)" "$(grep -E 'FAIL|verdict' out)"
 fi
 finish
