@@ -85,17 +85,17 @@ static tg_code entry_label(const tg_config *coarse, const char *use, const char 
     return rc;
 }
 
-/* The label of a fitted-file entry "coefficients:PATH": "coefficients-"
- * and the file's name without its directory and last extension, with any
- * character other than letters, digits, '-', '_' and '.' replaced by '_'
- * (it names the coarse run's directory). */
-static void fitted_label(const char *path, char *label, size_t n)
+/* The label of a file entry "coefficients:PATH" or "network:PATH": the
+ * scheme, '-', and the file's name without its directory and last
+ * extension, with any character other than letters, digits, '-', '_' and
+ * '.' replaced by '_' (it names the coarse run's directory). */
+static void fitted_label(const char *scheme, const char *path, char *label, size_t n)
 {
     const char *b = strrchr(path, '/');
     b = b ? b + 1 : path;
     const char *dot = strrchr(b, '.');
     size_t len = (dot && dot > b) ? (size_t)(dot - b) : strlen(b);
-    int w = snprintf(label, n, "coefficients-");
+    int w = snprintf(label, n, "%s-", scheme);
     for (size_t i = 0; i < len && (size_t)w + 1 < n; i++) {
         char ch = b[i];
         int okc = (ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z') ||
@@ -135,8 +135,9 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
         memset(cl, 0, sizeof *cl);
         snprintf(cl->use, sizeof cl->use, "%.*s", TG_RAW_TEXT - 1, entries[i]);
         char fitted[TG_PATH_LEN];
-        if (tg_config_fitted_entry(cfg, entries[i], fitted, sizeof fitted))
-            fitted_label(fitted, cl->label, sizeof cl->label);
+        const char *is_fitted = tg_config_fitted_entry(cfg, entries[i], fitted, sizeof fitted);
+        if (is_fitted)
+            fitted_label(is_fitted, fitted, cl->label, sizeof cl->label);
         else if ((rc = entry_label(&c->coarse, entries[i], origin, cl->label, sizeof cl->label,
                                    st)) != TG_OK)
             return tg_fail(st, rc, "[twin] compare: %s", st->msg);
@@ -148,6 +149,15 @@ static tg_code prepare(twin_ctx *c, const tg_config *cfg, const char *origin, tg
         if ((rc = tg_config_twin_entry(cfg, &c->coarse, entries[i], cc, st)) != TG_OK ||
             (rc = tg_closure_keep_used(cc, origin, used, TG_MAX_CLOSURES, &nused, st)) != TG_OK)
             return tg_fail(st, rc, "the coarse run with closure %s: %s", cl->label, st->msg);
+        if (is_fitted && !strcmp(is_fitted, "network")) {
+            /* A network is loaded and tried on the coarse grid now, not after
+             * the reference has run. */
+            tg_model *m = tg_model_create(cc, st);
+            if (!m)
+                return tg_fail(st, st->code, "the coarse run with closure %s: %s", cl->label,
+                               st->msg);
+            tg_model_destroy(m);
+        }
     }
     return TG_OK;
 }

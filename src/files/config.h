@@ -283,15 +283,17 @@ int tg_config_twin_entries(const tg_config *base, char entries[][TG_RAW_TEXT]);
 
 /* The coarse run of one entry: coarse with [closure] use = entry, or for
  * "coefficients:PATH" use = coefficients with [coefficients] file = PATH
- * resolved against the config's directory. */
+ * resolved against the config's directory ("network:PATH" likewise). */
 tg_code tg_config_twin_entry(const tg_config *base, const tg_config *coarse, const char *entry,
                              tg_config *out, tg_status *st);
 
 /* A [twin] compare entry "coefficients:PATH" names a coefficients file
- * (e.g. from `twingyre fit`) to run with the closure `coefficients`.
- * Returns 1 for such an entry and writes PATH resolved against the config
- * file's directory (cfg->config_dir; absolute paths unchanged), else 0. */
-int tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n);
+ * (e.g. from `twingyre fit`) to run with the closure `coefficients`;
+ * "network:PATH" a TorchScript file (scripts/train-network) for the closure
+ * `network`. For such an entry returns the scheme's name (whose key `file`
+ * takes PATH) and writes PATH resolved against the config file's directory
+ * (cfg->config_dir; absolute paths unchanged), else NULL. */
+const char *tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n);
 
 /* Prints the reference table (Markdown) used in README. */
 void tg_config_print_reference(FILE *out);

@@ -315,7 +315,8 @@ const key_row tg_cfg_rows[K_COUNT] = {
         .info = {"twin", "compare", "", "text", "none",
                  "comma-separated closure names (`twingyre closures`), plugin:PATH.so, "
                  "coefficients:FILE (a fitted coefficients file, relative to the config's "
-                 "directory) or none; at most 7 besides none",
+                 "directory), network:FILE.pt (a trained network) or none; at most 7 besides "
+                 "none",
                  "closures of the coarse runs, one coarse run each; none (no closure) is always run"},
         .kind = V_TEXT, .off = OFF(twin_compare),
         .expect = "a comma-separated list of closure names"},

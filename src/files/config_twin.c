@@ -98,19 +98,25 @@ static int whole_multiple(double x, double unit, long *n)
     return fabs(r - k) <= 1e-9 * fmax(1.0, fabs(r));
 }
 
-int tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n)
+const char *tg_config_fitted_entry(const tg_config *cfg, const char *entry, char *path, size_t n)
 {
-    static const char prefix[] = "coefficients:";
-    if (strncmp(entry, prefix, sizeof prefix - 1) != 0)
-        return 0;
-    const char *p = entry + sizeof prefix - 1;
-    while (isspace((unsigned char)*p))
-        p++;
-    if (p[0] == '/' || p[0] == '\0' || cfg->config_dir[0] == '\0')
-        snprintf(path, n, "%s", p);
-    else
-        snprintf(path, n, "%s/%s", cfg->config_dir, p);
-    return 1;
+    /* Prefix and the scheme that reads the file through its key `file`. */
+    static const char *const kinds[2][2] = {{"coefficients:", "coefficients"},
+                                            {"network:", "network"}};
+    for (int k = 0; k < 2; k++) {
+        const size_t len = strlen(kinds[k][0]);
+        if (strncmp(entry, kinds[k][0], len) != 0)
+            continue;
+        const char *p = entry + len;
+        while (isspace((unsigned char)*p))
+            p++;
+        if (p[0] == '/' || p[0] == '\0' || cfg->config_dir[0] == '\0')
+            snprintf(path, n, "%s", p);
+        else
+            snprintf(path, n, "%s/%s", cfg->config_dir, p);
+        return kinds[k][1];
+    }
+    return NULL;
 }
 
 tg_code tg_config_twin_reference(const tg_config *base, const char *origin, tg_config *out,
@@ -181,9 +187,9 @@ tg_code tg_config_twin_entry(const tg_config *base, const tg_config *coarse, con
                              tg_config *out, tg_status *st)
 {
     char fitted[TG_PATH_LEN], a[TG_PATH_LEN + 32];
-    const int is_fitted = tg_config_fitted_entry(base, entry, fitted, sizeof fitted);
+    const char *is_fitted = tg_config_fitted_entry(base, entry, fitted, sizeof fitted);
     *out = *coarse;
-    snprintf(a, sizeof a, "closure.use=%.*s", TG_RAW_TEXT - 1, is_fitted ? "coefficients" : entry);
+    snprintf(a, sizeof a, "closure.use=%.*s", TG_RAW_TEXT - 1, is_fitted ? is_fitted : entry);
     tg_code rc = tg_config_set(out, a, st);
     if (rc != TG_OK || !is_fitted)
         return rc;
@@ -191,7 +197,7 @@ tg_code tg_config_twin_entry(const tg_config *base, const tg_config *coarse, con
     if (strlen(fitted) >= TG_RAW_TEXT - 1)
         return tg_fail(st, TG_ERR_CONFIG, "[twin] compare: '%s': path longer than %d characters",
                        entry, TG_RAW_TEXT - 2);
-    snprintf(a, sizeof a, "coefficients.file=%s", fitted);
+    snprintf(a, sizeof a, "%s.file=%s", is_fitted, fitted);
     return tg_config_set(out, a, st);
 }
 
@@ -224,12 +230,13 @@ static tg_code compare_rules(const tg_config *base, const char *origin, tg_statu
                 return tg_cfg_key_fail(base, K_TWIN_COMPARE, origin, st, "'%s' is listed twice",
                                        name);
         char fitted[TG_PATH_LEN];
-        if (tg_config_fitted_entry(base, name, fitted, sizeof fitted)) {
+        const char *scheme = tg_config_fitted_entry(base, name, fitted, sizeof fitted);
+        if (scheme && (fitted[0] == '\0' || name[strlen(name) - 1] == ':'))
+            return tg_cfg_key_fail(base, K_TWIN_COMPARE, origin, st,
+                                   "entry %d: %s: needs a file, e.g. %s:fitted.%s", item, scheme,
+                                   scheme, strcmp(scheme, "network") ? "txt" : "pt");
+        if (scheme && !strcmp(scheme, "coefficients")) {
             /* A coefficients file: it must load for this many layers. */
-            if (fitted[0] == '\0' || name[strlen(name) - 1] == ':')
-                return tg_cfg_key_fail(base, K_TWIN_COMPARE, origin, st,
-                                       "entry %d: coefficients: needs a file, e.g. "
-                                       "coefficients:fitted.txt", item);
             tg_status cs;
             tg_status_clear(&cs);
             if (!h)
@@ -240,6 +247,16 @@ static tg_code compare_rules(const tg_config *base, const char *origin, tg_statu
                                        "'%s': the coefficients file does not load: %s (relative "
                                        "paths are taken from the config file's directory)",
                                        name, cs.msg);
+        } else if (scheme) {
+            /* A network file: twin.c loads it with the coarse grid before the
+             * reference runs; here it must at least open. */
+            FILE *f = fopen(fitted, "rb");
+            if (!f)
+                return tg_cfg_key_fail(base, K_TWIN_COMPARE, origin, st,
+                                       "'%s': cannot open the network file %s: %s (relative "
+                                       "paths are taken from the config file's directory)",
+                                       name, fitted, strerror(errno));
+            fclose(f);
         } else if (strcmp(name, "none") != 0 && strncmp(name, "plugin:", 7) != 0 &&
                    !tg_cfg_is_scheme(name)) {
             const char *names[64];

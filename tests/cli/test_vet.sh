@@ -38,7 +38,7 @@ tg_need_program
 base() { one_layer_basin; }
 
 {
-    base
+    one_layer_basin
     cat <<'EOF'
 
 [closure]
@@ -148,7 +148,7 @@ if [ -z "$dl" ]; then
 else
     so="$TG_BUILDDIR/tests/unit/.libs/$dl"
     {
-        base
+        one_layer_basin
         cat <<EOF
 
 [closure]
@@ -203,15 +203,15 @@ bad() { # NAME EXPECTED-STATUS PHRASE -- config in bad.ini
         notok "bad input ($1): exit $2, '$3', nothing written" "$(err_tail)"
     fi
 }
-{ base; printf '\n[closure]\nuse = viscosity\n\n[vet]\nmultipliers = 0.5, -1\n'; } >bad.ini
+{ one_layer_basin; printf '\n[closure]\nuse = viscosity\n\n[vet]\nmultipliers = 0.5, -1\n'; } >bad.ini
 bad multipliers 2 "bad.ini:29: [vet] multipliers"
-{ base; printf '\n[closure]\nuse = viscosity\n\n[vet]\nrequired_margin = 8\n'; } >bad.ini
+{ one_layer_basin; printf '\n[closure]\nuse = viscosity\n\n[vet]\nrequired_margin = 8\n'; } >bad.ini
 bad margin 2 "bad.ini:29: [vet] required_margin"
-{ base; printf '\n[closure]\nuse = viscosity\n\n[vet]\nreference_state = nowhere.nc\n'; } >bad.ini
+{ one_layer_basin; printf '\n[closure]\nuse = viscosity\n\n[vet]\nreference_state = nowhere.nc\n'; } >bad.ini
 bad reference 2 "bad.ini:29: [vet] reference_state: cannot open reference state file"
-{ base; printf '\n[vet]\nwindow_days = 5\n'; } >bad.ini
+{ one_layer_basin; printf '\n[vet]\nwindow_days = 5\n'; } >bad.ini
 bad no_closure 2 "vet needs a closure"
-{ base; printf '\n[closure]\nuse = viscosity\n\n[vet]\nwindow_dayz = 5\n'; } >bad.ini
+{ one_layer_basin; printf '\n[closure]\nuse = viscosity\n\n[vet]\nwindow_dayz = 5\n'; } >bad.ini
 bad unknown_key 2 "did you mean [vet] window_days"
 
 sum_before=$(cksum <vb/vet.json)

@@ -33,6 +33,7 @@
 #   calc EXPR       floating-point arithmetic (awk, %.17g)
 #   close_to GOT WANT RELTOL           |GOT - WANT| <= RELTOL |WANT|
 #   dir_state DIR   names and checksums of every file in DIR (or "absent")
+#   one_layer_basin the one-layer 33-point basin the vet, usability and network tests use
 #   small_basin POINTS [VISCOSITY [STEP_S]]   the start of the small invented
 #                   basin config the twin, fit and sweep tests share
 #   tiny_twin SPINUP_DAYS ANALYSIS_DAYS       a whole twin config on it

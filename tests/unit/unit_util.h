@@ -2,7 +2,8 @@
  * share: running the file's suite with every case and turning the result
  * into the exit status (0 when every case passed), optionally inside a
  * scratch folder made for the run and removed after it; a model made from a
- * config or the case fails with the set-up's message.
+ * config or the case fails with the set-up's message; the largest magnitude
+ * of a field.
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
@@ -10,6 +11,7 @@
 #define TG_UNIT_UTIL_H
 
 #include <check.h>
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -24,6 +26,17 @@ static inline tg_model *tg_unit_model(const tg_config *cfg)
     tg_model *m = tg_model_create(cfg, &st);
     ck_assert_msg(m != NULL, "model: %s", st.msg);
     return m;
+}
+
+/* max over the active nodes of layer k of |f| (f: m's layout). */
+static inline double tg_unit_max_abs(const tg_model *m, const double *f, int k)
+{
+    const tg_geometry *g = m->geom;
+    double r = 0.0;
+    for (int j = g->a0; j < g->a1; j++)
+        for (int i = g->a0; i < g->a1; i++)
+            r = fmax(r, fabs(f[k * m->npl + (long)j * g->ns + i]));
+    return r;
 }
 
 /* Runs s (and frees it with its runner); 1 when a case failed, else 0.
