@@ -534,40 +534,14 @@ static tg_code check_keys(const tg_sweep *sw, const tg_config *base, tg_status *
     return rc;
 }
 
-tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_status *st)
+/* The [sweep] keys of the file: base (relative to the sweep file), combine
+ * and the output folder (--out, [sweep] directory or NAME-output). */
+static tg_code sweep_settings(sweep_ctx *c, const char *path, const char *out_dir,
+                              tg_status *st)
 {
-    *out = NULL;
-    char *buf = NULL;
-    size_t len = 0;
-    tg_code rc = tg_read_text(path, "sweep file", TG_SWEEP_FILE_MAX, &buf, &len, st);
-    if (rc != TG_OK)
-        return rc;
-    tg_sweep *sw = calloc(1, sizeof *sw);
-    sweep_ctx *c = calloc(1, sizeof *c);
-    if (!sw || !c) {
-        free(sw);
-        free(c);
-        free(buf);
-        return tg_fail(st, TG_ERR_NOMEM, "out of memory reading sweep file '%s'", path);
-    }
-    snprintf(sw->path, sizeof sw->path, "%s", path);
-    sw->cluster.cpus_per_task = 1;
-    strcpy(sw->cluster.time_limit, "01:00:00");
-    strcpy(sw->cluster.collect_time_limit, "00:10:00");
-    strcpy(sw->cluster.job_name, "twingyre-sweep");
-    c->sw = sw;
-    c->last_axis = -1;
-    rc = tg_ini_lines_start(&c->lines, path, buf, len, st);
-    c->lines.allow_continuation = 1;
-    c->lines.header = sweep_header;
-    c->lines.header_user = c;
-    if (rc == TG_OK)
-        rc = tg_ini_lines_finish(&c->lines, ini_parse_stream(tg_ini_lines_read, &c->lines, on_pair, c),
-                                 st);
-    free(buf);
-
-    /* [sweep] keys. */
-    if (rc == TG_OK && c->base[0] == '\0')
+    tg_sweep *sw = c->sw;
+    tg_code rc = TG_OK;
+    if (c->base[0] == '\0')
         rc = tg_fail(st, TG_ERR_CONFIG, "%s: [sweep] base is required (the config every member "
                                         "starts from, relative to the sweep file)", path);
     if (rc == TG_OK && !resolve(path, c->base, sw->base, sizeof sw->base))
@@ -605,32 +579,36 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
         while (dl > 1 && sw->directory[dl - 1] == '/')
             sw->directory[--dl] = '\0';
     }
+    return rc;
+}
 
-    /* Axes: [vary] keys first, then seeds, then members. */
-    if (rc == TG_OK) {
-        tg_sweep_axis *tmp = malloc(sizeof sw->axis);
-        if (!tmp) {
-            rc = tg_fail(st, TG_ERR_NOMEM, "out of memory reading sweep file '%s'", path);
-        } else {
-            int n = 0;
-            for (int pass = 0; pass < 3; pass++)
-                for (int a = 0; a < sw->naxes; a++)
-                    if ((int)sw->axis[a].kind == pass)
-                        tmp[n++] = sw->axis[a];
-            memcpy(sw->axis, tmp, sizeof sw->axis);
-            free(tmp);
-            sw->nkeys = 0;
-            for (int a = 0; a < sw->naxes; a++)
-                sw->nkeys += sw->axis[a].kind == TG_AXIS_KEY;
-            for (int a = 0; a < sw->nkeys; a++)
-                if (!strcmp(sw->axis[a].key, "initial.seed"))
-                    for (int b = sw->nkeys; b < sw->naxes; b++)
-                        if (sw->axis[b].kind == TG_AXIS_SEED)
-                            rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: [sweep] seeds and [vary] "
-                                         "initial.seed (line %d) both vary the seed; keep one",
-                                         path, sw->axis[b].line, sw->axis[a].line);
-        }
-    }
+/* Orders the axes ([vary] keys first, then seeds, then members), rejects a
+ * seed varied twice, a value listed twice and an empty sweep, and counts the
+ * members. */
+static tg_code sweep_axes(sweep_ctx *c, const char *path, tg_status *st)
+{
+    tg_sweep *sw = c->sw;
+    tg_code rc = TG_OK;
+    tg_sweep_axis *tmp = malloc(sizeof sw->axis);
+    if (!tmp)
+        return tg_fail(st, TG_ERR_NOMEM, "out of memory reading sweep file '%s'", path);
+    int n = 0;
+    for (int pass = 0; pass < 3; pass++)
+        for (int a = 0; a < sw->naxes; a++)
+            if ((int)sw->axis[a].kind == pass)
+                tmp[n++] = sw->axis[a];
+    memcpy(sw->axis, tmp, sizeof sw->axis);
+    free(tmp);
+    sw->nkeys = 0;
+    for (int a = 0; a < sw->naxes; a++)
+        sw->nkeys += sw->axis[a].kind == TG_AXIS_KEY;
+    for (int a = 0; a < sw->nkeys; a++)
+        if (!strcmp(sw->axis[a].key, "initial.seed"))
+            for (int b = sw->nkeys; b < sw->naxes; b++)
+                if (sw->axis[b].kind == TG_AXIS_SEED)
+                    rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: [sweep] seeds and [vary] "
+                                 "initial.seed (line %d) both vary the seed; keep one",
+                                 path, sw->axis[b].line, sw->axis[a].line);
     /* A value twice on a crossed axis would make two identical members. */
     for (int a = 0; a < sw->naxes && rc == TG_OK; a++) {
         if (sw->combine == TG_SWEEP_ZIP && sw->axis[a].kind == TG_AXIS_KEY)
@@ -672,20 +650,23 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
     /* With only seeds/members there is nothing to zip. */
     if (rc == TG_OK && sw->combine == TG_SWEEP_ZIP && sw->nkeys == 0)
         sw->combine = TG_SWEEP_PRODUCT;
+    return rc;
+}
 
-    /* The base config, loaded once: it decides the kind and checks the keys. */
-    tg_config *base = rc == TG_OK ? malloc(sizeof *base) : NULL;
-    if (rc == TG_OK && !base)
-        rc = tg_fail(st, TG_ERR_NOMEM, "out of memory reading the base config %s", sw->base);
-    if (rc == TG_OK) {
-        tg_config_defaults(base);
-        tg_status bst;
-        tg_status_clear(&bst);
-        if (tg_config_load_file(base, sw->base, &bst) != TG_OK)
-            rc = tg_fail(st, bst.code, "%s:%d: [sweep] base: %s", path, c->line_base, bst.msg);
-        else
-            rc = apply_common(sw, base, st);
-    }
+/* Loads the base config once into base: it decides the kind of the members
+ * and takes [common]; a key both [common] and varied, and [sweep] members
+ * in a twin sweep, are errors. */
+static tg_code sweep_base(sweep_ctx *c, const char *path, tg_config *base, tg_status *st)
+{
+    tg_sweep *sw = c->sw;
+    tg_code rc = TG_OK;
+    tg_config_defaults(base);
+    tg_status bst;
+    tg_status_clear(&bst);
+    if (tg_config_load_file(base, sw->base, &bst) != TG_OK)
+        rc = tg_fail(st, bst.code, "%s:%d: [sweep] base: %s", path, c->line_base, bst.msg);
+    else
+        rc = apply_common(sw, base, st);
     /* A key both [common] and varied would be set twice. */
     for (int i = 0; i < sw->ncommon && rc == TG_OK; i++)
         for (int a = 0; a < sw->naxes && rc == TG_OK; a++) {
@@ -720,6 +701,50 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
             rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: [sweep] members: picks the noise of "
                          "stochastic closures in runs; a twin sets its ensemble with [twin] "
                          "members (vary twin.members instead)", path, sw->axis[a].line);
+    return rc;
+}
+
+tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_status *st)
+{
+    *out = NULL;
+    char *buf = NULL;
+    size_t len = 0;
+    tg_code rc = tg_read_text(path, "sweep file", TG_SWEEP_FILE_MAX, &buf, &len, st);
+    if (rc != TG_OK)
+        return rc;
+    tg_sweep *sw = calloc(1, sizeof *sw);
+    sweep_ctx *c = calloc(1, sizeof *c);
+    if (!sw || !c) {
+        free(sw);
+        free(c);
+        free(buf);
+        return tg_fail(st, TG_ERR_NOMEM, "out of memory reading sweep file '%s'", path);
+    }
+    snprintf(sw->path, sizeof sw->path, "%s", path);
+    sw->cluster.cpus_per_task = 1;
+    strcpy(sw->cluster.time_limit, "01:00:00");
+    strcpy(sw->cluster.collect_time_limit, "00:10:00");
+    strcpy(sw->cluster.job_name, "twingyre-sweep");
+    c->sw = sw;
+    c->last_axis = -1;
+    rc = tg_ini_lines_start(&c->lines, path, buf, len, st);
+    c->lines.allow_continuation = 1;
+    c->lines.header = sweep_header;
+    c->lines.header_user = c;
+    if (rc == TG_OK)
+        rc = tg_ini_lines_finish(&c->lines, ini_parse_stream(tg_ini_lines_read, &c->lines, on_pair, c),
+                                 st);
+    free(buf);
+
+    if (rc == TG_OK)
+        rc = sweep_settings(c, path, out_dir, st);
+    if (rc == TG_OK)
+        rc = sweep_axes(c, path, st);
+    tg_config *base = rc == TG_OK ? malloc(sizeof *base) : NULL;
+    if (rc == TG_OK && !base)
+        rc = tg_fail(st, TG_ERR_NOMEM, "out of memory reading the base config %s", sw->base);
+    if (rc == TG_OK)
+        rc = sweep_base(c, path, base, st);
     if (rc == TG_OK)
         rc = check_keys(sw, base, st);
     if (rc == TG_OK)
