@@ -830,19 +830,10 @@ static tg_code stochastic(const tg_config *cfg, int *flag, tg_status *st)
     return rc;
 }
 
-tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_report **rep,
-                   tg_status *st)
+/* The report's header: closure, grid, step, window and the sorted step
+ * factors and multipliers (1 among them). */
+static void report_start(tg_vet_report *r, const tg_config *cfg)
 {
-    *rep = NULL;
-    tg_code rc = tg_vet_validate(cfg, opt, st);
-    if (rc != TG_OK)
-        return rc;
-    const double t0 = tg_clock_s();
-    tg_vet_report *r = calloc(1, sizeof *r);
-    vet_ctx c = {.cfg = cfg, .opt = opt, .r = r};
-    tg_model *m = NULL;
-    if (!r)
-        return tg_fail(st, TG_ERR_NOMEM, "vet: no memory for the report");
     const tg_raw_entry *use = tg_config_raw(cfg, "closure", "use");
     snprintf(r->closure, sizeof r->closure, "%s", use ? use->value : "none");
     r->points = cfg->points;
@@ -854,84 +845,73 @@ tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_repor
     r->nmultipliers = with_one_sorted(cfg->vet_multipliers, cfg->n_vet_multipliers, r->multipliers);
     for (int i = 0; i < r->nfactors; i++)
         r->margin[i] = NAN;
-    const int finer = cfg->vet_finer_grid && next_finer_points(cfg) <= 4097;
-    c.nphases = (strcmp(cfg->vet_reference_state, "spinup") == 0) + 3 +
-                r->nfactors * (1 + r->nmultipliers) + (finer ? 1 + r->nmultipliers : 0);
+}
 
-    if (cfg->step_choice == TG_STEP_ADAPTIVE)
-        tg_log(TG_LOG_INFO, "vet: every run takes fixed steps (step_s times each step factor); "
-                            "[time] step_choice = adaptive does not apply");
-    if (!(m = tg_model_create(cfg, st))) {
-        rc = st->code;
-        goto done;
-    }
-    m->cfg.step_choice = TG_STEP_FIXED; /* time is step * dt, as in the variants */
-    c.nl = m->nl;
-    c.npl = m->npl;
-    c.nout = m->nout;
-    c.q_rest = malloc(sizeof(double) * (size_t)(m->nl * m->npl));
-    c.q_ref = malloc(sizeof(double) * (size_t)(m->nl * m->npl));
-    c.psi_ref_out = malloc(sizeof(double) * (size_t)m->nl * m->nout * m->nout);
-    if (!c.q_rest || !c.q_ref || !c.psi_ref_out) {
-        rc = tg_fail(st, TG_ERR_NOMEM, "vet: no memory for the states");
-        goto done;
-    }
+/* The state buffers of c, whether the closures are dissipative, their
+ * noise statistics when one of them advances in time, and the rest state. */
+static tg_code vet_prepare(vet_ctx *c, tg_model *m, tg_status *st)
+{
+    tg_vet_report *r = c->r;
+    c->nl = m->nl;
+    c->npl = m->npl;
+    c->nout = m->nout;
+    c->q_rest = malloc(sizeof(double) * (size_t)(m->nl * m->npl));
+    c->q_ref = malloc(sizeof(double) * (size_t)(m->nl * m->npl));
+    c->psi_ref_out = malloc(sizeof(double) * (size_t)m->nl * m->nout * m->nout);
+    if (!c->q_rest || !c->q_ref || !c->psi_ref_out)
+        return tg_fail(st, TG_ERR_NOMEM, "vet: no memory for the states");
     r->dissipative = 1;
     int advances = 0;
     for (int i = 0; i < tg_closure_host_count(m->closures); i++) {
         r->dissipative &= tg_closure_host_ops(m->closures, i)->dissipative != 0;
         advances |= tg_closure_host_ops(m->closures, i)->advance != NULL;
     }
-    if (advances && (rc = stochastic(cfg, &r->stochastic, st)) != TG_OK)
-        goto done;
-    memcpy(c.q_rest, m->q, sizeof(double) * (size_t)(m->nl * m->npl));
+    tg_code rc;
+    if (advances && (rc = stochastic(c->cfg, &r->stochastic, st)) != TG_OK)
+        return rc;
+    memcpy(c->q_rest, m->q, sizeof(double) * (size_t)(m->nl * m->npl));
+    return TG_OK;
+}
 
-    /* The reference state. */
-    if ((rc = reference_state(&c, m, st)) != TG_OK)
-        goto done;
-
+/* Checks 1 and 2 on the model m: linear around rest and around the
+ * reference state, then conservation at a random state of the reference's
+ * amplitude and at the reference. */
+static tg_code linear_and_conservation(vet_ctx *c, tg_model *m, tg_status *st)
+{
+    const tg_config *cfg = c->cfg;
+    tg_vet_report *r = c->r;
+    tg_code rc;
     /* 1. Linear. */
-    start_phase(&c, "linear check around rest");
-    progress(&c, 0, 0, 0, 0);
-    if ((rc = tg_vet_linearize(m, c.q_rest, cfg->vet_krylov_dimension, cfg->seed, &r->linear[0],
+    start_phase(c, "linear check around rest");
+    progress(c, 0, 0, 0, 0);
+    if ((rc = tg_vet_linearize(m, c->q_rest, cfg->vet_krylov_dimension, cfg->seed, &r->linear[0],
                                st)) != TG_OK)
-        goto done;
-    start_phase(&c, "linear check around the reference state");
-    progress(&c, 0, 0, 0, 0);
-    if ((rc = tg_vet_linearize(m, c.q_ref, cfg->vet_krylov_dimension, cfg->seed, &r->linear[1],
+        return rc;
+    start_phase(c, "linear check around the reference state");
+    progress(c, 0, 0, 0, 0);
+    if ((rc = tg_vet_linearize(m, c->q_ref, cfg->vet_krylov_dimension, cfg->seed, &r->linear[1],
                                st)) != TG_OK)
-        goto done;
+        return rc;
 
     /* 2. Conservation: a random state of the reference's amplitude, then the reference. */
-    start_phase(&c, "conservation");
-    progress(&c, 0, 0, 0, 0);
-    {
-        double amp = psi_rms(m);
-        if (!(amp > 0.0))
-            amp = cfg->noise_amplitude_m2_per_s;
-        tg_model_set_noise(m, amp, cfg->seed ^ 0x9e3779b97f4a7c15ull);
-        if ((rc = conservation_at(&c, m, 0, st)) != TG_OK)
-            goto done;
-        memcpy(m->q, c.q_ref, sizeof(double) * (size_t)(m->nl * m->npl));
-        tg_model_derive(m);
-        if ((rc = conservation_at(&c, m, 1, st)) != TG_OK)
-            goto done;
-    }
-    tg_model_destroy(m);
-    m = NULL;
+    start_phase(c, "conservation");
+    progress(c, 0, 0, 0, 0);
+    double amp = psi_rms(m);
+    if (!(amp > 0.0))
+        amp = cfg->noise_amplitude_m2_per_s;
+    tg_model_set_noise(m, amp, cfg->seed ^ 0x9e3779b97f4a7c15ull);
+    if ((rc = conservation_at(c, m, 0, st)) != TG_OK)
+        return rc;
+    memcpy(m->q, c->q_ref, sizeof(double) * (size_t)(m->nl * m->npl));
+    tg_model_derive(m);
+    return conservation_at(c, m, 1, st);
+}
 
-    /* 3. Online on the configured grid. */
-    for (int i = 0; i < r->nfactors; i++)
-        if ((rc = online_set(&c, cfg, 0, r->factors[i], c.q_ref, &r->margin[i], st)) != TG_OK)
-            goto done;
-
-    /* 4. The next finer grid. */
-    if (finer && (rc = finer_grid(&c, st)) != TG_OK)
-        goto done;
-
-    /* Verdicts. */
+/* The verdicts of every check, and whether all passed. */
+static void verdicts(tg_vet_report *r, const tg_config *cfg, int nl, int finer)
+{
     linear_checks(r, cfg);
-    conservation_checks(r, c.nl);
+    conservation_checks(r, nl);
     online_checks(r, cfg, 0);
     if (finer)
         online_checks(r, cfg, 1);
@@ -947,6 +927,57 @@ tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_repor
     for (int i = 0; i < r->nchecks; i++)
         if (r->checks[i].verdict == TG_VET_FAIL)
             r->passed = 0;
+}
+
+tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_report **rep,
+                   tg_status *st)
+{
+    *rep = NULL;
+    tg_code rc = tg_vet_validate(cfg, opt, st);
+    if (rc != TG_OK)
+        return rc;
+    const double t0 = tg_clock_s();
+    tg_vet_report *r = calloc(1, sizeof *r);
+    vet_ctx c = {.cfg = cfg, .opt = opt, .r = r};
+    tg_model *m = NULL;
+    if (!r)
+        return tg_fail(st, TG_ERR_NOMEM, "vet: no memory for the report");
+    report_start(r, cfg);
+    const int finer = cfg->vet_finer_grid && next_finer_points(cfg) <= 4097;
+    c.nphases = (strcmp(cfg->vet_reference_state, "spinup") == 0) + 3 +
+                r->nfactors * (1 + r->nmultipliers) + (finer ? 1 + r->nmultipliers : 0);
+
+    if (cfg->step_choice == TG_STEP_ADAPTIVE)
+        tg_log(TG_LOG_INFO, "vet: every run takes fixed steps (step_s times each step factor); "
+                            "[time] step_choice = adaptive does not apply");
+    if (!(m = tg_model_create(cfg, st))) {
+        rc = st->code;
+        goto done;
+    }
+    m->cfg.step_choice = TG_STEP_FIXED; /* time is step * dt, as in the variants */
+    if ((rc = vet_prepare(&c, m, st)) != TG_OK)
+        goto done;
+
+    /* The reference state. */
+    if ((rc = reference_state(&c, m, st)) != TG_OK)
+        goto done;
+
+    /* 1. Linear and 2. conservation. */
+    if ((rc = linear_and_conservation(&c, m, st)) != TG_OK)
+        goto done;
+    tg_model_destroy(m);
+    m = NULL;
+
+    /* 3. Online on the configured grid. */
+    for (int i = 0; i < r->nfactors; i++)
+        if ((rc = online_set(&c, cfg, 0, r->factors[i], c.q_ref, &r->margin[i], st)) != TG_OK)
+            goto done;
+
+    /* 4. The next finer grid. */
+    if (finer && (rc = finer_grid(&c, st)) != TG_OK)
+        goto done;
+
+    verdicts(r, cfg, c.nl, finer);
     r->seconds = tg_clock_s() - t0;
     rc = write_json(r, cfg, opt ? opt->command_line : NULL, st);
 
