@@ -209,6 +209,94 @@ static int cluster_pair(sweep_ctx *c, const char *key, const char *value)
                     key);
 }
 
+/* One key of [sweep]: base, kind, combine, directory (once each), seeds or
+ * members (a value list). */
+static int sweep_pair(sweep_ctx *c, const char *section, const char *key, const char *value)
+{
+    tg_sweep *sw = c->sw;
+    const int scalar = !strcmp(key, "base") || !strcmp(key, "kind") ||
+                       !strcmp(key, "combine") || !strcmp(key, "directory");
+    if (scalar && !set_once(c, section, key))
+        return 0;
+    if (!strcmp(key, "base")) {
+        c->line_base = c->lines.lineno;
+        return copy_text(c, c->base, sizeof c->base, section, key, value);
+    }
+    if (!strcmp(key, "kind")) {
+        c->line_kind = c->lines.lineno;
+        return copy_text(c, c->kind, sizeof c->kind, section, key, value);
+    }
+    if (!strcmp(key, "combine")) {
+        c->line_combine = c->lines.lineno;
+        return copy_text(c, c->combine, sizeof c->combine, section, key, value);
+    }
+    if (!strcmp(key, "directory")) {
+        return copy_text(c, c->directory, sizeof c->directory, section, key, value);
+    }
+    if (!strcmp(key, "seeds") || !strcmp(key, "members")) {
+        const int seeds = key[0] == 's';
+        for (int a = 0; a < sw->naxes; a++)
+            if (sw->axis[a].kind == (seeds ? TG_AXIS_SEED : TG_AXIS_MEMBER))
+                return ctx_fail(c, "[sweep] %s is given twice", key);
+        tg_sweep_axis *ax = new_axis(c, section, key);
+        if (!ax)
+            return 0;
+        ax->kind = seeds ? TG_AXIS_SEED : TG_AXIS_MEMBER;
+        strcpy(ax->key, seeds ? "initial.seed" : "member");
+        strcpy(ax->label, seeds ? "seed" : "member");
+        c->last_axis = sw->naxes - 1;
+        if (!split_values(c, ax, section, value, 0))
+            return 0;
+        return seeds ? whole_numbers(c, ax, 0, 4294967295LL) : whole_numbers(c, ax, 0, 1000000);
+    }
+    return ctx_fail(c, "[sweep] unknown key '%s' (keys: base, kind, combine, directory, "
+                       "seeds, members)", key);
+}
+
+/* One key of [vary]: section.key = a value list, a new axis. */
+static int vary_pair(sweep_ctx *c, const char *section, const char *key, const char *value)
+{
+    tg_sweep *sw = c->sw;
+    if (!strchr(key, '.'))
+        return ctx_fail(c, "[vary] %s: expected section.key (e.g. "
+                           "dissipation.viscosity_m2_per_s = 200, 400)", key);
+    for (int a = 0; a < sw->naxes; a++)
+        if (sw->axis[a].kind == TG_AXIS_KEY && !strcmp(sw->axis[a].key, key))
+            return ctx_fail(c, "[vary] %s is given twice (first at line %d)", key,
+                            sw->axis[a].line);
+    tg_sweep_axis *ax = new_axis(c, section, key);
+    if (!ax)
+        return 0;
+    ax->kind = TG_AXIS_KEY;
+    if (!copy_text(c, ax->key, sizeof ax->key, section, key, key))
+        return 0;
+    strcpy(ax->label, strrchr(key, '.') + 1);
+    c->last_axis = sw->naxes - 1;
+    return split_values(c, ax, section, value, 0);
+}
+
+/* One key of [common]: section.key = value, set in every member. */
+static int common_pair(sweep_ctx *c, const char *key, const char *value)
+{
+    tg_sweep *sw = c->sw;
+    if (!strchr(key, '.'))
+        return ctx_fail(c, "[common] %s: expected section.key (e.g. "
+                           "time.duration_days = 30)", key);
+    const size_t kl = strlen(key);
+    for (int i = 0; i < sw->ncommon; i++)
+        if (!strncmp(sw->common[i].set, key, kl) && sw->common[i].set[kl] == '=')
+            return ctx_fail(c, "[common] %s is given twice (first at line %d)", key,
+                            sw->common[i].line);
+    if (sw->ncommon >= TG_SWEEP_MAX_COMMON)
+        return ctx_fail(c, "[common]: more than %d keys", TG_SWEEP_MAX_COMMON);
+    tg_sweep_common *cm = &sw->common[sw->ncommon];
+    if (snprintf(cm->set, sizeof cm->set, "%s=%s", key, value) >= (int)sizeof cm->set)
+        return ctx_fail(c, "[common] %s: the value is too long", key);
+    cm->line = c->lines.lineno;
+    sw->ncommon++;
+    return 1;
+}
+
 static int on_pair(void *user, const char *section, const char *key, const char *value)
 {
     sweep_ctx *c = user;
@@ -228,81 +316,12 @@ static int on_pair(void *user, const char *section, const char *key, const char 
                (ax->kind != TG_AXIS_MEMBER || whole_numbers(c, ax, 0, 1000000));
     }
     c->last_axis = -1;
-    if (!strcmp(section, "sweep")) {
-        const int scalar = !strcmp(key, "base") || !strcmp(key, "kind") ||
-                           !strcmp(key, "combine") || !strcmp(key, "directory");
-        if (scalar && !set_once(c, section, key))
-            return 0;
-        if (!strcmp(key, "base")) {
-            c->line_base = c->lines.lineno;
-            return copy_text(c, c->base, sizeof c->base, section, key, value);
-        }
-        if (!strcmp(key, "kind")) {
-            c->line_kind = c->lines.lineno;
-            return copy_text(c, c->kind, sizeof c->kind, section, key, value);
-        }
-        if (!strcmp(key, "combine")) {
-            c->line_combine = c->lines.lineno;
-            return copy_text(c, c->combine, sizeof c->combine, section, key, value);
-        }
-        if (!strcmp(key, "directory")) {
-            return copy_text(c, c->directory, sizeof c->directory, section, key, value);
-        }
-        if (!strcmp(key, "seeds") || !strcmp(key, "members")) {
-            const int seeds = key[0] == 's';
-            for (int a = 0; a < sw->naxes; a++)
-                if (sw->axis[a].kind == (seeds ? TG_AXIS_SEED : TG_AXIS_MEMBER))
-                    return ctx_fail(c, "[sweep] %s is given twice", key);
-            tg_sweep_axis *ax = new_axis(c, section, key);
-            if (!ax)
-                return 0;
-            ax->kind = seeds ? TG_AXIS_SEED : TG_AXIS_MEMBER;
-            strcpy(ax->key, seeds ? "initial.seed" : "member");
-            strcpy(ax->label, seeds ? "seed" : "member");
-            c->last_axis = sw->naxes - 1;
-            if (!split_values(c, ax, section, value, 0))
-                return 0;
-            return seeds ? whole_numbers(c, ax, 0, 4294967295LL) : whole_numbers(c, ax, 0, 1000000);
-        }
-        return ctx_fail(c, "[sweep] unknown key '%s' (keys: base, kind, combine, directory, "
-                           "seeds, members)", key);
-    }
-    if (!strcmp(section, "vary")) {
-        if (!strchr(key, '.'))
-            return ctx_fail(c, "[vary] %s: expected section.key (e.g. "
-                               "dissipation.viscosity_m2_per_s = 200, 400)", key);
-        for (int a = 0; a < sw->naxes; a++)
-            if (sw->axis[a].kind == TG_AXIS_KEY && !strcmp(sw->axis[a].key, key))
-                return ctx_fail(c, "[vary] %s is given twice (first at line %d)", key,
-                                sw->axis[a].line);
-        tg_sweep_axis *ax = new_axis(c, section, key);
-        if (!ax)
-            return 0;
-        ax->kind = TG_AXIS_KEY;
-        if (!copy_text(c, ax->key, sizeof ax->key, section, key, key))
-            return 0;
-        strcpy(ax->label, strrchr(key, '.') + 1);
-        c->last_axis = sw->naxes - 1;
-        return split_values(c, ax, section, value, 0);
-    }
-    if (!strcmp(section, "common")) {
-        if (!strchr(key, '.'))
-            return ctx_fail(c, "[common] %s: expected section.key (e.g. "
-                               "time.duration_days = 30)", key);
-        const size_t kl = strlen(key);
-        for (int i = 0; i < sw->ncommon; i++)
-            if (!strncmp(sw->common[i].set, key, kl) && sw->common[i].set[kl] == '=')
-                return ctx_fail(c, "[common] %s is given twice (first at line %d)", key,
-                                sw->common[i].line);
-        if (sw->ncommon >= TG_SWEEP_MAX_COMMON)
-            return ctx_fail(c, "[common]: more than %d keys", TG_SWEEP_MAX_COMMON);
-        tg_sweep_common *cm = &sw->common[sw->ncommon];
-        if (snprintf(cm->set, sizeof cm->set, "%s=%s", key, value) >= (int)sizeof cm->set)
-            return ctx_fail(c, "[common] %s: the value is too long", key);
-        cm->line = c->lines.lineno;
-        sw->ncommon++;
-        return 1;
-    }
+    if (!strcmp(section, "sweep"))
+        return sweep_pair(c, section, key, value);
+    if (!strcmp(section, "vary"))
+        return vary_pair(c, section, key, value);
+    if (!strcmp(section, "common"))
+        return common_pair(c, key, value);
     if (!strcmp(section, "cluster")) {
         /* extra and setup are lists, one line each; the others one value. */
         if (strcmp(key, "extra") != 0 && strcmp(key, "setup") != 0 && !set_once(c, section, key))
