@@ -119,13 +119,86 @@ typedef struct {
     double energy_ratio;        /* largest E / yardstick over the samples */
 } march_result;
 
+/* After a step of march: 1 (with o->stable, fail_day and reason set) when
+ * the PV is not finite or the CFL number exceeds [time] max_cfl, else 0;
+ * o->max_cfl keeps the largest CFL number. */
+static int state_fault(tg_model *m, double day, double day0, long step0, march_result *o)
+{
+    long bad = -1;
+    int bad_layer = 0;
+    for (int k = 0; k < m->nl && bad < 0; k++)
+        if ((bad = tg_find_nonfinite(m->geom, m->q + k * m->npl)) >= 0)
+            bad_layer = k;
+    if (bad >= 0) {
+        o->stable = 0;
+        o->fail_day = day;
+        snprintf(o->reason, sizeof o->reason,
+                 "non-finite PV at day %.2f (step %ld) in layer %d at x = %.0f km, y = %.0f km",
+                 day - day0, m->step - step0, bad_layer + 1,
+                 m->geom->coord[bad % m->geom->ns] / 1e3,
+                 m->geom->coord[bad / m->geom->ns] / 1e3);
+        return 1;
+    }
+    int layer = 0;
+    double x = 0.0, y = 0.0;
+    const double cfl = tg_model_max_cfl(m, &layer, &x, &y);
+    o->max_cfl = fmax(o->max_cfl, cfl);
+    if (!(cfl <= m->cfg.max_cfl)) {
+        o->stable = 0;
+        o->fail_day = day;
+        snprintf(o->reason, sizeof o->reason,
+                 "CFL %.3g above max_cfl %.3g at day %.2f in layer %d at x = %.0f km, "
+                 "y = %.0f km",
+                 cfl, m->cfg.max_cfl, day - day0, layer + 1, x / 1e3, y / 1e3);
+        return 1;
+    }
+    return 0;
+}
+
+/* At step n of nsteps, the energy samples due (NSAMP over the run): each
+ * must be finite and, against yard (the run without the closure), within
+ * growth_limit times. 1 (with o set) on a fault, else 0. */
+static int sample_energy(tg_model *m, long n, long nsteps, int *next, const double *yard,
+                         double glim, double day, double day0, march_result *o)
+{
+    if (*next <= NSAMP && n == (long)*next * nsteps / NSAMP) {
+        /* Several samples may share a step when nsteps < NSAMP. */
+        const double e = tg_model_energy(m);
+        while (*next <= NSAMP && n == (long)*next * nsteps / NSAMP) {
+            o->esamp[*next] = e;
+            if (!isfinite(e)) {
+                o->stable = 0;
+                o->fail_day = day;
+                snprintf(o->reason, sizeof o->reason, "non-finite energy at day %.2f",
+                         day - day0);
+                return 1;
+            }
+            if (yard && isfinite(yard[*next]) && yard[*next] > 0.0) {
+                const double ratio = e / yard[*next];
+                o->energy_ratio =
+                    isfinite(o->energy_ratio) ? fmax(o->energy_ratio, ratio) : ratio;
+                if (ratio > glim) {
+                    o->stable = 0;
+                    o->fail_day = day;
+                    snprintf(o->reason, sizeof o->reason,
+                             "energy %.3g times that of the run without the closure at day "
+                             "%.2f (limit %g)",
+                             ratio, day - day0, glim);
+                    return 1;
+                }
+            }
+            (*next)++;
+        }
+    }
+    return 0;
+}
+
 /* Steps m from its current state nsteps times. Faults (NaN/Inf, CFL above
  * max_cfl, energy above growth_limit x yard[s] at a sample) end the march
  * with stable = 0 and the reason; yard may be NULL. */
 static tg_code march(vet_ctx *c, tg_model *m, long nsteps, const double *yard, march_result *o,
                      tg_status *st)
 {
-    const tg_config *cfg = &m->cfg;
     const double glim = c->cfg->vet_growth_limit;
     o->stable = 1;
     o->reason[0] = '\0';
@@ -157,63 +230,10 @@ static tg_code march(vet_ctx *c, tg_model *m, long nsteps, const double *yard, m
         }
         if (rc != TG_OK)
             return rc;
-        long bad = -1;
-        int bad_layer = 0;
-        for (int k = 0; k < m->nl && bad < 0; k++)
-            if ((bad = tg_find_nonfinite(m->geom, m->q + k * m->npl)) >= 0)
-                bad_layer = k;
-        if (bad >= 0) {
-            o->stable = 0;
-            o->fail_day = day;
-            snprintf(o->reason, sizeof o->reason,
-                     "non-finite PV at day %.2f (step %ld) in layer %d at x = %.0f km, y = %.0f km",
-                     day - day0, m->step - step0, bad_layer + 1,
-                     m->geom->coord[bad % m->geom->ns] / 1e3,
-                     m->geom->coord[bad / m->geom->ns] / 1e3);
+        if (state_fault(m, day, day0, step0, o))
             goto fault;
-        }
-        int layer = 0;
-        double x = 0.0, y = 0.0;
-        const double cfl = tg_model_max_cfl(m, &layer, &x, &y);
-        o->max_cfl = fmax(o->max_cfl, cfl);
-        if (!(cfl <= cfg->max_cfl)) {
-            o->stable = 0;
-            o->fail_day = day;
-            snprintf(o->reason, sizeof o->reason,
-                     "CFL %.3g above max_cfl %.3g at day %.2f in layer %d at x = %.0f km, "
-                     "y = %.0f km",
-                     cfl, cfg->max_cfl, day - day0, layer + 1, x / 1e3, y / 1e3);
+        if (sample_energy(m, n, nsteps, &next, yard, glim, day, day0, o))
             goto fault;
-        }
-        if (next <= NSAMP && n == (long)next * nsteps / NSAMP) {
-            /* Several samples may share a step when nsteps < NSAMP. */
-            const double e = tg_model_energy(m);
-            while (next <= NSAMP && n == (long)next * nsteps / NSAMP) {
-                o->esamp[next] = e;
-                if (!isfinite(e)) {
-                    o->stable = 0;
-                    o->fail_day = day;
-                    snprintf(o->reason, sizeof o->reason, "non-finite energy at day %.2f",
-                             day - day0);
-                    goto fault;
-                }
-                if (yard && isfinite(yard[next]) && yard[next] > 0.0) {
-                    const double ratio = e / yard[next];
-                    o->energy_ratio =
-                        isfinite(o->energy_ratio) ? fmax(o->energy_ratio, ratio) : ratio;
-                    if (ratio > glim) {
-                        o->stable = 0;
-                        o->fail_day = day;
-                        snprintf(o->reason, sizeof o->reason,
-                                 "energy %.3g times that of the run without the closure at day "
-                                 "%.2f (limit %g)",
-                                 ratio, day - day0, glim);
-                        goto fault;
-                    }
-                }
-                next++;
-            }
-        }
         progress(c, n, nsteps, day, last_day);
     }
     return TG_OK;
