@@ -749,8 +749,37 @@ tg_code tg_budget_close(tg_budget_file *b, tg_status *st)
 /* checkpoint.nc                                                             */
 /* ------------------------------------------------------------------------ */
 
-tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const tg_checkpoint *c,
-                            tg_status *st)
+/* Defines the closures' extra arrays of a checkpoint (one dimension NAME_len
+ * and one variable NAME each, with its checksum) into v_extra. */
+static tg_code def_checkpoint_extras(int ncid, const char *path, const tg_checkpoint *c,
+                                     int *v_extra, tg_status *st)
+{
+    tg_code code = TG_OK;
+    for (int e = 0; e < c->nextra; e++) {
+        char dname[NC_MAX_NAME + 1];
+        const char *name = c->extra_names[e];
+        int d;
+        snprintf(dname, sizeof dname, "%s_len", name);
+        NC_TRY(nc_def_dim(ncid, dname, c->extra_len[e], &d), "defining the length dimension", name);
+        NC_TRY(nc_def_var(ncid, name, NC_DOUBLE, 1, &d, &v_extra[e]), "defining the variable",
+               name);
+        if ((code = tg_nc_put_text(ncid, v_extra[e], "long_name",
+                             "saved state of a closure (opaque to the file format)", path, name,
+                             st)) ||
+            (code = tg_nc_put_checksum(
+                 ncid, v_extra[e],
+                 tg_fnv1a_doubles(TG_FNV1A_START, c->extra_data[e], c->extra_len[e]), path, name,
+                 st)))
+            goto fail;
+    }
+fail:
+    return code;
+}
+
+/* The checks of tg_checkpoint_write on its arguments: a whole grid, psi and
+ * q, a step the file's NC_INT holds, and named, non-empty extra arrays. */
+static tg_code checkpoint_check(const char *final_path, const tg_nc_grid *g,
+                                const tg_checkpoint *c, tg_status *st)
 {
     tg_code code;
     if ((code = check_grid(final_path, g, st)))
@@ -770,6 +799,15 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
             return tg_fail(st, TG_ERR_INTERNAL, "%s: checkpoint extra name \"%s\" is too long",
                            final_path, c->extra_names[e]);
     }
+    return TG_OK;
+}
+
+tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const tg_checkpoint *c,
+                            tg_status *st)
+{
+    tg_code code;
+    if ((code = checkpoint_check(final_path, g, c, st)))
+        return code;
 
     char *path = tmp_path(final_path); /* the temporary file: errors name it */
     int *v_extra = malloc((c->nextra > 0 ? (size_t)c->nextra : 1) * sizeof *v_extra);
@@ -822,23 +860,8 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
         (code = tg_nc_put_checksum(ncid, v_q, tg_fnv1a_doubles(TG_FNV1A_START, c->q, n3), path,
                                    "q", st)))
         goto fail;
-    for (int e = 0; e < c->nextra; e++) {
-        char dname[NC_MAX_NAME + 1];
-        const char *name = c->extra_names[e];
-        int d;
-        snprintf(dname, sizeof dname, "%s_len", name);
-        NC_TRY(nc_def_dim(ncid, dname, c->extra_len[e], &d), "defining the length dimension", name);
-        NC_TRY(nc_def_var(ncid, name, NC_DOUBLE, 1, &d, &v_extra[e]), "defining the variable",
-               name);
-        if ((code = tg_nc_put_text(ncid, v_extra[e], "long_name",
-                             "saved state of a closure (opaque to the file format)", path, name,
-                             st)) ||
-            (code = tg_nc_put_checksum(
-                 ncid, v_extra[e],
-                 tg_fnv1a_doubles(TG_FNV1A_START, c->extra_data[e], c->extra_len[e]), path, name,
-                 st)))
-            goto fail;
-    }
+    if ((code = def_checkpoint_extras(ncid, path, c, v_extra, st)))
+        goto fail;
     if ((code = tg_nc_globals(ncid, path, g, "twingyre checkpoint", st)))
         goto fail;
     NC_TRY(nc_enddef(ncid), "finishing the header", NULL);
