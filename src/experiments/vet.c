@@ -673,7 +673,9 @@ static void conservation_checks(tg_vet_report *r, int nl)
     }
 }
 
-static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
+/* The online run at the configured step and coefficient (on the finer grid
+ * when finer): stable, within the growth limit. */
+static void online_run_check(tg_vet_report *r, const tg_config *cfg, int finer)
 {
     const char *pre = finer ? "finer_" : "";
     char name[48], title[96];
@@ -693,6 +695,15 @@ static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
         add_check(r, name, title, x->fail_day, "day", "", NAN, TG_VET_FAIL, "%s", x->reason);
     else
         add_check(r, name, title, NAN, "", "", NAN, TG_VET_FAIL, "not run");
+}
+
+/* The largest stable coefficient multiplier against [vet] required_margin;
+ * a failure names the first unstable multiplier, or below x1 the largest
+ * stable one. */
+static void margin_check(tg_vet_report *r, const tg_config *cfg, int finer)
+{
+    const char *pre = finer ? "finer_" : "";
+    char name[48], title[96];
     int fi = 0;
     if (!finer)
         for (int i = 0; i < r->nfactors; i++)
@@ -735,27 +746,38 @@ static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
                          sizeof r->checks[0].figure_text, "<%g", smallest);
         }
     }
-    if (!finer) {
-        /* Information: the largest step factor stable at x1. */
-        double best = 0.0;
-        for (int i = 0; i < r->nfactors; i++) {
-            const tg_vet_run_result *y = find_run(r, 0, r->factors[i], 1.0);
-            if (!y || !y->stable)
-                break;
-            best = r->factors[i];
-        }
-        if (best > 0.0)
-            add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
-                      best, "", "", NAN, TG_VET_INFO,
-                      "every step factor up to it stays stable (%g s)", best * cfg->step_s);
-        else {
-            add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
-                      NAN, "", "", NAN, TG_VET_INFO,
-                      "unstable already at the smallest step factor tried, x%g", r->factors[0]);
-            snprintf(r->checks[r->nchecks - 1].figure_text, sizeof r->checks[0].figure_text,
-                     "<%g", r->factors[0]);
-        }
+}
+
+/* Information: the largest step factor stable at coefficient x1. */
+static void step_factor_check(tg_vet_report *r, const tg_config *cfg)
+{
+    double best = 0.0;
+    for (int i = 0; i < r->nfactors; i++) {
+        const tg_vet_run_result *y = find_run(r, 0, r->factors[i], 1.0);
+        if (!y || !y->stable)
+            break;
+        best = r->factors[i];
     }
+    if (best > 0.0)
+        add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
+                  best, "", "", NAN, TG_VET_INFO,
+                  "every step factor up to it stays stable (%g s)", best * cfg->step_s);
+    else {
+        add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
+                  NAN, "", "", NAN, TG_VET_INFO,
+                  "unstable already at the smallest step factor tried, x%g", r->factors[0]);
+        snprintf(r->checks[r->nchecks - 1].figure_text, sizeof r->checks[0].figure_text,
+                 "<%g", r->factors[0]);
+    }
+}
+
+/* The verdicts of the online runs on one grid (the finer one when finer). */
+static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
+{
+    online_run_check(r, cfg, finer);
+    margin_check(r, cfg, finer);
+    if (!finer)
+        step_factor_check(r, cfg);
 }
 
 /* ------------------------------------------------------------------ */
