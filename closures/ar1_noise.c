@@ -125,6 +125,26 @@ void tg_ar1_destroy(tg_ar1 *a)
     free(a);
 }
 
+/* Exact variance of the filtered (and mean-free) white field at the
+ * central active node: |K (e_c - m)|^2 (ar1_noise.h); uses a->work. */
+static double central_variance(tg_ar1 *a, const tg_closure_tools *t)
+{
+    const int ns = a->ns, a0 = a->a0, a1 = a->a1, c = a0 + a->n / 2;
+    const double m = a->remove_mean ? 1.0 / (double)a->nact : 0.0;
+    for (int j = a0; j < a1; j++)
+        for (int i = a0; i < a1; i++)
+            a->work[(long)j * ns + i] = -m;
+    a->work[(long)c * ns + c] += 1.0;
+    t->filter_gaussian(t->ctx, a->work, a->width);
+    double var = 0.0;
+    for (int j = a0; j < a1; j++)
+        for (int i = a0; i < a1; i++) {
+            const double v = a->work[(long)j * ns + i];
+            var += v * v;
+        }
+    return var;
+}
+
 tg_code tg_ar1_create(const tg_closure_setup *s, int nfields, double sigma, double tau_s,
                       double ell_m, int remove_mean, uint64_t key, tg_ar1 **out, tg_status *st)
 {
@@ -173,21 +193,7 @@ tg_code tg_ar1_create(const tg_closure_setup *s, int nfields, double sigma, doub
                        nfields, s->ns, s->ns);
     }
 
-    /* Exact variance of the filtered (and mean-free) white field at the
-     * central active node: |K (e_c - m)|^2 (ar1_noise.h). */
-    const int ns = a->ns, a0 = a->a0, a1 = a->a1, c = a0 + a->n / 2;
-    const double m = a->remove_mean ? 1.0 / (double)nact : 0.0;
-    for (int j = a0; j < a1; j++)
-        for (int i = a0; i < a1; i++)
-            a->work[(long)j * ns + i] = -m;
-    a->work[(long)c * ns + c] += 1.0;
-    s->tools->filter_gaussian(s->tools->ctx, a->work, a->width);
-    double var = 0.0;
-    for (int j = a0; j < a1; j++)
-        for (int i = a0; i < a1; i++) {
-            const double v = a->work[(long)j * ns + i];
-            var += v * v;
-        }
+    const double var = central_variance(a, s->tools);
     if (!(var > 0.0) || !isfinite(var)) {
         tg_ar1_destroy(a);
         return tg_fail(st, TG_ERR_CONFIG,

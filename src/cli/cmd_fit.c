@@ -218,27 +218,26 @@ static int fit_option(const char *a, const char *v, tg_fit_options *o, int *thre
     return 0;
 }
 
-int cmd_fit(int argc, char **argv)
+/* The arguments of `twingyre fit` into o, *threads, *have_ridge (--ridge
+ * given) and *quiet; 0, or the exit status of a usage error (reported). */
+static int fit_args(int argc, char **argv, tg_fit_options *o, int *threads, int *have_ridge,
+                    int *quiet)
 {
-    tg_set_log(cli_log_to_stderr, NULL);
-    tg_fit_options o;
-    tg_fit_options_default(&o);
-    int threads = 0, have_ridge = 0, quiet = 0;
     for (int i = 2; i < argc; i++) {
         const char *a = argv[i];
         const char *v = i + 1 < argc ? argv[i + 1] : NULL;
         if (!strcmp(a, "--quiet")) {
-            quiet = 1;
+            *quiet = 1;
             continue;
         }
         if (!strcmp(a, "--overwrite")) {
-            o.overwrite = 1;
+            o->overwrite = 1;
             continue;
         }
         if (a[0] != '-' || a[1] != '-') {
-            if (o.input)
+            if (o->input)
                 return usage_error("unexpected argument '%s' (one SUBGRID.nc only)", a);
-            o.input = a;
+            o->input = a;
             continue;
         }
         static const char *const with_value[] = {
@@ -253,20 +252,32 @@ int cmd_fit(int argc, char **argv)
             return usage_error("unknown option '%s'", a);
         if (!v)
             return usage_error("%s needs a value", a);
-        const int bad = fit_option(a, v, &o, &threads, &have_ridge);
+        const int bad = fit_option(a, v, o, threads, have_ridge);
         if (bad)
             return bad;
         i++;
     }
-    if (!o.input)
+    if (!o->input)
         return usage_error("missing SUBGRID.nc (a twin's subgrid.nc)");
-    if (!o.output)
+    if (!o->output)
         return usage_error("missing --out COEFFS (the coefficients file to write)");
-    if (have_ridge && o.set.method != TG_FIT_RIDGE && o.set.method != TG_FIT_SEQ_THRESHOLD)
+    if (*have_ridge && o->set.method != TG_FIT_RIDGE && o->set.method != TG_FIT_SEQ_THRESHOLD)
         return usage_error("--ridge applies to --method ridge or sequential-threshold, not %s",
-                           tg_fit_method_name(o.set.method));
-    if (o.set.method == TG_FIT_SEQ_THRESHOLD && !have_ridge)
-        o.set.ridge = 0.0;
+                           tg_fit_method_name(o->set.method));
+    if (o->set.method == TG_FIT_SEQ_THRESHOLD && !*have_ridge)
+        o->set.ridge = 0.0;
+    return 0;
+}
+
+int cmd_fit(int argc, char **argv)
+{
+    tg_set_log(cli_log_to_stderr, NULL);
+    tg_fit_options o;
+    tg_fit_options_default(&o);
+    int threads = 0, have_ridge = 0, quiet = 0;
+    const int bad = fit_args(argc, argv, &o, &threads, &have_ridge, &quiet);
+    if (bad)
+        return bad;
 #ifdef _OPENMP
     if (threads > 0)
         omp_set_num_threads(threads);

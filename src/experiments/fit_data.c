@@ -116,6 +116,37 @@ static tg_code read_header(tg_fit_data *d, char **config_text, int *nx, int *ny,
     return code;
 }
 
+/* The coarse model of the twin that wrote path, from the file's
+ * resolved_config (text), without closures; its grid must match the file's
+ * dimensions nx, ny, nl. base and crs are scratch configs. */
+static tg_code open_coarse_model(tg_fit_data *d, const char *path, const char *text, int nx,
+                                 int ny, int nl, tg_config *base, tg_config *crs, tg_status *st)
+{
+    char name[TG_PATH_LEN + 40];
+    snprintf(name, sizeof name, "%s (attribute resolved_config)", path);
+    tg_config_defaults(base);
+    tg_status cs;
+    tg_status_clear(&cs);
+    if (tg_config_load_text(base, text, name, &cs) != TG_OK ||
+        tg_config_twin_coarse(base, name, crs, &cs) != TG_OK)
+        return tg_fail(st, TG_ERR_IO, "%s", cs.msg);
+    /* No closure: only the grid, layers and inversion are needed. The twin
+     * checked these settings when it wrote the file (tg_config_check is
+     * not repeated: it would only repeat its warnings). */
+    crs->nraw = 0;
+    if (tg_config_set(crs, "closure.use=none", &cs) != TG_OK)
+        return tg_fail(st, TG_ERR_IO, "%s: the coarse config: %s", path, cs.msg);
+    if (!(d->m = tg_model_create(crs, st)))
+        return st->code ? st->code : TG_ERR_INTERNAL;
+    d->nl = d->m->nl;
+    d->no = d->m->nout;
+    if (nx != d->no || ny != d->no || nl != d->nl)
+        return tg_fail(st, TG_ERR_IO, "%s: dimensions x, y, layer are %d, %d, %d but its "
+                       "resolved_config gives a coarse grid of %d points and %d layers", path,
+                       nx, ny, nl, d->no, d->nl);
+    return TG_OK;
+}
+
 tg_fit_data *tg_fit_data_open(const char *path, tg_fit_target target, const int *terms, int p,
                               tg_status *st)
 {
@@ -141,36 +172,9 @@ tg_fit_data *tg_fit_data_open(const char *path, tg_fit_target target, const int 
     if (read_header(d, &text, &nx, &ny, &nl, st) != TG_OK)
         goto fail;
 
-    /* The coarse grid from the twin's config. */
-    char name[TG_PATH_LEN + 40];
-    snprintf(name, sizeof name, "%s (attribute resolved_config)", path);
-    tg_config_defaults(base);
-    tg_status cs;
-    tg_status_clear(&cs);
-    if (tg_config_load_text(base, text, name, &cs) != TG_OK ||
-        tg_config_twin_coarse(base, name, crs, &cs) != TG_OK) {
-        tg_fail(st, TG_ERR_IO, "%s", cs.msg);
-        goto fail;
-    }
-    /* No closure: only the grid, layers and inversion are needed. The twin
-     * checked these settings when it wrote the file (tg_config_check is
-     * not repeated: it would only repeat its warnings). */
-    crs->nraw = 0;
-    if (tg_config_set(crs, "closure.use=none", &cs) != TG_OK) {
-        tg_fail(st, TG_ERR_IO, "%s: the coarse config: %s", path, cs.msg);
-        goto fail;
-    }
-    if (!(d->m = tg_model_create(crs, st)))
+    if (open_coarse_model(d, path, text, nx, ny, nl, base, crs, st) != TG_OK)
         goto fail;
     const tg_geometry *g = d->m->geom;
-    d->nl = d->m->nl;
-    d->no = d->m->nout;
-    if (nx != d->no || ny != d->no || nl != d->nl) {
-        tg_fail(st, TG_ERR_IO, "%s: dimensions x, y, layer are %d, %d, %d but its "
-                "resolved_config gives a coarse grid of %d points and %d layers", path, nx, ny,
-                nl, d->no, d->nl);
-        goto fail;
-    }
     d->na = (long)(g->a1 - g->a0) * (g->a1 - g->a0);
     if (!(d->tools = tg_tools_create(d->m->geom, st)) ||
         !(d->basis = tg_basis_create(g->ns, g->a0, g->a1, g->dx, tg_tools_get(d->tools), st)))

@@ -209,6 +209,94 @@ static int cluster_pair(sweep_ctx *c, const char *key, const char *value)
                     key);
 }
 
+/* One key of [sweep]: base, kind, combine, directory (once each), seeds or
+ * members (a value list). */
+static int sweep_pair(sweep_ctx *c, const char *section, const char *key, const char *value)
+{
+    tg_sweep *sw = c->sw;
+    const int scalar = !strcmp(key, "base") || !strcmp(key, "kind") ||
+                       !strcmp(key, "combine") || !strcmp(key, "directory");
+    if (scalar && !set_once(c, section, key))
+        return 0;
+    if (!strcmp(key, "base")) {
+        c->line_base = c->lines.lineno;
+        return copy_text(c, c->base, sizeof c->base, section, key, value);
+    }
+    if (!strcmp(key, "kind")) {
+        c->line_kind = c->lines.lineno;
+        return copy_text(c, c->kind, sizeof c->kind, section, key, value);
+    }
+    if (!strcmp(key, "combine")) {
+        c->line_combine = c->lines.lineno;
+        return copy_text(c, c->combine, sizeof c->combine, section, key, value);
+    }
+    if (!strcmp(key, "directory")) {
+        return copy_text(c, c->directory, sizeof c->directory, section, key, value);
+    }
+    if (!strcmp(key, "seeds") || !strcmp(key, "members")) {
+        const int seeds = key[0] == 's';
+        for (int a = 0; a < sw->naxes; a++)
+            if (sw->axis[a].kind == (seeds ? TG_AXIS_SEED : TG_AXIS_MEMBER))
+                return ctx_fail(c, "[sweep] %s is given twice", key);
+        tg_sweep_axis *ax = new_axis(c, section, key);
+        if (!ax)
+            return 0;
+        ax->kind = seeds ? TG_AXIS_SEED : TG_AXIS_MEMBER;
+        strcpy(ax->key, seeds ? "initial.seed" : "member");
+        strcpy(ax->label, seeds ? "seed" : "member");
+        c->last_axis = sw->naxes - 1;
+        if (!split_values(c, ax, section, value, 0))
+            return 0;
+        return seeds ? whole_numbers(c, ax, 0, 4294967295LL) : whole_numbers(c, ax, 0, 1000000);
+    }
+    return ctx_fail(c, "[sweep] unknown key '%s' (keys: base, kind, combine, directory, "
+                       "seeds, members)", key);
+}
+
+/* One key of [vary]: section.key = a value list, a new axis. */
+static int vary_pair(sweep_ctx *c, const char *section, const char *key, const char *value)
+{
+    tg_sweep *sw = c->sw;
+    if (!strchr(key, '.'))
+        return ctx_fail(c, "[vary] %s: expected section.key (e.g. "
+                           "dissipation.viscosity_m2_per_s = 200, 400)", key);
+    for (int a = 0; a < sw->naxes; a++)
+        if (sw->axis[a].kind == TG_AXIS_KEY && !strcmp(sw->axis[a].key, key))
+            return ctx_fail(c, "[vary] %s is given twice (first at line %d)", key,
+                            sw->axis[a].line);
+    tg_sweep_axis *ax = new_axis(c, section, key);
+    if (!ax)
+        return 0;
+    ax->kind = TG_AXIS_KEY;
+    if (!copy_text(c, ax->key, sizeof ax->key, section, key, key))
+        return 0;
+    strcpy(ax->label, strrchr(key, '.') + 1);
+    c->last_axis = sw->naxes - 1;
+    return split_values(c, ax, section, value, 0);
+}
+
+/* One key of [common]: section.key = value, set in every member. */
+static int common_pair(sweep_ctx *c, const char *key, const char *value)
+{
+    tg_sweep *sw = c->sw;
+    if (!strchr(key, '.'))
+        return ctx_fail(c, "[common] %s: expected section.key (e.g. "
+                           "time.duration_days = 30)", key);
+    const size_t kl = strlen(key);
+    for (int i = 0; i < sw->ncommon; i++)
+        if (!strncmp(sw->common[i].set, key, kl) && sw->common[i].set[kl] == '=')
+            return ctx_fail(c, "[common] %s is given twice (first at line %d)", key,
+                            sw->common[i].line);
+    if (sw->ncommon >= TG_SWEEP_MAX_COMMON)
+        return ctx_fail(c, "[common]: more than %d keys", TG_SWEEP_MAX_COMMON);
+    tg_sweep_common *cm = &sw->common[sw->ncommon];
+    if (snprintf(cm->set, sizeof cm->set, "%s=%s", key, value) >= (int)sizeof cm->set)
+        return ctx_fail(c, "[common] %s: the value is too long", key);
+    cm->line = c->lines.lineno;
+    sw->ncommon++;
+    return 1;
+}
+
 static int on_pair(void *user, const char *section, const char *key, const char *value)
 {
     sweep_ctx *c = user;
@@ -228,81 +316,12 @@ static int on_pair(void *user, const char *section, const char *key, const char 
                (ax->kind != TG_AXIS_MEMBER || whole_numbers(c, ax, 0, 1000000));
     }
     c->last_axis = -1;
-    if (!strcmp(section, "sweep")) {
-        const int scalar = !strcmp(key, "base") || !strcmp(key, "kind") ||
-                           !strcmp(key, "combine") || !strcmp(key, "directory");
-        if (scalar && !set_once(c, section, key))
-            return 0;
-        if (!strcmp(key, "base")) {
-            c->line_base = c->lines.lineno;
-            return copy_text(c, c->base, sizeof c->base, section, key, value);
-        }
-        if (!strcmp(key, "kind")) {
-            c->line_kind = c->lines.lineno;
-            return copy_text(c, c->kind, sizeof c->kind, section, key, value);
-        }
-        if (!strcmp(key, "combine")) {
-            c->line_combine = c->lines.lineno;
-            return copy_text(c, c->combine, sizeof c->combine, section, key, value);
-        }
-        if (!strcmp(key, "directory")) {
-            return copy_text(c, c->directory, sizeof c->directory, section, key, value);
-        }
-        if (!strcmp(key, "seeds") || !strcmp(key, "members")) {
-            const int seeds = key[0] == 's';
-            for (int a = 0; a < sw->naxes; a++)
-                if (sw->axis[a].kind == (seeds ? TG_AXIS_SEED : TG_AXIS_MEMBER))
-                    return ctx_fail(c, "[sweep] %s is given twice", key);
-            tg_sweep_axis *ax = new_axis(c, section, key);
-            if (!ax)
-                return 0;
-            ax->kind = seeds ? TG_AXIS_SEED : TG_AXIS_MEMBER;
-            strcpy(ax->key, seeds ? "initial.seed" : "member");
-            strcpy(ax->label, seeds ? "seed" : "member");
-            c->last_axis = sw->naxes - 1;
-            if (!split_values(c, ax, section, value, 0))
-                return 0;
-            return seeds ? whole_numbers(c, ax, 0, 4294967295LL) : whole_numbers(c, ax, 0, 1000000);
-        }
-        return ctx_fail(c, "[sweep] unknown key '%s' (keys: base, kind, combine, directory, "
-                           "seeds, members)", key);
-    }
-    if (!strcmp(section, "vary")) {
-        if (!strchr(key, '.'))
-            return ctx_fail(c, "[vary] %s: expected section.key (e.g. "
-                               "dissipation.viscosity_m2_per_s = 200, 400)", key);
-        for (int a = 0; a < sw->naxes; a++)
-            if (sw->axis[a].kind == TG_AXIS_KEY && !strcmp(sw->axis[a].key, key))
-                return ctx_fail(c, "[vary] %s is given twice (first at line %d)", key,
-                                sw->axis[a].line);
-        tg_sweep_axis *ax = new_axis(c, section, key);
-        if (!ax)
-            return 0;
-        ax->kind = TG_AXIS_KEY;
-        if (!copy_text(c, ax->key, sizeof ax->key, section, key, key))
-            return 0;
-        strcpy(ax->label, strrchr(key, '.') + 1);
-        c->last_axis = sw->naxes - 1;
-        return split_values(c, ax, section, value, 0);
-    }
-    if (!strcmp(section, "common")) {
-        if (!strchr(key, '.'))
-            return ctx_fail(c, "[common] %s: expected section.key (e.g. "
-                               "time.duration_days = 30)", key);
-        const size_t kl = strlen(key);
-        for (int i = 0; i < sw->ncommon; i++)
-            if (!strncmp(sw->common[i].set, key, kl) && sw->common[i].set[kl] == '=')
-                return ctx_fail(c, "[common] %s is given twice (first at line %d)", key,
-                                sw->common[i].line);
-        if (sw->ncommon >= TG_SWEEP_MAX_COMMON)
-            return ctx_fail(c, "[common]: more than %d keys", TG_SWEEP_MAX_COMMON);
-        tg_sweep_common *cm = &sw->common[sw->ncommon];
-        if (snprintf(cm->set, sizeof cm->set, "%s=%s", key, value) >= (int)sizeof cm->set)
-            return ctx_fail(c, "[common] %s: the value is too long", key);
-        cm->line = c->lines.lineno;
-        sw->ncommon++;
-        return 1;
-    }
+    if (!strcmp(section, "sweep"))
+        return sweep_pair(c, section, key, value);
+    if (!strcmp(section, "vary"))
+        return vary_pair(c, section, key, value);
+    if (!strcmp(section, "common"))
+        return common_pair(c, key, value);
     if (!strcmp(section, "cluster")) {
         /* extra and setup are lists, one line each; the others one value. */
         if (strcmp(key, "extra") != 0 && strcmp(key, "setup") != 0 && !set_once(c, section, key))
@@ -534,40 +553,14 @@ static tg_code check_keys(const tg_sweep *sw, const tg_config *base, tg_status *
     return rc;
 }
 
-tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_status *st)
+/* The [sweep] keys of the file: base (relative to the sweep file), combine
+ * and the output folder (--out, [sweep] directory or NAME-output). */
+static tg_code sweep_settings(sweep_ctx *c, const char *path, const char *out_dir,
+                              tg_status *st)
 {
-    *out = NULL;
-    char *buf = NULL;
-    size_t len = 0;
-    tg_code rc = tg_read_text(path, "sweep file", TG_SWEEP_FILE_MAX, &buf, &len, st);
-    if (rc != TG_OK)
-        return rc;
-    tg_sweep *sw = calloc(1, sizeof *sw);
-    sweep_ctx *c = calloc(1, sizeof *c);
-    if (!sw || !c) {
-        free(sw);
-        free(c);
-        free(buf);
-        return tg_fail(st, TG_ERR_NOMEM, "out of memory reading sweep file '%s'", path);
-    }
-    snprintf(sw->path, sizeof sw->path, "%s", path);
-    sw->cluster.cpus_per_task = 1;
-    strcpy(sw->cluster.time_limit, "01:00:00");
-    strcpy(sw->cluster.collect_time_limit, "00:10:00");
-    strcpy(sw->cluster.job_name, "twingyre-sweep");
-    c->sw = sw;
-    c->last_axis = -1;
-    rc = tg_ini_lines_start(&c->lines, path, buf, len, st);
-    c->lines.allow_continuation = 1;
-    c->lines.header = sweep_header;
-    c->lines.header_user = c;
-    if (rc == TG_OK)
-        rc = tg_ini_lines_finish(&c->lines, ini_parse_stream(tg_ini_lines_read, &c->lines, on_pair, c),
-                                 st);
-    free(buf);
-
-    /* [sweep] keys. */
-    if (rc == TG_OK && c->base[0] == '\0')
+    tg_sweep *sw = c->sw;
+    tg_code rc = TG_OK;
+    if (c->base[0] == '\0')
         rc = tg_fail(st, TG_ERR_CONFIG, "%s: [sweep] base is required (the config every member "
                                         "starts from, relative to the sweep file)", path);
     if (rc == TG_OK && !resolve(path, c->base, sw->base, sizeof sw->base))
@@ -605,32 +598,36 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
         while (dl > 1 && sw->directory[dl - 1] == '/')
             sw->directory[--dl] = '\0';
     }
+    return rc;
+}
 
-    /* Axes: [vary] keys first, then seeds, then members. */
-    if (rc == TG_OK) {
-        tg_sweep_axis *tmp = malloc(sizeof sw->axis);
-        if (!tmp) {
-            rc = tg_fail(st, TG_ERR_NOMEM, "out of memory reading sweep file '%s'", path);
-        } else {
-            int n = 0;
-            for (int pass = 0; pass < 3; pass++)
-                for (int a = 0; a < sw->naxes; a++)
-                    if ((int)sw->axis[a].kind == pass)
-                        tmp[n++] = sw->axis[a];
-            memcpy(sw->axis, tmp, sizeof sw->axis);
-            free(tmp);
-            sw->nkeys = 0;
-            for (int a = 0; a < sw->naxes; a++)
-                sw->nkeys += sw->axis[a].kind == TG_AXIS_KEY;
-            for (int a = 0; a < sw->nkeys; a++)
-                if (!strcmp(sw->axis[a].key, "initial.seed"))
-                    for (int b = sw->nkeys; b < sw->naxes; b++)
-                        if (sw->axis[b].kind == TG_AXIS_SEED)
-                            rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: [sweep] seeds and [vary] "
-                                         "initial.seed (line %d) both vary the seed; keep one",
-                                         path, sw->axis[b].line, sw->axis[a].line);
-        }
-    }
+/* Orders the axes ([vary] keys first, then seeds, then members), rejects a
+ * seed varied twice, a value listed twice and an empty sweep, and counts the
+ * members. */
+static tg_code sweep_axes(sweep_ctx *c, const char *path, tg_status *st)
+{
+    tg_sweep *sw = c->sw;
+    tg_code rc = TG_OK;
+    tg_sweep_axis *tmp = malloc(sizeof sw->axis);
+    if (!tmp)
+        return tg_fail(st, TG_ERR_NOMEM, "out of memory reading sweep file '%s'", path);
+    int n = 0;
+    for (int pass = 0; pass < 3; pass++)
+        for (int a = 0; a < sw->naxes; a++)
+            if ((int)sw->axis[a].kind == pass)
+                tmp[n++] = sw->axis[a];
+    memcpy(sw->axis, tmp, sizeof sw->axis);
+    free(tmp);
+    sw->nkeys = 0;
+    for (int a = 0; a < sw->naxes; a++)
+        sw->nkeys += sw->axis[a].kind == TG_AXIS_KEY;
+    for (int a = 0; a < sw->nkeys; a++)
+        if (!strcmp(sw->axis[a].key, "initial.seed"))
+            for (int b = sw->nkeys; b < sw->naxes; b++)
+                if (sw->axis[b].kind == TG_AXIS_SEED)
+                    rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: [sweep] seeds and [vary] "
+                                 "initial.seed (line %d) both vary the seed; keep one",
+                                 path, sw->axis[b].line, sw->axis[a].line);
     /* A value twice on a crossed axis would make two identical members. */
     for (int a = 0; a < sw->naxes && rc == TG_OK; a++) {
         if (sw->combine == TG_SWEEP_ZIP && sw->axis[a].kind == TG_AXIS_KEY)
@@ -672,20 +669,23 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
     /* With only seeds/members there is nothing to zip. */
     if (rc == TG_OK && sw->combine == TG_SWEEP_ZIP && sw->nkeys == 0)
         sw->combine = TG_SWEEP_PRODUCT;
+    return rc;
+}
 
-    /* The base config, loaded once: it decides the kind and checks the keys. */
-    tg_config *base = rc == TG_OK ? malloc(sizeof *base) : NULL;
-    if (rc == TG_OK && !base)
-        rc = tg_fail(st, TG_ERR_NOMEM, "out of memory reading the base config %s", sw->base);
-    if (rc == TG_OK) {
-        tg_config_defaults(base);
-        tg_status bst;
-        tg_status_clear(&bst);
-        if (tg_config_load_file(base, sw->base, &bst) != TG_OK)
-            rc = tg_fail(st, bst.code, "%s:%d: [sweep] base: %s", path, c->line_base, bst.msg);
-        else
-            rc = apply_common(sw, base, st);
-    }
+/* Loads the base config once into base: it decides the kind of the members
+ * and takes [common]; a key both [common] and varied, and [sweep] members
+ * in a twin sweep, are errors. */
+static tg_code sweep_base(sweep_ctx *c, const char *path, tg_config *base, tg_status *st)
+{
+    tg_sweep *sw = c->sw;
+    tg_code rc = TG_OK;
+    tg_config_defaults(base);
+    tg_status bst;
+    tg_status_clear(&bst);
+    if (tg_config_load_file(base, sw->base, &bst) != TG_OK)
+        rc = tg_fail(st, bst.code, "%s:%d: [sweep] base: %s", path, c->line_base, bst.msg);
+    else
+        rc = apply_common(sw, base, st);
     /* A key both [common] and varied would be set twice. */
     for (int i = 0; i < sw->ncommon && rc == TG_OK; i++)
         for (int a = 0; a < sw->naxes && rc == TG_OK; a++) {
@@ -720,6 +720,50 @@ tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_
             rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: [sweep] members: picks the noise of "
                          "stochastic closures in runs; a twin sets its ensemble with [twin] "
                          "members (vary twin.members instead)", path, sw->axis[a].line);
+    return rc;
+}
+
+tg_code tg_sweep_load(const char *path, const char *out_dir, tg_sweep **out, tg_status *st)
+{
+    *out = NULL;
+    char *buf = NULL;
+    size_t len = 0;
+    tg_code rc = tg_read_text(path, "sweep file", TG_SWEEP_FILE_MAX, &buf, &len, st);
+    if (rc != TG_OK)
+        return rc;
+    tg_sweep *sw = calloc(1, sizeof *sw);
+    sweep_ctx *c = calloc(1, sizeof *c);
+    if (!sw || !c) {
+        free(sw);
+        free(c);
+        free(buf);
+        return tg_fail(st, TG_ERR_NOMEM, "out of memory reading sweep file '%s'", path);
+    }
+    snprintf(sw->path, sizeof sw->path, "%s", path);
+    sw->cluster.cpus_per_task = 1;
+    strcpy(sw->cluster.time_limit, "01:00:00");
+    strcpy(sw->cluster.collect_time_limit, "00:10:00");
+    strcpy(sw->cluster.job_name, "twingyre-sweep");
+    c->sw = sw;
+    c->last_axis = -1;
+    rc = tg_ini_lines_start(&c->lines, path, buf, len, st);
+    c->lines.allow_continuation = 1;
+    c->lines.header = sweep_header;
+    c->lines.header_user = c;
+    if (rc == TG_OK)
+        rc = tg_ini_lines_finish(&c->lines, ini_parse_stream(tg_ini_lines_read, &c->lines, on_pair, c),
+                                 st);
+    free(buf);
+
+    if (rc == TG_OK)
+        rc = sweep_settings(c, path, out_dir, st);
+    if (rc == TG_OK)
+        rc = sweep_axes(c, path, st);
+    tg_config *base = rc == TG_OK ? malloc(sizeof *base) : NULL;
+    if (rc == TG_OK && !base)
+        rc = tg_fail(st, TG_ERR_NOMEM, "out of memory reading the base config %s", sw->base);
+    if (rc == TG_OK)
+        rc = sweep_base(c, path, base, st);
     if (rc == TG_OK)
         rc = check_keys(sw, base, st);
     if (rc == TG_OK)

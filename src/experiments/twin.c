@@ -445,118 +445,143 @@ static void report(const tg_twin_options *opt, const char *phase, int index, int
     opt->progress(&p, opt->progress_user);
 }
 
-static tg_code run_reference(twin_ctx *c, const tg_twin_options *opt, int nphases,
-                             tg_status *st)
+/* Builds the reference model, the coarse geometry, the coarsening and
+ * sub-grid operators, the output buffers, and sets the initial state. */
+static tg_code ref_setup(ref_ctx *r, tg_status *st)
 {
-    ref_ctx r;
-    memset(&r, 0, sizeof r);
-    r.c = c;
-    r.opt = opt;
-    tg_code rc = TG_OK;
-    const tg_config *cfg = &c->ref;
-    const double dt = cfg->step_s;
-    const long nspin = (long)llround(c->base.twin_spinup_days * TG_SECONDS_PER_DAY / dt);
-    const long nwin = (long)llround(c->base.twin_analysis_days * TG_SECONDS_PER_DAY / dt);
-    const long every = (long)llround(c->base.twin_sample_every_days * TG_SECONDS_PER_DAY / dt);
-    char path[TG_PATH_LEN + 64];
-
-    r.m = tg_model_create(cfg, st);
-    if (!r.m)
+    twin_ctx *c = r->c;
+    r->m = tg_model_create(&c->ref, st);
+    if (!r->m)
         return st->code ? st->code : TG_ERR_INTERNAL;
-    tg_model *m = r.m;
-    r.gc = tg_geometry_create(&c->coarse, st);
-    if (!r.gc) {
-        rc = st->code ? st->code : TG_ERR_INTERNAL;
-        goto done;
-    }
-    r.cg = tg_coarsen_create(m->geom, r.gc,
-                             c->base.twin_filter == TG_TWIN_FILTER_SHARP ? TG_FILTER_SHARP
-                                                                         : TG_FILTER_GAUSSIAN,
-                             c->base.twin_filter_width_factor, st);
-    if (!r.cg || !(r.sg = tg_subgrid_create(r.cg, m->geom, r.gc, m->nl, st)) ||
-        !(r.spec = tg_spectrum_create(r.gc, st))) {
-        rc = st->code ? st->code : TG_ERR_INTERNAL;
-        goto done;
-    }
-    c->ratio = tg_coarsen_ratio(r.cg);
-    c->width_m = tg_coarsen_width(r.cg);
-    c->cutoff = tg_coarsen_cutoff(r.cg);
-    r.nout_c = r.gc->o1 - r.gc->o0;
-    r.npc = (long)r.gc->ns * r.gc->ns;
-    const long nf = (long)m->nl * m->nout * m->nout, ncs = (long)m->nl * r.nout_c * r.nout_c;
-    r.fine_psi = malloc(sizeof(double) * nf);
-    r.fine_q = malloc(sizeof(double) * nf);
-    r.spec_out = malloc(sizeof(double) * (size_t)m->nl * r.spec->nbins);
-    r.rec = malloc(sizeof(double) * TG_BUDGET_MAX_VARS * TG_MAX_LAYERS);
-    r.cfg_text = config_text(c);
-    int ok = r.fine_psi && r.fine_q && r.spec_out && r.rec && r.cfg_text;
+    tg_model *m = r->m;
+    r->gc = tg_geometry_create(&c->coarse, st);
+    if (!r->gc)
+        return st->code ? st->code : TG_ERR_INTERNAL;
+    r->cg = tg_coarsen_create(m->geom, r->gc,
+                              c->base.twin_filter == TG_TWIN_FILTER_SHARP ? TG_FILTER_SHARP
+                                                                          : TG_FILTER_GAUSSIAN,
+                              c->base.twin_filter_width_factor, st);
+    if (!r->cg || !(r->sg = tg_subgrid_create(r->cg, m->geom, r->gc, m->nl, st)) ||
+        !(r->spec = tg_spectrum_create(r->gc, st)))
+        return st->code ? st->code : TG_ERR_INTERNAL;
+    c->ratio = tg_coarsen_ratio(r->cg);
+    c->width_m = tg_coarsen_width(r->cg);
+    c->cutoff = tg_coarsen_cutoff(r->cg);
+    r->nout_c = r->gc->o1 - r->gc->o0;
+    r->npc = (long)r->gc->ns * r->gc->ns;
+    const long nf = (long)m->nl * m->nout * m->nout, ncs = (long)m->nl * r->nout_c * r->nout_c;
+    r->fine_psi = malloc(sizeof(double) * nf);
+    r->fine_q = malloc(sizeof(double) * nf);
+    r->spec_out = malloc(sizeof(double) * (size_t)m->nl * r->spec->nbins);
+    r->rec = malloc(sizeof(double) * TG_BUDGET_MAX_VARS * TG_MAX_LAYERS);
+    r->cfg_text = config_text(c);
+    int ok = r->fine_psi && r->fine_q && r->spec_out && r->rec && r->cfg_text;
     for (int v = 0; v < 8; v++)
-        ok = ok && (r.out[v] = malloc(sizeof(double) * ncs)) != NULL;
-    if (!ok) {
-        rc = tg_fail(st, TG_ERR_NOMEM, "twin: no memory for the reference's output buffers");
-        goto done;
-    }
-    if ((rc = ref_initial(&r, st)) != TG_OK)
-        goto done;
+        ok = ok && (r->out[v] = malloc(sizeof(double) * ncs)) != NULL;
+    if (!ok)
+        return tg_fail(st, TG_ERR_NOMEM, "twin: no memory for the reference's output buffers");
+    return ref_initial(r, st);
+}
 
-    /* Files: subgrid.nc (coarse grid), reference/budget.nc (fine grid). */
+/* Opens the reference's files: subgrid.nc (coarse grid), reference/budget.nc
+ * and, with [twin] reference_fields, reference/fields.nc (fine grid). */
+static tg_code ref_open_files(ref_ctx *r, tg_status *st)
+{
+    twin_ctx *c = r->c;
+    tg_model *m = r->m;
+    char path[TG_PATH_LEN + 64];
     char refdir[TG_PATH_LEN + 16];
     snprintf(refdir, sizeof refdir, "%s/reference", c->dir);
-    if ((rc = tg_make_dirs(refdir, st)) != TG_OK)
-        goto done;
-    r.fine_grid = (tg_nc_grid){.nx = m->nout, .ny = m->nout, .nlayers = m->nl,
-                               .x = tg_model_out_coord(m), .y = tg_model_out_coord(m),
-                               .config_text = r.cfg_text,
-                               .command_line = opt->command_line ? opt->command_line : "",
-                               .title = "twingyre twin: the fine reference run"};
-    r.coarse_grid = r.fine_grid;
-    r.coarse_grid.nx = r.coarse_grid.ny = r.nout_c;
-    r.coarse_grid.x = r.coarse_grid.y = r.gc->coord + r.gc->o0;
-    r.coarse_grid.title = "twingyre twin: coarse-grained reference and sub-grid forcing";
-    const tg_nc_wavenumbers wn = {.nbins = r.spec->nbins, .k = r.spec->k,
-                                  .bin_width = r.spec->dk};
+    tg_code rc = tg_make_dirs(refdir, st);
+    if (rc != TG_OK)
+        return rc;
+    r->fine_grid = (tg_nc_grid){.nx = m->nout, .ny = m->nout, .nlayers = m->nl,
+                                .x = tg_model_out_coord(m), .y = tg_model_out_coord(m),
+                                .config_text = r->cfg_text,
+                                .command_line = r->opt->command_line ? r->opt->command_line : "",
+                                .title = "twingyre twin: the fine reference run"};
+    r->coarse_grid = r->fine_grid;
+    r->coarse_grid.nx = r->coarse_grid.ny = r->nout_c;
+    r->coarse_grid.x = r->coarse_grid.y = r->gc->coord + r->gc->o0;
+    r->coarse_grid.title = "twingyre twin: coarse-grained reference and sub-grid forcing";
+    const tg_nc_wavenumbers wn = {.nbins = r->spec->nbins, .k = r->spec->k,
+                                  .bin_width = r->spec->dk};
     const tg_twin_attr atts[] = {
-        {"coarsening_ratio", NULL, (double)tg_coarsen_ratio(r.cg)},
+        {"coarsening_ratio", NULL, (double)tg_coarsen_ratio(r->cg)},
         {"filter", c->base.twin_filter == TG_TWIN_FILTER_SHARP ? "sharp" : "gaussian", 0.0},
-        {"filter_width_m", NULL, tg_coarsen_width(r.cg)},
-        {"filter_cutoff_rad_m", NULL, tg_coarsen_cutoff(r.cg)},
-        {"reference_points", NULL, (double)cfg->points},
+        {"filter_width_m", NULL, tg_coarsen_width(r->cg)},
+        {"filter_cutoff_rad_m", NULL, tg_coarsen_cutoff(r->cg)},
+        {"reference_points", NULL, (double)c->ref.points},
         {"reference_grid_spacing_m", NULL, m->geom->dx},
-        {"coarse_grid_spacing_m", NULL, r.gc->dx},
+        {"coarse_grid_spacing_m", NULL, r->gc->dx},
         {"window_start_reference_day", NULL, c->base.twin_spinup_days},
         {"comment", "time counts from the start of the analysis window, which is "
                     "window_start_reference_day days into the reference run; an overbar is the "
                     "filter followed by restriction to the coarse nodes", 0.0},
     };
     snprintf(path, sizeof path, "%s/subgrid.nc", c->dir);
-    r.sub = tg_record_file_create(path, &r.coarse_grid, &wn, subgrid_vars, 8, atts,
-                                  (int)(sizeof atts / sizeof atts[0]), st);
-    if (!r.sub) {
-        rc = st->code ? st->code : TG_ERR_IO;
-        goto done;
-    }
-    tg_budget_layout_init(&r.lay, m->nl, m->term_active);
+    r->sub = tg_record_file_create(path, &r->coarse_grid, &wn, subgrid_vars, 8, atts,
+                                   (int)(sizeof atts / sizeof atts[0]), st);
+    if (!r->sub)
+        return st->code ? st->code : TG_ERR_IO;
+    tg_budget_layout_init(&r->lay, m->nl, m->term_active);
     {
         const char *labels[TG_MAX_CLOSURES];
         int n = tg_closure_host_count(m->closures);
         for (int k = 0; k < n; k++)
             labels[k] = tg_closure_host_label(m->closures, k);
-        tg_budget_layout_components(&r.lay, n, labels);
+        tg_budget_layout_components(&r->lay, n, labels);
     }
     snprintf(path, sizeof path, "%s/reference/budget.nc", c->dir);
-    r.bud = tg_budget_create(path, &r.fine_grid, r.lay.var, r.lay.n, st);
-    if (!r.bud) {
-        rc = st->code ? st->code : TG_ERR_IO;
-        goto done;
-    }
+    r->bud = tg_budget_create(path, &r->fine_grid, r->lay.var, r->lay.n, st);
+    if (!r->bud)
+        return st->code ? st->code : TG_ERR_IO;
     if (c->base.twin_reference_fields) {
         snprintf(path, sizeof path, "%s/reference/fields.nc", c->dir);
-        if (!(r.ff = tg_fields_create(path, &r.fine_grid, NULL, st))) {
-            rc = st->code ? st->code : TG_ERR_IO;
-            goto done;
-        }
+        if (!(r->ff = tg_fields_create(path, &r->fine_grid, NULL, st)))
+            return st->code ? st->code : TG_ERR_IO;
     }
+    return TG_OK;
+}
 
+/* After a step: TG_OK when the state is finite and within [time] max_cfl;
+ * otherwise steps back to the last good state, writes it to
+ * reference/checkpoint.nc and fails with TG_ERR_BLOWUP. */
+static tg_code ref_check_stable(ref_ctx *r, const tg_diag *after, tg_status *st)
+{
+    tg_model *m = r->m;
+    long bad = -1;
+    for (int k = 0; k < m->nl && bad < 0; k++)
+        bad = tg_find_nonfinite(m->geom, m->q + k * m->npl);
+    if (!(bad >= 0 || !isfinite(after->energy) || after->max_cfl > r->c->ref.max_cfl))
+        return TG_OK;
+    const double day = m->time_s / TG_SECONDS_PER_DAY;
+    memcpy(m->q, m->q0, sizeof(double) * m->nl * m->npl);
+    m->step--;
+    tg_model_derive(m);
+    tg_status s2;
+    tg_status_clear(&s2);
+    tg_code crc = ref_checkpoint(r, "checkpoint.nc", m->time_s, m->step, &s2);
+    return tg_fail(st, TG_ERR_BLOWUP,
+                   "the reference run became unstable at model day %.4f (%s); %s",
+                   day, bad >= 0 || !isfinite(after->energy) ? "non-finite PV" : "CFL",
+                   crc == TG_OK ? "the last good state is in reference/checkpoint.nc"
+                                : "the last good state could not be written");
+}
+
+/* Spin-up and analysis window: steps the reference, appends each step's
+ * budget, samples the window every [twin] sample_every_days and writes
+ * window_start.nc and the closing checkpoint.nc. */
+static tg_code ref_integrate(ref_ctx *r, int nphases, tg_status *st)
+{
+    twin_ctx *c = r->c;
+    const tg_twin_options *opt = r->opt;
+    tg_model *m = r->m;
+    tg_code rc;
+    const double dt = c->ref.step_s;
+    const long nspin = (long)llround(c->base.twin_spinup_days * TG_SECONDS_PER_DAY / dt);
+    const long nwin = (long)llround(c->base.twin_analysis_days * TG_SECONDS_PER_DAY / dt);
+    const long every = (long)llround(c->base.twin_sample_every_days * TG_SECONDS_PER_DAY / dt);
     tg_diag before, after;
     tg_term_rates rates;
     memset(&rates, 0, sizeof rates);
@@ -564,12 +589,12 @@ static tg_code run_reference(twin_ctx *c, const tg_twin_options *opt, int nphase
     tg_log(TG_LOG_INFO,
            "reference: %d x %d points, dx %.3f km; spin-up %ld steps, window %ld steps, a sample "
            "every %ld steps onto %d x %d points (r = %d)",
-           m->nout, m->nout, m->geom->dx / 1e3, nspin, nwin, every, r.nout_c, r.nout_c,
-           tg_coarsen_ratio(r.cg));
+           m->nout, m->nout, m->geom->dx / 1e3, nspin, nwin, every, r->nout_c, r->nout_c,
+           tg_coarsen_ratio(r->cg));
     if (nspin == 0) {
-        if ((rc = ref_checkpoint(&r, "window_start.nc", 0.0, 0, st)) != TG_OK ||
-            (rc = sample(&r, 0.0, 1, st)) != TG_OK)
-            goto done;
+        if ((rc = ref_checkpoint(r, "window_start.nc", 0.0, 0, st)) != TG_OK ||
+            (rc = sample(r, 0.0, 1, st)) != TG_OK)
+            return rc;
     }
     const long total = nspin + nwin;
     while (m->step < total) {
@@ -577,46 +602,30 @@ static tg_code run_reference(twin_ctx *c, const tg_twin_options *opt, int nphase
         if (opt->stop_requested && *opt->stop_requested) {
             tg_status s2;
             tg_status_clear(&s2);
-            ref_checkpoint(&r, "checkpoint.nc", m->time_s, m->step, &s2);
-            rc = tg_fail(st, TG_ERR_INTERRUPTED,
-                         "stopped on request in the reference run at day %.4g; its state is in "
-                         "%s/reference/checkpoint.nc", m->time_s / TG_SECONDS_PER_DAY, c->dir);
-            goto done;
+            ref_checkpoint(r, "checkpoint.nc", m->time_s, m->step, &s2);
+            return tg_fail(st, TG_ERR_INTERRUPTED,
+                           "stopped on request in the reference run at day %.4g; its state is "
+                           "in %s/reference/checkpoint.nc", m->time_s / TG_SECONDS_PER_DAY,
+                           c->dir);
         }
         if ((rc = tg_step(m, &rates, st)) != TG_OK)
-            goto done;
+            return rc;
         tg_diag_compute(m, &after);
-        long bad = -1;
-        for (int k = 0; k < m->nl && bad < 0; k++)
-            bad = tg_find_nonfinite(m->geom, m->q + k * m->npl);
-        if (bad >= 0 || !isfinite(after.energy) || after.max_cfl > cfg->max_cfl) {
-            const double day = m->time_s / TG_SECONDS_PER_DAY;
-            memcpy(m->q, m->q0, sizeof(double) * m->nl * m->npl);
-            m->step--;
-            tg_model_derive(m);
-            tg_status s2;
-            tg_status_clear(&s2);
-            tg_code crc = ref_checkpoint(&r, "checkpoint.nc", m->time_s, m->step, &s2);
-            rc = tg_fail(st, TG_ERR_BLOWUP,
-                         "the reference run became unstable at model day %.4f (%s); %s",
-                         day, bad >= 0 || !isfinite(after.energy) ? "non-finite PV" : "CFL",
-                         crc == TG_OK ? "the last good state is in reference/checkpoint.nc"
-                                      : "the last good state could not be written");
-            goto done;
-        }
-        tg_budget_pack(&r.lay, dt, &before, &after, &rates, r.rec);
-        if ((rc = tg_budget_append(r.bud, m->time_s, m->step, r.rec, st)) != TG_OK)
-            goto done;
+        if ((rc = ref_check_stable(r, &after, st)) != TG_OK)
+            return rc;
+        tg_budget_pack(&r->lay, dt, &before, &after, &rates, r->rec);
+        if ((rc = tg_budget_append(r->bud, m->time_s, m->step, r->rec, st)) != TG_OK)
+            return rc;
         if (m->step == nspin) {
             tg_log(TG_LOG_INFO, "reference: spin-up done at day %.2f, energy %.6e m2 s-2",
                    m->time_s / TG_SECONDS_PER_DAY, after.energy);
-            if ((rc = ref_checkpoint(&r, "window_start.nc", m->time_s, m->step, st)) != TG_OK ||
-                (rc = sample(&r, 0.0, 1, st)) != TG_OK || (rc = tg_budget_flush(r.bud, st)))
-                goto done;
+            if ((rc = ref_checkpoint(r, "window_start.nc", m->time_s, m->step, st)) != TG_OK ||
+                (rc = sample(r, 0.0, 1, st)) != TG_OK || (rc = tg_budget_flush(r->bud, st)))
+                return rc;
         } else if (m->step > nspin && (m->step - nspin) % every == 0) {
-            if ((rc = sample(&r, (m->step - nspin) * dt, 0, st)) != TG_OK ||
-                (rc = tg_budget_flush(r.bud, st)) != TG_OK)
-                goto done;
+            if ((rc = sample(r, (m->step - nspin) * dt, 0, st)) != TG_OK ||
+                (rc = tg_budget_flush(r->bud, st)) != TG_OK)
+                return rc;
         }
         if (!in_window)
             report(opt, "spin-up", 1, nphases, m->step, 0, nspin, dt, &after, m);
@@ -626,30 +635,53 @@ static tg_code run_reference(twin_ctx *c, const tg_twin_options *opt, int nphase
     }
     tg_log(TG_LOG_INFO, "reference: window done at day %.2f, energy %.6e m2 s-2",
            m->time_s / TG_SECONDS_PER_DAY, before.energy);
-    rc = ref_checkpoint(&r, "checkpoint.nc", m->time_s, m->step, st);
+    return ref_checkpoint(r, "checkpoint.nc", m->time_s, m->step, st);
+}
 
-done:
-    if (r.bud) {
-        tg_status s2;
-        tg_status_clear(&s2);
-        tg_code r2 = tg_budget_close(r.bud, rc == TG_OK ? st : &s2);
-        if (rc == TG_OK)
-            rc = r2;
-    }
-    if (r.sub) {
-        tg_status s2;
-        tg_status_clear(&s2);
-        tg_code r2 = tg_record_file_close(r.sub, rc == TG_OK ? st : &s2);
-        if (rc == TG_OK)
-            rc = r2;
-    }
-    if (r.ff) {
-        tg_status s2;
-        tg_status_clear(&s2);
-        tg_code r2 = tg_fields_close(r.ff, rc == TG_OK ? st : &s2);
-        if (rc == TG_OK)
-            rc = r2;
-    }
+/* The status a file's close reports into: st while rc is TG_OK, otherwise
+ * a cleared scratch status, so that st keeps the first error's message. */
+static tg_status *close_status(tg_code rc, tg_status *st, tg_status *scratch)
+{
+    if (rc == TG_OK)
+        return st;
+    tg_status_clear(scratch);
+    return scratch;
+}
+
+static tg_code first_error(tg_code rc, tg_code later)
+{
+    return rc != TG_OK ? rc : later;
+}
+
+/* Closes the reference's open files; returns rc, or the first close error
+ * when rc is TG_OK. */
+static tg_code ref_close_files(ref_ctx *r, tg_code rc, tg_status *st)
+{
+    tg_status s2;
+    if (r->bud)
+        rc = first_error(rc, tg_budget_close(r->bud, close_status(rc, st, &s2)));
+    if (r->sub)
+        rc = first_error(rc, tg_record_file_close(r->sub, close_status(rc, st, &s2)));
+    if (r->ff)
+        rc = first_error(rc, tg_fields_close(r->ff, close_status(rc, st, &s2)));
+    return rc;
+}
+
+/* The fine reference run of the twin: set-up, files, then spin-up and the
+ * sampled analysis window (ref_integrate). */
+static tg_code run_reference(twin_ctx *c, const tg_twin_options *opt, int nphases,
+                             tg_status *st)
+{
+    ref_ctx r;
+    memset(&r, 0, sizeof r);
+    r.c = c;
+    r.opt = opt;
+    tg_code rc = ref_setup(&r, st);
+    if (rc == TG_OK)
+        rc = ref_open_files(&r, st);
+    if (rc == TG_OK)
+        rc = ref_integrate(&r, nphases, st);
+    rc = ref_close_files(&r, rc, st);
     ref_free(&r);
     return rc;
 }

@@ -119,13 +119,86 @@ typedef struct {
     double energy_ratio;        /* largest E / yardstick over the samples */
 } march_result;
 
+/* After a step of march: 1 (with o->stable, fail_day and reason set) when
+ * the PV is not finite or the CFL number exceeds [time] max_cfl, else 0;
+ * o->max_cfl keeps the largest CFL number. */
+static int state_fault(tg_model *m, double day, double day0, long step0, march_result *o)
+{
+    long bad = -1;
+    int bad_layer = 0;
+    for (int k = 0; k < m->nl && bad < 0; k++)
+        if ((bad = tg_find_nonfinite(m->geom, m->q + k * m->npl)) >= 0)
+            bad_layer = k;
+    if (bad >= 0) {
+        o->stable = 0;
+        o->fail_day = day;
+        snprintf(o->reason, sizeof o->reason,
+                 "non-finite PV at day %.2f (step %ld) in layer %d at x = %.0f km, y = %.0f km",
+                 day - day0, m->step - step0, bad_layer + 1,
+                 m->geom->coord[bad % m->geom->ns] / 1e3,
+                 m->geom->coord[bad / m->geom->ns] / 1e3);
+        return 1;
+    }
+    int layer = 0;
+    double x = 0.0, y = 0.0;
+    const double cfl = tg_model_max_cfl(m, &layer, &x, &y);
+    o->max_cfl = fmax(o->max_cfl, cfl);
+    if (!(cfl <= m->cfg.max_cfl)) {
+        o->stable = 0;
+        o->fail_day = day;
+        snprintf(o->reason, sizeof o->reason,
+                 "CFL %.3g above max_cfl %.3g at day %.2f in layer %d at x = %.0f km, "
+                 "y = %.0f km",
+                 cfl, m->cfg.max_cfl, day - day0, layer + 1, x / 1e3, y / 1e3);
+        return 1;
+    }
+    return 0;
+}
+
+/* At step n of nsteps, the energy samples due (NSAMP over the run): each
+ * must be finite and, against yard (the run without the closure), within
+ * growth_limit times. 1 (with o set) on a fault, else 0. */
+static int sample_energy(tg_model *m, long n, long nsteps, int *next, const double *yard,
+                         double glim, double day, double day0, march_result *o)
+{
+    if (*next <= NSAMP && n == (long)*next * nsteps / NSAMP) {
+        /* Several samples may share a step when nsteps < NSAMP. */
+        const double e = tg_model_energy(m);
+        while (*next <= NSAMP && n == (long)*next * nsteps / NSAMP) {
+            o->esamp[*next] = e;
+            if (!isfinite(e)) {
+                o->stable = 0;
+                o->fail_day = day;
+                snprintf(o->reason, sizeof o->reason, "non-finite energy at day %.2f",
+                         day - day0);
+                return 1;
+            }
+            if (yard && isfinite(yard[*next]) && yard[*next] > 0.0) {
+                const double ratio = e / yard[*next];
+                o->energy_ratio =
+                    isfinite(o->energy_ratio) ? fmax(o->energy_ratio, ratio) : ratio;
+                if (ratio > glim) {
+                    o->stable = 0;
+                    o->fail_day = day;
+                    snprintf(o->reason, sizeof o->reason,
+                             "energy %.3g times that of the run without the closure at day "
+                             "%.2f (limit %g)",
+                             ratio, day - day0, glim);
+                    return 1;
+                }
+            }
+            (*next)++;
+        }
+    }
+    return 0;
+}
+
 /* Steps m from its current state nsteps times. Faults (NaN/Inf, CFL above
  * max_cfl, energy above growth_limit x yard[s] at a sample) end the march
  * with stable = 0 and the reason; yard may be NULL. */
 static tg_code march(vet_ctx *c, tg_model *m, long nsteps, const double *yard, march_result *o,
                      tg_status *st)
 {
-    const tg_config *cfg = &m->cfg;
     const double glim = c->cfg->vet_growth_limit;
     o->stable = 1;
     o->reason[0] = '\0';
@@ -157,63 +230,10 @@ static tg_code march(vet_ctx *c, tg_model *m, long nsteps, const double *yard, m
         }
         if (rc != TG_OK)
             return rc;
-        long bad = -1;
-        int bad_layer = 0;
-        for (int k = 0; k < m->nl && bad < 0; k++)
-            if ((bad = tg_find_nonfinite(m->geom, m->q + k * m->npl)) >= 0)
-                bad_layer = k;
-        if (bad >= 0) {
-            o->stable = 0;
-            o->fail_day = day;
-            snprintf(o->reason, sizeof o->reason,
-                     "non-finite PV at day %.2f (step %ld) in layer %d at x = %.0f km, y = %.0f km",
-                     day - day0, m->step - step0, bad_layer + 1,
-                     m->geom->coord[bad % m->geom->ns] / 1e3,
-                     m->geom->coord[bad / m->geom->ns] / 1e3);
+        if (state_fault(m, day, day0, step0, o))
             goto fault;
-        }
-        int layer = 0;
-        double x = 0.0, y = 0.0;
-        const double cfl = tg_model_max_cfl(m, &layer, &x, &y);
-        o->max_cfl = fmax(o->max_cfl, cfl);
-        if (!(cfl <= cfg->max_cfl)) {
-            o->stable = 0;
-            o->fail_day = day;
-            snprintf(o->reason, sizeof o->reason,
-                     "CFL %.3g above max_cfl %.3g at day %.2f in layer %d at x = %.0f km, "
-                     "y = %.0f km",
-                     cfl, cfg->max_cfl, day - day0, layer + 1, x / 1e3, y / 1e3);
+        if (sample_energy(m, n, nsteps, &next, yard, glim, day, day0, o))
             goto fault;
-        }
-        if (next <= NSAMP && n == (long)next * nsteps / NSAMP) {
-            /* Several samples may share a step when nsteps < NSAMP. */
-            const double e = tg_model_energy(m);
-            while (next <= NSAMP && n == (long)next * nsteps / NSAMP) {
-                o->esamp[next] = e;
-                if (!isfinite(e)) {
-                    o->stable = 0;
-                    o->fail_day = day;
-                    snprintf(o->reason, sizeof o->reason, "non-finite energy at day %.2f",
-                             day - day0);
-                    goto fault;
-                }
-                if (yard && isfinite(yard[next]) && yard[next] > 0.0) {
-                    const double ratio = e / yard[next];
-                    o->energy_ratio =
-                        isfinite(o->energy_ratio) ? fmax(o->energy_ratio, ratio) : ratio;
-                    if (ratio > glim) {
-                        o->stable = 0;
-                        o->fail_day = day;
-                        snprintf(o->reason, sizeof o->reason,
-                                 "energy %.3g times that of the run without the closure at day "
-                                 "%.2f (limit %g)",
-                                 ratio, day - day0, glim);
-                        goto fault;
-                    }
-                }
-                next++;
-            }
-        }
         progress(c, n, nsteps, day, last_day);
     }
     return TG_OK;
@@ -653,7 +673,9 @@ static void conservation_checks(tg_vet_report *r, int nl)
     }
 }
 
-static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
+/* The online run at the configured step and coefficient (on the finer grid
+ * when finer): stable, within the growth limit. */
+static void online_run_check(tg_vet_report *r, const tg_config *cfg, int finer)
 {
     const char *pre = finer ? "finer_" : "";
     char name[48], title[96];
@@ -673,6 +695,15 @@ static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
         add_check(r, name, title, x->fail_day, "day", "", NAN, TG_VET_FAIL, "%s", x->reason);
     else
         add_check(r, name, title, NAN, "", "", NAN, TG_VET_FAIL, "not run");
+}
+
+/* The largest stable coefficient multiplier against [vet] required_margin;
+ * a failure names the first unstable multiplier, or below x1 the largest
+ * stable one. */
+static void margin_check(tg_vet_report *r, const tg_config *cfg, int finer)
+{
+    const char *pre = finer ? "finer_" : "";
+    char name[48], title[96];
     int fi = 0;
     if (!finer)
         for (int i = 0; i < r->nfactors; i++)
@@ -715,27 +746,38 @@ static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
                          sizeof r->checks[0].figure_text, "<%g", smallest);
         }
     }
-    if (!finer) {
-        /* Information: the largest step factor stable at x1. */
-        double best = 0.0;
-        for (int i = 0; i < r->nfactors; i++) {
-            const tg_vet_run_result *y = find_run(r, 0, r->factors[i], 1.0);
-            if (!y || !y->stable)
-                break;
-            best = r->factors[i];
-        }
-        if (best > 0.0)
-            add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
-                      best, "", "", NAN, TG_VET_INFO,
-                      "every step factor up to it stays stable (%g s)", best * cfg->step_s);
-        else {
-            add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
-                      NAN, "", "", NAN, TG_VET_INFO,
-                      "unstable already at the smallest step factor tried, x%g", r->factors[0]);
-            snprintf(r->checks[r->nchecks - 1].figure_text, sizeof r->checks[0].figure_text,
-                     "<%g", r->factors[0]);
-        }
+}
+
+/* Information: the largest step factor stable at coefficient x1. */
+static void step_factor_check(tg_vet_report *r, const tg_config *cfg)
+{
+    double best = 0.0;
+    for (int i = 0; i < r->nfactors; i++) {
+        const tg_vet_run_result *y = find_run(r, 0, r->factors[i], 1.0);
+        if (!y || !y->stable)
+            break;
+        best = r->factors[i];
     }
+    if (best > 0.0)
+        add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
+                  best, "", "", NAN, TG_VET_INFO,
+                  "every step factor up to it stays stable (%g s)", best * cfg->step_s);
+    else {
+        add_check(r, "step_factor_margin", "largest stable step factor at coefficient x1",
+                  NAN, "", "", NAN, TG_VET_INFO,
+                  "unstable already at the smallest step factor tried, x%g", r->factors[0]);
+        snprintf(r->checks[r->nchecks - 1].figure_text, sizeof r->checks[0].figure_text,
+                 "<%g", r->factors[0]);
+    }
+}
+
+/* The verdicts of the online runs on one grid (the finer one when finer). */
+static void online_checks(tg_vet_report *r, const tg_config *cfg, int finer)
+{
+    online_run_check(r, cfg, finer);
+    margin_check(r, cfg, finer);
+    if (!finer)
+        step_factor_check(r, cfg);
 }
 
 /* ------------------------------------------------------------------ */
@@ -830,19 +872,10 @@ static tg_code stochastic(const tg_config *cfg, int *flag, tg_status *st)
     return rc;
 }
 
-tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_report **rep,
-                   tg_status *st)
+/* The report's header: closure, grid, step, window and the sorted step
+ * factors and multipliers (1 among them). */
+static void report_start(tg_vet_report *r, const tg_config *cfg)
 {
-    *rep = NULL;
-    tg_code rc = tg_vet_validate(cfg, opt, st);
-    if (rc != TG_OK)
-        return rc;
-    const double t0 = tg_clock_s();
-    tg_vet_report *r = calloc(1, sizeof *r);
-    vet_ctx c = {.cfg = cfg, .opt = opt, .r = r};
-    tg_model *m = NULL;
-    if (!r)
-        return tg_fail(st, TG_ERR_NOMEM, "vet: no memory for the report");
     const tg_raw_entry *use = tg_config_raw(cfg, "closure", "use");
     snprintf(r->closure, sizeof r->closure, "%s", use ? use->value : "none");
     r->points = cfg->points;
@@ -854,84 +887,73 @@ tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_repor
     r->nmultipliers = with_one_sorted(cfg->vet_multipliers, cfg->n_vet_multipliers, r->multipliers);
     for (int i = 0; i < r->nfactors; i++)
         r->margin[i] = NAN;
-    const int finer = cfg->vet_finer_grid && next_finer_points(cfg) <= 4097;
-    c.nphases = (strcmp(cfg->vet_reference_state, "spinup") == 0) + 3 +
-                r->nfactors * (1 + r->nmultipliers) + (finer ? 1 + r->nmultipliers : 0);
+}
 
-    if (cfg->step_choice == TG_STEP_ADAPTIVE)
-        tg_log(TG_LOG_INFO, "vet: every run takes fixed steps (step_s times each step factor); "
-                            "[time] step_choice = adaptive does not apply");
-    if (!(m = tg_model_create(cfg, st))) {
-        rc = st->code;
-        goto done;
-    }
-    m->cfg.step_choice = TG_STEP_FIXED; /* time is step * dt, as in the variants */
-    c.nl = m->nl;
-    c.npl = m->npl;
-    c.nout = m->nout;
-    c.q_rest = malloc(sizeof(double) * (size_t)(m->nl * m->npl));
-    c.q_ref = malloc(sizeof(double) * (size_t)(m->nl * m->npl));
-    c.psi_ref_out = malloc(sizeof(double) * (size_t)m->nl * m->nout * m->nout);
-    if (!c.q_rest || !c.q_ref || !c.psi_ref_out) {
-        rc = tg_fail(st, TG_ERR_NOMEM, "vet: no memory for the states");
-        goto done;
-    }
+/* The state buffers of c, whether the closures are dissipative, their
+ * noise statistics when one of them advances in time, and the rest state. */
+static tg_code vet_prepare(vet_ctx *c, tg_model *m, tg_status *st)
+{
+    tg_vet_report *r = c->r;
+    c->nl = m->nl;
+    c->npl = m->npl;
+    c->nout = m->nout;
+    c->q_rest = malloc(sizeof(double) * (size_t)(m->nl * m->npl));
+    c->q_ref = malloc(sizeof(double) * (size_t)(m->nl * m->npl));
+    c->psi_ref_out = malloc(sizeof(double) * (size_t)m->nl * m->nout * m->nout);
+    if (!c->q_rest || !c->q_ref || !c->psi_ref_out)
+        return tg_fail(st, TG_ERR_NOMEM, "vet: no memory for the states");
     r->dissipative = 1;
     int advances = 0;
     for (int i = 0; i < tg_closure_host_count(m->closures); i++) {
         r->dissipative &= tg_closure_host_ops(m->closures, i)->dissipative != 0;
         advances |= tg_closure_host_ops(m->closures, i)->advance != NULL;
     }
-    if (advances && (rc = stochastic(cfg, &r->stochastic, st)) != TG_OK)
-        goto done;
-    memcpy(c.q_rest, m->q, sizeof(double) * (size_t)(m->nl * m->npl));
+    tg_code rc;
+    if (advances && (rc = stochastic(c->cfg, &r->stochastic, st)) != TG_OK)
+        return rc;
+    memcpy(c->q_rest, m->q, sizeof(double) * (size_t)(m->nl * m->npl));
+    return TG_OK;
+}
 
-    /* The reference state. */
-    if ((rc = reference_state(&c, m, st)) != TG_OK)
-        goto done;
-
+/* Checks 1 and 2 on the model m: linear around rest and around the
+ * reference state, then conservation at a random state of the reference's
+ * amplitude and at the reference. */
+static tg_code linear_and_conservation(vet_ctx *c, tg_model *m, tg_status *st)
+{
+    const tg_config *cfg = c->cfg;
+    tg_vet_report *r = c->r;
+    tg_code rc;
     /* 1. Linear. */
-    start_phase(&c, "linear check around rest");
-    progress(&c, 0, 0, 0, 0);
-    if ((rc = tg_vet_linearize(m, c.q_rest, cfg->vet_krylov_dimension, cfg->seed, &r->linear[0],
+    start_phase(c, "linear check around rest");
+    progress(c, 0, 0, 0, 0);
+    if ((rc = tg_vet_linearize(m, c->q_rest, cfg->vet_krylov_dimension, cfg->seed, &r->linear[0],
                                st)) != TG_OK)
-        goto done;
-    start_phase(&c, "linear check around the reference state");
-    progress(&c, 0, 0, 0, 0);
-    if ((rc = tg_vet_linearize(m, c.q_ref, cfg->vet_krylov_dimension, cfg->seed, &r->linear[1],
+        return rc;
+    start_phase(c, "linear check around the reference state");
+    progress(c, 0, 0, 0, 0);
+    if ((rc = tg_vet_linearize(m, c->q_ref, cfg->vet_krylov_dimension, cfg->seed, &r->linear[1],
                                st)) != TG_OK)
-        goto done;
+        return rc;
 
     /* 2. Conservation: a random state of the reference's amplitude, then the reference. */
-    start_phase(&c, "conservation");
-    progress(&c, 0, 0, 0, 0);
-    {
-        double amp = psi_rms(m);
-        if (!(amp > 0.0))
-            amp = cfg->noise_amplitude_m2_per_s;
-        tg_model_set_noise(m, amp, cfg->seed ^ 0x9e3779b97f4a7c15ull);
-        if ((rc = conservation_at(&c, m, 0, st)) != TG_OK)
-            goto done;
-        memcpy(m->q, c.q_ref, sizeof(double) * (size_t)(m->nl * m->npl));
-        tg_model_derive(m);
-        if ((rc = conservation_at(&c, m, 1, st)) != TG_OK)
-            goto done;
-    }
-    tg_model_destroy(m);
-    m = NULL;
+    start_phase(c, "conservation");
+    progress(c, 0, 0, 0, 0);
+    double amp = psi_rms(m);
+    if (!(amp > 0.0))
+        amp = cfg->noise_amplitude_m2_per_s;
+    tg_model_set_noise(m, amp, cfg->seed ^ 0x9e3779b97f4a7c15ull);
+    if ((rc = conservation_at(c, m, 0, st)) != TG_OK)
+        return rc;
+    memcpy(m->q, c->q_ref, sizeof(double) * (size_t)(m->nl * m->npl));
+    tg_model_derive(m);
+    return conservation_at(c, m, 1, st);
+}
 
-    /* 3. Online on the configured grid. */
-    for (int i = 0; i < r->nfactors; i++)
-        if ((rc = online_set(&c, cfg, 0, r->factors[i], c.q_ref, &r->margin[i], st)) != TG_OK)
-            goto done;
-
-    /* 4. The next finer grid. */
-    if (finer && (rc = finer_grid(&c, st)) != TG_OK)
-        goto done;
-
-    /* Verdicts. */
+/* The verdicts of every check, and whether all passed. */
+static void verdicts(tg_vet_report *r, const tg_config *cfg, int nl, int finer)
+{
     linear_checks(r, cfg);
-    conservation_checks(r, c.nl);
+    conservation_checks(r, nl);
     online_checks(r, cfg, 0);
     if (finer)
         online_checks(r, cfg, 1);
@@ -947,6 +969,57 @@ tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_repor
     for (int i = 0; i < r->nchecks; i++)
         if (r->checks[i].verdict == TG_VET_FAIL)
             r->passed = 0;
+}
+
+tg_code tg_vet_run(const tg_config *cfg, const tg_vet_options *opt, tg_vet_report **rep,
+                   tg_status *st)
+{
+    *rep = NULL;
+    tg_code rc = tg_vet_validate(cfg, opt, st);
+    if (rc != TG_OK)
+        return rc;
+    const double t0 = tg_clock_s();
+    tg_vet_report *r = calloc(1, sizeof *r);
+    vet_ctx c = {.cfg = cfg, .opt = opt, .r = r};
+    tg_model *m = NULL;
+    if (!r)
+        return tg_fail(st, TG_ERR_NOMEM, "vet: no memory for the report");
+    report_start(r, cfg);
+    const int finer = cfg->vet_finer_grid && next_finer_points(cfg) <= 4097;
+    c.nphases = (strcmp(cfg->vet_reference_state, "spinup") == 0) + 3 +
+                r->nfactors * (1 + r->nmultipliers) + (finer ? 1 + r->nmultipliers : 0);
+
+    if (cfg->step_choice == TG_STEP_ADAPTIVE)
+        tg_log(TG_LOG_INFO, "vet: every run takes fixed steps (step_s times each step factor); "
+                            "[time] step_choice = adaptive does not apply");
+    if (!(m = tg_model_create(cfg, st))) {
+        rc = st->code;
+        goto done;
+    }
+    m->cfg.step_choice = TG_STEP_FIXED; /* time is step * dt, as in the variants */
+    if ((rc = vet_prepare(&c, m, st)) != TG_OK)
+        goto done;
+
+    /* The reference state. */
+    if ((rc = reference_state(&c, m, st)) != TG_OK)
+        goto done;
+
+    /* 1. Linear and 2. conservation. */
+    if ((rc = linear_and_conservation(&c, m, st)) != TG_OK)
+        goto done;
+    tg_model_destroy(m);
+    m = NULL;
+
+    /* 3. Online on the configured grid. */
+    for (int i = 0; i < r->nfactors; i++)
+        if ((rc = online_set(&c, cfg, 0, r->factors[i], c.q_ref, &r->margin[i], st)) != TG_OK)
+            goto done;
+
+    /* 4. The next finer grid. */
+    if (finer && (rc = finer_grid(&c, st)) != TG_OK)
+        goto done;
+
+    verdicts(r, cfg, c.nl, finer);
     r->seconds = tg_clock_s() - t0;
     rc = write_json(r, cfg, opt ? opt->command_line : NULL, st);
 

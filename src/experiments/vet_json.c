@@ -128,16 +128,9 @@ static void json_linear(tg_strbuf *b, const tg_vet_linear *l, double dt)
     tg_sb_printf(b, "]}");
 }
 
-void tg_vet_json(const tg_vet_report *r, const tg_config *cfg, const char *command_line,
-                 tg_strbuf *b)
+/* "settings": the vetted closure and the [vet] settings of the battery. */
+static void json_settings(const tg_vet_report *r, const tg_config *cfg, tg_strbuf *b)
 {
-    tg_sb_printf(b, "{\n  \"program\": ");
-    jstr(b, "twingyre " PACKAGE_VERSION);
-    tg_sb_printf(b, ",\n  \"command_line\": ");
-    jstr(b, command_line ? command_line : "");
-    tg_sb_printf(b, ",\n  \"passed\": %s,\n  \"seconds\": ", r->passed ? "true" : "false");
-    jnum(b, r->seconds);
-
     tg_sb_printf(b, ",\n  \"settings\": {\"closure\": ");
     jstr(b, r->closure);
     tg_sb_printf(b, ", \"declared_dissipative\": %s, \"geometry\": ",
@@ -175,19 +168,12 @@ void tg_vet_json(const tg_vet_report *r, const tg_config *cfg, const char *comma
         tg_sb_printf(b, ", \"stochastic_noise\": \"frozen during the linear and conservation "
                         "checks (same step and stage for every evaluation)\"");
     tg_sb_printf(b, "}");
+}
 
-    tg_sb_printf(b, ",\n  \"reference\": {\"made_by\": ");
-    jstr(b, r->reference);
-    tg_sb_printf(b, ", \"energy_m2_s-2\": ");
-    jnum(b, r->reference_energy);
-    tg_sb_printf(b, "}");
-
-    tg_sb_printf(b, ",\n  \"linear\": {\n    \"rest\": ");
-    json_linear(b, &r->linear[0], r->step_s);
-    tg_sb_printf(b, ",\n    \"reference\": ");
-    json_linear(b, &r->linear[1], r->step_s);
-    tg_sb_printf(b, "\n  }");
-
+/* "conservation": integral ratios and energy and enstrophy input at the
+ * random and the eddying state. */
+static void json_conservation(const tg_vet_report *r, tg_strbuf *b)
+{
     tg_sb_printf(b, ",\n  \"conservation\": {");
     const char *states[2] = {"random", "eddying"};
     for (int s = 0; s < 2; s++) {
@@ -208,7 +194,11 @@ void tg_vet_json(const tg_vet_report *r, const tg_config *cfg, const char *comma
         tg_sb_printf(b, "]}");
     }
     tg_sb_printf(b, "\n  }");
+}
 
+/* "online": the stability margins and every online run. */
+static void json_online(const tg_vet_report *r, tg_strbuf *b)
+{
     tg_sb_printf(b, ",\n  \"online\": {\"margins\": [");
     for (int i = 0; i < r->nfactors; i++) {
         tg_sb_printf(b, "%s{\"step_factor\": ", i ? ", " : "");
@@ -255,7 +245,11 @@ void tg_vet_json(const tg_vet_report *r, const tg_config *cfg, const char *comma
         tg_sb_printf(b, "}");
     }
     tg_sb_printf(b, "\n    ]\n  }");
+}
 
+/* "checks": each check with its figure, limit and verdict. */
+static void json_checks(const tg_vet_report *r, tg_strbuf *b)
+{
     tg_sb_printf(b, ",\n  \"checks\": [");
     for (int i = 0; i < r->nchecks; i++) {
         const tg_vet_check *k = &r->checks[i];
@@ -277,5 +271,35 @@ void tg_vet_json(const tg_vet_report *r, const tg_config *cfg, const char *comma
         jstr(b, k->reason);
         tg_sb_printf(b, "}");
     }
-    tg_sb_printf(b, "\n  ]\n}\n");
+    tg_sb_printf(b, "\n  ]");
+}
+
+void tg_vet_json(const tg_vet_report *r, const tg_config *cfg, const char *command_line,
+                 tg_strbuf *b)
+{
+    tg_sb_printf(b, "{\n  \"program\": ");
+    jstr(b, "twingyre " PACKAGE_VERSION);
+    tg_sb_printf(b, ",\n  \"command_line\": ");
+    jstr(b, command_line ? command_line : "");
+    tg_sb_printf(b, ",\n  \"passed\": %s,\n  \"seconds\": ", r->passed ? "true" : "false");
+    jnum(b, r->seconds);
+
+    json_settings(r, cfg, b);
+
+    tg_sb_printf(b, ",\n  \"reference\": {\"made_by\": ");
+    jstr(b, r->reference);
+    tg_sb_printf(b, ", \"energy_m2_s-2\": ");
+    jnum(b, r->reference_energy);
+    tg_sb_printf(b, "}");
+
+    tg_sb_printf(b, ",\n  \"linear\": {\n    \"rest\": ");
+    json_linear(b, &r->linear[0], r->step_s);
+    tg_sb_printf(b, ",\n    \"reference\": ");
+    json_linear(b, &r->linear[1], r->step_s);
+    tg_sb_printf(b, "\n  }");
+
+    json_conservation(r, b);
+    json_online(r, b);
+    json_checks(r, b);
+    tg_sb_printf(b, "\n}\n");
 }

@@ -203,8 +203,8 @@ static tg_code derived_rules(const tg_config *cfg, const char *origin, tg_status
     return TG_OK;
 }
 
-/* The rules between the keys a run uses (no closures, no warnings). */
-static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *st)
+/* [grid] points against the geometry: 2^k + 1 in a basin, 2^k periodic. */
+static tg_code grid_rules(const tg_config *cfg, const char *origin, tg_status *st)
 {
     char note[64];
     int periodic = cfg->geometry == TG_GEOM_PERIODIC;
@@ -232,6 +232,15 @@ static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *s
                         "periodic geometry%s needs 2^k points with 16 <= points <= 4096 "
                         "(e.g. 64, 128, 256, 512), %s", note, got);
     }
+    return TG_OK;
+}
+
+/* Layers, their interfaces' reduced gravities and the background flow of
+ * each layer. */
+static tg_code layer_rules(const tg_config *cfg, const char *origin, tg_status *st)
+{
+    char note[64];
+    int periodic = cfg->geometry == TG_GEOM_PERIODIC;
 
     /* Layers and interfaces. */
     if (cfg->nlayers < 1 || cfg->nlayers > TG_MAX_LAYERS)
@@ -266,6 +275,14 @@ static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *s
         return tg_cfg_key_fail(cfg, K_BACKGROUND_U, origin, st,
                         "expected one value per layer (%d), got %d", cfg->nlayers,
                         cfg->n_zonal_velocity);
+    return TG_OK;
+}
+
+/* Keys that apply only to one geometry. */
+static tg_code geometry_rules(const tg_config *cfg, const char *origin, tg_status *st)
+{
+    char note[64];
+    int periodic = cfg->geometry == TG_GEOM_PERIODIC;
 
     /* Geometry-specific keys. */
     if (periodic) {
@@ -283,6 +300,14 @@ static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *s
                                    "use profile = none",
                                    tg_cfg_wind_names[cfg->wind_profile], note);
     }
+    return TG_OK;
+}
+
+/* The time step against the run, adaptive-step bounds and output
+ * intervals. */
+static tg_code time_rules(const tg_config *cfg, const char *origin, tg_status *st)
+{
+    char note[64];
 
     /* Time stepping and output intervals. */
     double run_s = cfg->duration_days * TG_SECONDS_PER_DAY;
@@ -327,10 +352,19 @@ static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *s
                             days, note, cfg->step_s, cfg->step_s / TG_SECONDS_PER_DAY);
         }
     }
+    return TG_OK;
+}
 
-    tg_code drc = derived_rules(cfg, origin, st);
-    if (drc != TG_OK)
-        return drc;
+/* The rules between the keys a run uses (no closures, no warnings). */
+static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *st)
+{
+    tg_code rc;
+    if ((rc = grid_rules(cfg, origin, st)) != TG_OK ||
+        (rc = layer_rules(cfg, origin, st)) != TG_OK ||
+        (rc = geometry_rules(cfg, origin, st)) != TG_OK ||
+        (rc = time_rules(cfg, origin, st)) != TG_OK ||
+        (rc = derived_rules(cfg, origin, st)) != TG_OK)
+        return rc;
 
     /* The initial state file. */
     if (cfg->initial_kind == TG_INIT_FILE) {
@@ -340,10 +374,7 @@ static tg_code core_rules(const tg_config *cfg, const char *origin, tg_status *s
         char hint[64] = "";
         if (close)
             snprintf(hint, sizeof hint, "; did you mean %s?", close);
-        tg_code rc = state_file_rule(cfg, K_INITIAL_STATE, path, "initial state", hint,
-                                            origin, st);
-        if (rc != TG_OK)
-            return rc;
+        return state_file_rule(cfg, K_INITIAL_STATE, path, "initial state", hint, origin, st);
     }
     return TG_OK;
 }

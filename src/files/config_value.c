@@ -161,6 +161,93 @@ static const char *text_problem(const char *v)
     return NULL;
 }
 
+/* A real value of row r: a double within the row's bounds and its range of
+ * sane values. */
+static int apply_real(const key_row *r, tg_config *cfg, const char *value, const char *q,
+                      char *why, size_t n)
+{
+    char *base = (char *)cfg;
+    double v = 0.0;
+    int rc = parse_real(value, &v);
+    if (rc == NUM_RANGE) {
+        snprintf(why, n, "expected %s, got %s, which is outside the range of a double", r->expect, q);
+        return -1;
+    }
+    if (rc != NUM_OK || !in_bounds(r, v)) {
+        snprintf(why, n, "expected %s, got %s", r->expect, q);
+        return -1;
+    }
+    const double a = r->nonzero ? fabs(v) : v;
+    if (r->sane && !(a >= r->sane_lo && a <= r->sane_hi)) {
+        snprintf(why, n, "expected %s %s, got %s", r->expect, r->sane, q);
+        return -1;
+    }
+    memcpy(base + r->off, &v, sizeof v);
+    return 0;
+}
+
+/* A comma-separated list of reals of row r: from min_count to max_count
+ * values, each within the row's bounds; stores the values and their count. */
+static int apply_real_list(const key_row *r, tg_config *cfg, const char *value, const char *q,
+                           char *why, size_t n)
+{
+    char *base = (char *)cfg;
+    double vals[TG_MAX_LAYERS] = {0};
+    int total = 0;
+    if (value[0] != '\0') {
+        total = 1;
+        for (const char *p = value; *p; p++)
+            total += *p == ',';
+    }
+    if (total > r->max_count) {
+        snprintf(why, n, "expected %s, got %s (%d values, at most %d are allowed)",
+                 r->expect, q, total, r->max_count);
+        return -1;
+    }
+    if (total < r->min_count) {
+        snprintf(why, n, "expected %s, got %s (no values)", r->expect, q);
+        return -1;
+    }
+    const char *p = value;
+    for (int k = 0; k < total; k++) {
+        char item[64];
+        size_t len = strcspn(p, ",");
+        const char *s = p, *e = p + len;
+        while (s < e && isspace((unsigned char)*s))
+            s++;
+        while (e > s && isspace((unsigned char)e[-1]))
+            e--;
+        size_t ilen = (size_t)(e - s);
+        int rc = NUM_SYNTAX;
+        if (ilen < sizeof item) {
+            memcpy(item, s, ilen);
+            item[ilen] = '\0';
+            rc = ilen ? parse_real(item, &vals[k]) : NUM_SYNTAX;
+        } else {
+            snprintf(item, sizeof item, "%.*s...", 40, s);
+        }
+        if (ilen == 0) {
+            snprintf(why, n, "expected %s, got %s (value %d is empty)", r->expect, q, k + 1);
+            return -1;
+        }
+        if (rc != NUM_OK) {
+            snprintf(why, n, "expected %s, got %s (value %d, '%s', is not a real number%s)",
+                     r->expect, q, k + 1, item,
+                     rc == NUM_RANGE ? " that fits in a double" : "");
+            return -1;
+        }
+        if (!in_bounds(r, vals[k])) {
+            snprintf(why, n, "expected %s, got %s (value %d, '%s', is not %s)",
+                     r->expect, q, k + 1, item, r->item_rule);
+            return -1;
+        }
+        p += len + (p[len] == ',');
+    }
+    memcpy(base + r->off, vals, (size_t)r->max_count * sizeof vals[0]);
+    memcpy(base + r->count_off, &total, sizeof total);
+    return 0;
+}
+
 /* Parses `value` for row r and stores it into cfg. On failure cfg is left
  * untouched and `why` (size n) says what was expected and what was found. */
 int tg_cfg_apply_value(const key_row *r, tg_config *cfg, const char *value, char *why, size_t n)
@@ -170,25 +257,8 @@ int tg_cfg_apply_value(const key_row *r, tg_config *cfg, const char *value, char
     tg_cfg_quote(value, q, sizeof q);
 
     switch (r->kind) {
-    case V_REAL: {
-        double v = 0.0;
-        int rc = parse_real(value, &v);
-        if (rc == NUM_RANGE) {
-            snprintf(why, n, "expected %s, got %s, which is outside the range of a double", r->expect, q);
-            return -1;
-        }
-        if (rc != NUM_OK || !in_bounds(r, v)) {
-            snprintf(why, n, "expected %s, got %s", r->expect, q);
-            return -1;
-        }
-        const double a = r->nonzero ? fabs(v) : v;
-        if (r->sane && !(a >= r->sane_lo && a <= r->sane_hi)) {
-            snprintf(why, n, "expected %s %s, got %s", r->expect, r->sane, q);
-            return -1;
-        }
-        memcpy(base + r->off, &v, sizeof v);
-        return 0;
-    }
+    case V_REAL:
+        return apply_real(r, cfg, value, q, why, n);
     case V_INT: {
         long long v = 0;
         int rc = parse_int(value, &v);
@@ -209,62 +279,8 @@ int tg_cfg_apply_value(const key_row *r, tg_config *cfg, const char *value, char
         memcpy(base + r->off, &v, sizeof v);
         return 0;
     }
-    case V_REAL_LIST: {
-        double vals[TG_MAX_LAYERS] = {0};
-        int total = 0;
-        if (value[0] != '\0') {
-            total = 1;
-            for (const char *p = value; *p; p++)
-                total += *p == ',';
-        }
-        if (total > r->max_count) {
-            snprintf(why, n, "expected %s, got %s (%d values, at most %d are allowed)",
-                     r->expect, q, total, r->max_count);
-            return -1;
-        }
-        if (total < r->min_count) {
-            snprintf(why, n, "expected %s, got %s (no values)", r->expect, q);
-            return -1;
-        }
-        const char *p = value;
-        for (int k = 0; k < total; k++) {
-            char item[64];
-            size_t len = strcspn(p, ",");
-            const char *s = p, *e = p + len;
-            while (s < e && isspace((unsigned char)*s))
-                s++;
-            while (e > s && isspace((unsigned char)e[-1]))
-                e--;
-            size_t ilen = (size_t)(e - s);
-            int rc = NUM_SYNTAX;
-            if (ilen < sizeof item) {
-                memcpy(item, s, ilen);
-                item[ilen] = '\0';
-                rc = ilen ? parse_real(item, &vals[k]) : NUM_SYNTAX;
-            } else {
-                snprintf(item, sizeof item, "%.*s...", 40, s);
-            }
-            if (ilen == 0) {
-                snprintf(why, n, "expected %s, got %s (value %d is empty)", r->expect, q, k + 1);
-                return -1;
-            }
-            if (rc != NUM_OK) {
-                snprintf(why, n, "expected %s, got %s (value %d, '%s', is not a real number%s)",
-                         r->expect, q, k + 1, item,
-                         rc == NUM_RANGE ? " that fits in a double" : "");
-                return -1;
-            }
-            if (!in_bounds(r, vals[k])) {
-                snprintf(why, n, "expected %s, got %s (value %d, '%s', is not %s)",
-                         r->expect, q, k + 1, item, r->item_rule);
-                return -1;
-            }
-            p += len + (p[len] == ',');
-        }
-        memcpy(base + r->off, vals, (size_t)r->max_count * sizeof vals[0]);
-        memcpy(base + r->count_off, &total, sizeof total);
-        return 0;
-    }
+    case V_REAL_LIST:
+        return apply_real_list(r, cfg, value, q, why, n);
     case V_CHOICE:
         for (int k = 0; r->choices[k]; k++) {
             if (strcmp(value, r->choices[k]) == 0) {

@@ -522,39 +522,41 @@ static tg_code budget_alloc_buffer(tg_budget_file *b, size_t cap, tg_status *st)
     return TG_OK;
 }
 
-tg_budget_file *tg_budget_create(const char *path, const tg_nc_grid *g, const tg_budget_var *vars,
-                                 int nvars, tg_status *st)
+/* The checks of tg_budget_create on its arguments: a whole grid, named
+ * variables per layer (1), per interface (2) or not (0), interfaces only
+ * with two layers or more. */
+static tg_code budget_check(const char *path, const tg_nc_grid *g, const tg_budget_var *vars,
+                            int nvars, tg_status *st)
 {
     tg_code code;
-    if (check_grid(path, g, st))
-        return NULL;
-    if (nvars < 0 || (nvars > 0 && !vars)) {
-        tg_fail(st, TG_ERR_INTERNAL, "%s: budget variable list is missing", path);
-        return NULL;
-    }
+    if ((code = check_grid(path, g, st)))
+        return code;
+    if (nvars < 0 || (nvars > 0 && !vars))
+        return tg_fail(st, TG_ERR_INTERNAL, "%s: budget variable list is missing", path);
     int need_interface = 0;
     for (int v = 0; v < nvars; v++) {
-        if (!vars[v].name || !vars[v].units || !vars[v].long_name) {
-            tg_fail(st, TG_ERR_INTERNAL, "%s: budget variable %d lacks a name, units or long name",
-                    path, v);
-            return NULL;
-        }
-        if (vars[v].per_layer < 0 || vars[v].per_layer > 2) {
-            tg_fail(st, TG_ERR_INTERNAL, "%s: budget variable %s has per_layer %d (must be 0, 1 or 2)",
-                    path, vars[v].name, vars[v].per_layer);
-            return NULL;
-        }
+        if (!vars[v].name || !vars[v].units || !vars[v].long_name)
+            return tg_fail(st, TG_ERR_INTERNAL,
+                           "%s: budget variable %d lacks a name, units or long name", path, v);
+        if (vars[v].per_layer < 0 || vars[v].per_layer > 2)
+            return tg_fail(st, TG_ERR_INTERNAL,
+                           "%s: budget variable %s has per_layer %d (must be 0, 1 or 2)", path,
+                           vars[v].name, vars[v].per_layer);
         if (vars[v].per_layer == 2)
             need_interface = 1;
     }
-    if (need_interface && g->nlayers < 2) {
-        tg_fail(st, TG_ERR_INTERNAL,
-                "%s: a budget variable is defined on layer interfaces but the run has 1 layer", path);
-        return NULL;
-    }
+    if (need_interface && g->nlayers < 2)
+        return tg_fail(st, TG_ERR_INTERNAL, "%s: a budget variable is defined on layer "
+                       "interfaces but the run has 1 layer", path);
+    return TG_OK;
+}
 
+/* A budget file handle for vars (names, widths and offsets of a record, the
+ * record buffer), its file not yet open; NULL (st set) on no memory. */
+static tg_budget_file *budget_new(const char *path, const tg_nc_grid *g,
+                                  const tg_budget_var *vars, int nvars, tg_status *st)
+{
     tg_budget_file *b = calloc(1, sizeof *b);
-    int ncid = -1;
     if (!b)
         goto nomem;
     b->ncid = -1;
@@ -580,7 +582,26 @@ tg_budget_file *tg_budget_create(const char *path, const tg_nc_grid *g, const tg
         b->reclen += b->width[v];
     }
     if (budget_alloc_buffer(b, TG_BUDGET_DEFAULT_BUFFER, st))
-        goto fail_nocode;
+        goto fail;
+    return b;
+
+nomem:
+    tg_fail(st, TG_ERR_NOMEM, "%s: allocating the budget file handle failed", path);
+fail:
+    budget_free(b);
+    return NULL;
+}
+
+tg_budget_file *tg_budget_create(const char *path, const tg_nc_grid *g, const tg_budget_var *vars,
+                                 int nvars, tg_status *st)
+{
+    tg_code code;
+    if (budget_check(path, g, vars, nvars, st))
+        return NULL;
+    tg_budget_file *b = budget_new(path, g, vars, nvars, st);
+    int ncid = -1;
+    if (!b)
+        return NULL;
 
     int d_time, d_layer, v_layer, d_iface = -1, v_iface = -1;
     NC_TRY(nc_create(path, NC_CLOBBER | NC_64BIT_OFFSET, &ncid), "creating the file", NULL);
@@ -627,9 +648,6 @@ tg_budget_file *tg_budget_create(const char *path, const tg_nc_grid *g, const tg
     b->ncid = ncid;
     return b;
 
-nomem:
-    tg_fail(st, TG_ERR_NOMEM, "%s: allocating the budget file handle failed", path);
-fail_nocode:
 fail:
     if (ncid >= 0)
         close_quietly(ncid);
@@ -749,8 +767,37 @@ tg_code tg_budget_close(tg_budget_file *b, tg_status *st)
 /* checkpoint.nc                                                             */
 /* ------------------------------------------------------------------------ */
 
-tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const tg_checkpoint *c,
-                            tg_status *st)
+/* Defines the closures' extra arrays of a checkpoint (one dimension NAME_len
+ * and one variable NAME each, with its checksum) into v_extra. */
+static tg_code def_checkpoint_extras(int ncid, const char *path, const tg_checkpoint *c,
+                                     int *v_extra, tg_status *st)
+{
+    tg_code code = TG_OK;
+    for (int e = 0; e < c->nextra; e++) {
+        char dname[NC_MAX_NAME + 1];
+        const char *name = c->extra_names[e];
+        int d;
+        snprintf(dname, sizeof dname, "%s_len", name);
+        NC_TRY(nc_def_dim(ncid, dname, c->extra_len[e], &d), "defining the length dimension", name);
+        NC_TRY(nc_def_var(ncid, name, NC_DOUBLE, 1, &d, &v_extra[e]), "defining the variable",
+               name);
+        if ((code = tg_nc_put_text(ncid, v_extra[e], "long_name",
+                             "saved state of a closure (opaque to the file format)", path, name,
+                             st)) ||
+            (code = tg_nc_put_checksum(
+                 ncid, v_extra[e],
+                 tg_fnv1a_doubles(TG_FNV1A_START, c->extra_data[e], c->extra_len[e]), path, name,
+                 st)))
+            goto fail;
+    }
+fail:
+    return code;
+}
+
+/* The checks of tg_checkpoint_write on its arguments: a whole grid, psi and
+ * q, a step the file's NC_INT holds, and named, non-empty extra arrays. */
+static tg_code checkpoint_check(const char *final_path, const tg_nc_grid *g,
+                                const tg_checkpoint *c, tg_status *st)
 {
     tg_code code;
     if ((code = check_grid(final_path, g, st)))
@@ -770,6 +817,15 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
             return tg_fail(st, TG_ERR_INTERNAL, "%s: checkpoint extra name \"%s\" is too long",
                            final_path, c->extra_names[e]);
     }
+    return TG_OK;
+}
+
+tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const tg_checkpoint *c,
+                            tg_status *st)
+{
+    tg_code code;
+    if ((code = checkpoint_check(final_path, g, c, st)))
+        return code;
 
     char *path = tmp_path(final_path); /* the temporary file: errors name it */
     int *v_extra = malloc((c->nextra > 0 ? (size_t)c->nextra : 1) * sizeof *v_extra);
@@ -822,23 +878,8 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
         (code = tg_nc_put_checksum(ncid, v_q, tg_fnv1a_doubles(TG_FNV1A_START, c->q, n3), path,
                                    "q", st)))
         goto fail;
-    for (int e = 0; e < c->nextra; e++) {
-        char dname[NC_MAX_NAME + 1];
-        const char *name = c->extra_names[e];
-        int d;
-        snprintf(dname, sizeof dname, "%s_len", name);
-        NC_TRY(nc_def_dim(ncid, dname, c->extra_len[e], &d), "defining the length dimension", name);
-        NC_TRY(nc_def_var(ncid, name, NC_DOUBLE, 1, &d, &v_extra[e]), "defining the variable",
-               name);
-        if ((code = tg_nc_put_text(ncid, v_extra[e], "long_name",
-                             "saved state of a closure (opaque to the file format)", path, name,
-                             st)) ||
-            (code = tg_nc_put_checksum(
-                 ncid, v_extra[e],
-                 tg_fnv1a_doubles(TG_FNV1A_START, c->extra_data[e], c->extra_len[e]), path, name,
-                 st)))
-            goto fail;
-    }
+    if ((code = def_checkpoint_extras(ncid, path, c, v_extra, st)))
+        goto fail;
     if ((code = tg_nc_globals(ncid, path, g, "twingyre checkpoint", st)))
         goto fail;
     NC_TRY(nc_enddef(ncid), "finishing the header", NULL);

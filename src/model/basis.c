@@ -466,47 +466,152 @@ static void list_names(char *out, size_t n)
     }
 }
 
+/* A comment line (s after its '#'); a units line among the comments must
+ * come before the first coefficient and read TG_BASIS_UNITS_LINE. */
+static tg_code read_comment(const char *s, const char *units_ref, const tg_coef_list *list,
+                            const char *path, int lineno, int *have_units, tg_status *st)
+{
+    char text[1024];
+    snprintf(text, sizeof text, "%s", s);
+    squeeze(text);
+    if (strncmp(text, "units:", 6) != 0 && strncmp(text, "units :", 7) != 0)
+        return TG_OK;
+    if (list->n > 0)
+        return tg_fail(st, TG_ERR_CONFIG,
+                       "%s:%d: the units line must come before the first coefficient",
+                       path, lineno);
+    if (strcmp(text, units_ref) != 0)
+        return tg_fail(st, TG_ERR_CONFIG,
+                       "%s:%d: unsupported units line '# %.200s'; this version reads "
+                       "only '%s' (each coefficient in the SI unit of its term's "
+                       "coefficient, so that coefficient x term is in s-2)",
+                       path, lineno, text, TG_BASIS_UNITS_LINE);
+    *have_units = 1;
+    return TG_OK;
+}
+
+/* The fields 'layer term coefficient [std]' of one line (nt of them, 3 or 4)
+ * into e; *renamed tells that the term was the former curl_div_gradu_gradu,
+ * read as half of curl_div_zeta_deform. */
+static tg_code parse_entry(char *const *tok, int nt, int nlayers, const char *path, int lineno,
+                           tg_coef_entry *e, int *renamed, tg_status *st)
+{
+    /* Layer. */
+    if (strcmp(tok[0], "all") != 0) {
+        char *end;
+        errno = 0;
+        long k = strtol(tok[0], &end, 10);
+        if (tok[0][0] == '\0' || *end != '\0' || errno == ERANGE || k < 1 || k > nlayers)
+            return tg_fail(st, TG_ERR_CONFIG,
+                           "%s:%d: layer '%.60s' is not 'all' or a whole number from 1 to %d "
+                           "(layers are numbered from the top)",
+                           path, lineno, tok[0], nlayers);
+        e->layer = (int)k - 1;
+    }
+    /* Term; the former term curl_div_gradu_gradu is half of
+     * curl_div_zeta_deform (the header comment says why). */
+    *renamed = !strcmp(tok[1], RENAMED_TERM);
+    e->term = *renamed ? T_CURL_DIV_ZETA_DEFORM : tg_basis_find(tok[1]);
+    if (e->term < 0) {
+        const char *names[T_N];
+        for (int i = 0; i < T_N; i++)
+            names[i] = table[i].name;
+        int sgt = tg_config_suggest(tok[1], names, T_N);
+        if (sgt >= 0)
+            return tg_fail(st, TG_ERR_CONFIG, "%s:%d: unknown term '%.60s'; did you mean %s?",
+                           path, lineno, tok[1], names[sgt]);
+        char all[600];
+        list_names(all, sizeof all);
+        return tg_fail(st, TG_ERR_CONFIG, "%s:%d: unknown term '%.60s'; the terms are: %s",
+                       path, lineno, tok[1], all);
+    }
+    /* Numbers. */
+    if (!parse_real(tok[2], &e->mean))
+        return tg_fail(st, TG_ERR_CONFIG,
+                       "%s:%d: coefficient '%.60s' of %s is not a finite real number", path,
+                       lineno, tok[2], table[e->term].name);
+    if (nt == 4 && (!parse_real(tok[3], &e->std) || e->std < 0.0))
+        return tg_fail(st, TG_ERR_CONFIG,
+                       "%s:%d: std '%.60s' of %s is not a finite real number >= 0", path,
+                       lineno, tok[3], table[e->term].name);
+    if (*renamed) {
+        e->mean *= 0.5;
+        if (e->std > 0.0)
+            e->std *= 0.5;
+        tg_log(TG_LOG_INFO, "%s:%d: note: %s is no longer a term of its own (it equals half "
+               "of %s on the grid); read as %s with coefficient %.17g", path, lineno,
+               RENAMED_TERM, table[e->term].name, table[e->term].name, e->mean);
+    }
+    return TG_OK;
+}
+
+/* Adds e to list (*nalloc entries allocated): the renamed term and its
+ * replacement for the same layer add up; any other second line for the same
+ * term and an overlapping layer is an error. */
+static tg_code add_entry(tg_coef_list *list, int *nalloc, tg_coef_entry e, int renamed,
+                         const char *path, int lineno, tg_status *st)
+{
+    for (int i = 0; i < list->n; i++) {
+        tg_coef_entry *o = &list->e[i];
+        if (o->term == e.term && o->layer == e.layer &&
+            ((renamed && o->renamed == 0) || (!renamed && o->renamed == 1))) {
+            o->mean += e.mean;
+            o->std = (o->std < 0.0 && e.std < 0.0)
+                         ? -1.0
+                         : sqrt(fmax(o->std, 0.0) * fmax(o->std, 0.0) +
+                                fmax(e.std, 0.0) * fmax(e.std, 0.0));
+            o->renamed = 2; /* a third line for the pair is a duplicate */
+            return TG_OK;
+        }
+    }
+    e.renamed = renamed;
+    for (int i = 0; i < list->n; i++) {
+        const tg_coef_entry *o = &list->e[i];
+        if (o->term == e.term && (o->layer == e.layer || o->layer < 0 || e.layer < 0)) {
+            char which[32];
+            if (e.layer < 0)
+                snprintf(which, sizeof which, "all layers");
+            else
+                snprintf(which, sizeof which, "layer %d", e.layer + 1);
+            return tg_fail(st, TG_ERR_CONFIG,
+                           "%s:%d: %s for %s is already given at line %d", path, lineno,
+                           table[e.term].name, which, o->line);
+        }
+    }
+    if (list->n == *nalloc) {
+        int nn = *nalloc ? 2 * *nalloc : 16;
+        tg_coef_entry *ne = realloc(list->e, sizeof *ne * (size_t)nn);
+        if (!ne)
+            return tg_fail(st, TG_ERR_NOMEM, "%s:%d: no memory for the coefficients", path,
+                           lineno);
+        list->e = ne;
+        *nalloc = nn;
+    }
+    list->e[list->n++] = e;
+    return TG_OK;
+}
+
 /* The reader proper; f is open, list empty, line buffer handled here. */
 static tg_code read_lines(FILE *f, const char *path, int nlayers, tg_coef_list *list,
                           tg_status *st)
 {
     char *buf = NULL;
     size_t cap = 0;
-    ssize_t len;
     int lineno = 0, have_units = 0, nalloc = 0;
     tg_code rc = TG_OK;
     char units_ref[128];
     snprintf(units_ref, sizeof units_ref, "%s", TG_BASIS_UNITS_LINE + 1); /* without '#' */
     squeeze(units_ref);
 
-    while ((len = getline(&buf, &cap, f)) >= 0) {
+    while (getline(&buf, &cap, f) >= 0) {
         lineno++;
-        (void)len;
         char *s = buf;
         while (*s && isspace((unsigned char)*s))
             s++;
         if (*s == '#') {
-            /* A comment; a units line among them is checked. */
-            char text[1024];
-            snprintf(text, sizeof text, "%s", s + 1);
-            squeeze(text);
-            if (!strncmp(text, "units:", 6) || !strncmp(text, "units :", 7)) {
-                if (list->n > 0) {
-                    rc = tg_fail(st, TG_ERR_CONFIG,
-                                 "%s:%d: the units line must come before the first coefficient",
-                                 path, lineno);
-                    break;
-                }
-                if (strcmp(text, units_ref) != 0) {
-                    rc = tg_fail(st, TG_ERR_CONFIG,
-                                 "%s:%d: unsupported units line '# %.200s'; this version reads "
-                                 "only '%s' (each coefficient in the SI unit of its term's "
-                                 "coefficient, so that coefficient x term is in s-2)",
-                                 path, lineno, text, TG_BASIS_UNITS_LINE);
-                    break;
-                }
-                have_units = 1;
-            }
+            rc = read_comment(s + 1, units_ref, list, path, lineno, &have_units, st);
+            if (rc != TG_OK)
+                break;
             continue;
         }
         char *hash = strchr(s, '#');
@@ -537,108 +642,10 @@ static tg_code read_lines(FILE *f, const char *path, int nlayers, tg_coef_list *
             break;
         }
         tg_coef_entry e = {.layer = -1, .term = -1, .mean = 0.0, .std = -1.0, .line = lineno};
-        /* Layer. */
-        if (strcmp(tok[0], "all") != 0) {
-            char *end;
-            errno = 0;
-            long k = strtol(tok[0], &end, 10);
-            if (tok[0][0] == '\0' || *end != '\0' || errno == ERANGE || k < 1 || k > nlayers) {
-                rc = tg_fail(st, TG_ERR_CONFIG,
-                             "%s:%d: layer '%.60s' is not 'all' or a whole number from 1 to %d "
-                             "(layers are numbered from the top)",
-                             path, lineno, tok[0], nlayers);
-                break;
-            }
-            e.layer = (int)k - 1;
-        }
-        /* Term; the former term curl_div_gradu_gradu is half of
-         * curl_div_zeta_deform (the header comment says why). */
-        const int renamed = !strcmp(tok[1], RENAMED_TERM);
-        e.term = renamed ? T_CURL_DIV_ZETA_DEFORM : tg_basis_find(tok[1]);
-        if (e.term < 0) {
-            const char *names[T_N];
-            for (int i = 0; i < T_N; i++)
-                names[i] = table[i].name;
-            int sgt = tg_config_suggest(tok[1], names, T_N);
-            if (sgt >= 0)
-                rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: unknown term '%.60s'; did you mean %s?",
-                             path, lineno, tok[1], names[sgt]);
-            else {
-                char all[600];
-                list_names(all, sizeof all);
-                rc = tg_fail(st, TG_ERR_CONFIG, "%s:%d: unknown term '%.60s'; the terms are: %s",
-                             path, lineno, tok[1], all);
-            }
+        int renamed = 0;
+        if ((rc = parse_entry(tok, nt, nlayers, path, lineno, &e, &renamed, st)) != TG_OK ||
+            (rc = add_entry(list, &nalloc, e, renamed, path, lineno, st)) != TG_OK)
             break;
-        }
-        /* Numbers. */
-        if (!parse_real(tok[2], &e.mean)) {
-            rc = tg_fail(st, TG_ERR_CONFIG,
-                         "%s:%d: coefficient '%.60s' of %s is not a finite real number", path,
-                         lineno, tok[2], table[e.term].name);
-            break;
-        }
-        if (nt == 4 && (!parse_real(tok[3], &e.std) || e.std < 0.0)) {
-            rc = tg_fail(st, TG_ERR_CONFIG,
-                         "%s:%d: std '%.60s' of %s is not a finite real number >= 0", path,
-                         lineno, tok[3], table[e.term].name);
-            break;
-        }
-        if (renamed) {
-            e.mean *= 0.5;
-            if (e.std > 0.0)
-                e.std *= 0.5;
-            tg_log(TG_LOG_INFO, "%s:%d: note: %s is no longer a term of its own (it equals half "
-                   "of %s on the grid); read as %s with coefficient %.17g", path, lineno,
-                   RENAMED_TERM, table[e.term].name, table[e.term].name, e.mean);
-        }
-        /* Duplicates: the same term for an overlapping layer. The renamed
-         * term and its replacement for the same layer add up. */
-        int merged = 0;
-        for (int i = 0; i < list->n && !merged; i++) {
-            tg_coef_entry *o = &list->e[i];
-            if (o->term == e.term && o->layer == e.layer &&
-                ((renamed && o->renamed == 0) || (!renamed && o->renamed == 1))) {
-                o->mean += e.mean;
-                o->std = (o->std < 0.0 && e.std < 0.0)
-                             ? -1.0
-                             : sqrt(fmax(o->std, 0.0) * fmax(o->std, 0.0) +
-                                    fmax(e.std, 0.0) * fmax(e.std, 0.0));
-                o->renamed = 2; /* a third line for the pair is a duplicate */
-                merged = 1;
-            }
-        }
-        if (merged)
-            continue;
-        e.renamed = renamed;
-        for (int i = 0; i < list->n; i++) {
-            const tg_coef_entry *o = &list->e[i];
-            if (o->term == e.term && (o->layer == e.layer || o->layer < 0 || e.layer < 0)) {
-                char which[32];
-                if (e.layer < 0)
-                    snprintf(which, sizeof which, "all layers");
-                else
-                    snprintf(which, sizeof which, "layer %d", e.layer + 1);
-                rc = tg_fail(st, TG_ERR_CONFIG,
-                             "%s:%d: %s for %s is already given at line %d", path, lineno,
-                             table[e.term].name, which, o->line);
-                break;
-            }
-        }
-        if (rc != TG_OK)
-            break;
-        if (list->n == nalloc) {
-            int nn = nalloc ? 2 * nalloc : 16;
-            tg_coef_entry *ne = realloc(list->e, sizeof *ne * (size_t)nn);
-            if (!ne) {
-                rc = tg_fail(st, TG_ERR_NOMEM, "%s:%d: no memory for the coefficients", path,
-                             lineno);
-                break;
-            }
-            list->e = ne;
-            nalloc = nn;
-        }
-        list->e[list->n++] = e;
     }
     if (rc == TG_OK && ferror(f))
         rc = tg_fail(st, TG_ERR_CONFIG, "%s: read error after line %d", path, lineno);

@@ -117,139 +117,178 @@ static tg_code parse_param(const tg_closure_param *p, const char *value, double 
     return TG_ERR_INTERNAL;
 }
 
+/* The scheme a name of [closure] use picks: plugin:PATH.so or a registered
+ * scheme (an unknown name gets the nearest known one as a suggestion). Sets
+ * c->ops and c->section; at is "file:line: [closure] use". */
+static tg_code spec_find_scheme(const char *name, const char *at, tg_closure_choice *c,
+                                tg_status *st)
+{
+    if (!strncmp(name, "plugin:", 7)) {
+        tg_status ps;
+        tg_status_clear(&ps);
+        c->ops = tg_closure_load_plugin(name + 7, &ps);
+        if (!c->ops)
+            return tg_fail(st, TG_ERR_CONFIG, "%s: %s", at, ps.msg);
+        snprintf(c->section, sizeof c->section, "plugin.%s", c->ops->name);
+        return TG_OK;
+    }
+    c->ops = tg_closure_find(name);
+    if (!c->ops) {
+        const char *names[64];
+        int nn = tg_closure_count();
+        for (int i = 0; i < nn && i < 64; i++)
+            names[i] = tg_closure_ops_at(i)->name;
+        int s = tg_config_suggest(name, names, nn < 64 ? nn : 64);
+        if (s >= 0)
+            return tg_fail(st, TG_ERR_CONFIG,
+                           "%s: unknown closure '%s'; did you mean %s? "
+                           "(`twingyre closures` lists them)",
+                           at, name, names[s]);
+        return tg_fail(st, TG_ERR_CONFIG,
+                       "%s: unknown closure '%s' (`twingyre closures` lists them; "
+                       "a plugin is plugin:PATH.so)",
+                       at, name);
+    }
+    snprintf(c->section, sizeof c->section, "%s", c->ops->name);
+    return TG_OK;
+}
+
+/* Appends the component NAME to spec with its parameters at their defaults. */
+static tg_code spec_add(tg_closure_spec *spec, const char *name, const char *at, tg_status *st)
+{
+    if (spec->n >= TG_MAX_CLOSURES)
+        return tg_fail(st, TG_ERR_CONFIG, "%s: at most %d components", at, TG_MAX_CLOSURES);
+    tg_closure_choice *c = &spec->c[spec->n];
+    snprintf(c->use, sizeof c->use, "%s", name);
+    tg_code rc = spec_find_scheme(name, at, c, st);
+    if (rc != TG_OK)
+        return rc;
+    snprintf(c->label, sizeof c->label, "%s", c->ops->name);
+    for (int i = 0; i < spec->n; i++)
+        if (!strcmp(spec->c[i].label, c->label))
+            return tg_fail(st, TG_ERR_CONFIG, "%s: '%s' is used twice", at, c->label);
+    if (c->ops->nparams > TG_CLOSURE_MAX_PARAMS)
+        return tg_fail(st, TG_ERR_CONFIG, "%s: '%s' has %d parameters (at most %d)", at,
+                       c->label, c->ops->nparams, TG_CLOSURE_MAX_PARAMS);
+    for (int p = 0; p < c->ops->nparams; p++) {
+        const tg_closure_param *pp = &c->ops->params[p];
+        c->params[p] = pp->def;
+        snprintf(c->texts[p], sizeof c->texts[p], "%s",
+                 pp->kind == TG_PARAM_TEXT && pp->def_text ? pp->def_text : "");
+    }
+    spec->n++;
+    return TG_OK;
+}
+
+/* Step 1: the list of components of [closure] use. */
+static tg_code spec_read_use(const tg_raw_entry *use, const char *origin, tg_closure_spec *spec,
+                             tg_status *st)
+{
+    char at[512];
+    char list[TG_RAW_TEXT];
+    snprintf(list, sizeof list, "%s", use->value);
+    where(use, origin, at, sizeof at);
+    int nnone = 0, nitems = 0;
+    /* Split at every comma (strtok would skip empty names: "use = ,,,"
+     * must be refused, not read as no closure). */
+    for (char *tok = list, *next; tok; tok = next) {
+        char *comma = strchr(tok, ',');
+        next = comma ? comma + 1 : NULL;
+        if (comma)
+            *comma = '\0';
+        char *name = trim(tok);
+        nitems++;
+        if (name[0] == '\0')
+            return tg_fail(st, TG_ERR_CONFIG, "%s: an empty name in the list", at);
+        if (!strcmp(name, "none")) {
+            nnone++;
+            continue;
+        }
+        tg_code rc = spec_add(spec, name, at, st);
+        if (rc != TG_OK)
+            return rc;
+    }
+    if (nnone && nitems > 1)
+        return tg_fail(st, TG_ERR_CONFIG, "%s: 'none' cannot be combined with schemes", at);
+    return TG_OK;
+}
+
+/* The error for a key that component c does not have: the nearest key as a
+ * suggestion, or the list of its keys. */
+static tg_code spec_unknown_key(const tg_raw_entry *e, const tg_closure_choice *c,
+                                const char *at, tg_status *st)
+{
+    const char *names[TG_CLOSURE_MAX_PARAMS];
+    for (int i = 0; i < c->ops->nparams; i++)
+        names[i] = c->ops->params[i].key;
+    int s = tg_config_suggest(e->key, names, c->ops->nparams);
+    if (s >= 0)
+        return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; did you mean [%s] %s?", at,
+                       e->section, names[s]);
+    char keys[512] = "";
+    for (int i = 0; i < c->ops->nparams; i++) {
+        size_t l = strlen(keys);
+        snprintf(keys + l, sizeof keys - l, "%s%s", i ? ", " : "", names[i]);
+    }
+    return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; [%s] has: %s", at, e->section,
+                   c->ops->nparams ? keys : "no keys");
+}
+
+/* Step 2: one config entry; a key of [closure] other than use is an error,
+ * a key of a chosen component's section sets that parameter, other sections
+ * are left alone. */
+static tg_code spec_read_key(const tg_raw_entry *e, const char *origin, tg_closure_spec *spec,
+                             tg_status *st)
+{
+    char at[512], why[512];
+    where(e, origin, at, sizeof at);
+    if (!strcmp(e->section, "closure")) {
+        if (strcmp(e->key, "use") != 0) {
+            const char *cand[] = {"use"};
+            if (tg_config_suggest(e->key, cand, 1) == 0)
+                return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; did you mean [closure] use?",
+                               at);
+            return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; [closure] has only 'use'", at);
+        }
+        return TG_OK;
+    }
+    tg_closure_choice *c = NULL;
+    for (int i = 0; i < spec->n; i++)
+        if (!strcmp(spec->c[i].section, e->section))
+            c = &spec->c[i];
+    if (!c)
+        return TG_OK; /* not among [closure] use: tg_config_validate warns once */
+    int p = -1;
+    for (int i = 0; i < c->ops->nparams; i++)
+        if (!strcmp(c->ops->params[i].key, e->key))
+            p = i;
+    if (p < 0)
+        return spec_unknown_key(e, c, at, st);
+    char value[TG_RAW_TEXT];
+    snprintf(value, sizeof value, "%s", e->value);
+    if (parse_param(&c->ops->params[p], trim(value), &c->params[p], c->texts[p], why,
+                    sizeof why) != TG_OK)
+        return tg_fail(st, TG_ERR_CONFIG, "%s: %s", at, why);
+    if (c->ops->params[p].kind == TG_PARAM_TEXT && e->line <= 0)
+        c->text_from_option = 1;
+    return TG_OK;
+}
+
 tg_code tg_closure_spec_resolve(const tg_config *cfg, const char *origin, tg_closure_spec *spec,
                                 tg_status *st)
 {
-    char at[512], why[512];
     memset(spec, 0, sizeof *spec);
     const tg_raw_entry *use = tg_config_raw(cfg, "closure", "use");
+    tg_code rc;
 
     /* 1. The list of components. */
-    if (use) {
-        char list[TG_RAW_TEXT];
-        snprintf(list, sizeof list, "%s", use->value);
-        where(use, origin, at, sizeof at);
-        int nnone = 0, nitems = 0;
-        /* Split at every comma (strtok would skip empty names: "use = ,,,"
-         * must be refused, not read as no closure). */
-        for (char *tok = list, *next; tok; tok = next) {
-            char *comma = strchr(tok, ',');
-            next = comma ? comma + 1 : NULL;
-            if (comma)
-                *comma = '\0';
-            char *name = trim(tok);
-            nitems++;
-            if (name[0] == '\0')
-                return tg_fail(st, TG_ERR_CONFIG, "%s: an empty name in the list", at);
-            if (!strcmp(name, "none")) {
-                nnone++;
-                continue;
-            }
-            if (spec->n >= TG_MAX_CLOSURES)
-                return tg_fail(st, TG_ERR_CONFIG, "%s: at most %d components", at,
-                               TG_MAX_CLOSURES);
-            tg_closure_choice *c = &spec->c[spec->n];
-            snprintf(c->use, sizeof c->use, "%s", name);
-            if (!strncmp(name, "plugin:", 7)) {
-                tg_status ps;
-                tg_status_clear(&ps);
-                c->ops = tg_closure_load_plugin(name + 7, &ps);
-                if (!c->ops)
-                    return tg_fail(st, TG_ERR_CONFIG, "%s: %s", at, ps.msg);
-                snprintf(c->section, sizeof c->section, "plugin.%s", c->ops->name);
-            } else {
-                c->ops = tg_closure_find(name);
-                if (!c->ops) {
-                    const char *names[64];
-                    int nn = tg_closure_count();
-                    for (int i = 0; i < nn && i < 64; i++)
-                        names[i] = tg_closure_ops_at(i)->name;
-                    int s = tg_config_suggest(name, names, nn < 64 ? nn : 64);
-                    if (s >= 0)
-                        return tg_fail(st, TG_ERR_CONFIG,
-                                       "%s: unknown closure '%s'; did you mean %s? "
-                                       "(`twingyre closures` lists them)",
-                                       at, name, names[s]);
-                    return tg_fail(st, TG_ERR_CONFIG,
-                                   "%s: unknown closure '%s' (`twingyre closures` lists them; "
-                                   "a plugin is plugin:PATH.so)",
-                                   at, name);
-                }
-                snprintf(c->section, sizeof c->section, "%s", c->ops->name);
-            }
-            snprintf(c->label, sizeof c->label, "%s", c->ops->name);
-            for (int i = 0; i < spec->n; i++)
-                if (!strcmp(spec->c[i].label, c->label))
-                    return tg_fail(st, TG_ERR_CONFIG, "%s: '%s' is used twice", at, c->label);
-            if (c->ops->nparams > TG_CLOSURE_MAX_PARAMS)
-                return tg_fail(st, TG_ERR_CONFIG, "%s: '%s' has %d parameters (at most %d)", at,
-                               c->label, c->ops->nparams, TG_CLOSURE_MAX_PARAMS);
-            for (int p = 0; p < c->ops->nparams; p++) {
-                const tg_closure_param *pp = &c->ops->params[p];
-                c->params[p] = pp->def;
-                snprintf(c->texts[p], sizeof c->texts[p], "%s",
-                         pp->kind == TG_PARAM_TEXT && pp->def_text ? pp->def_text : "");
-            }
-            spec->n++;
-        }
-        if (nnone && nitems > 1)
-            return tg_fail(st, TG_ERR_CONFIG, "%s: 'none' cannot be combined with schemes", at);
-    }
+    if (use && (rc = spec_read_use(use, origin, spec, st)) != TG_OK)
+        return rc;
 
     /* 2. Every closure key = value. */
-    unsigned char seen[TG_MAX_CLOSURES][TG_CLOSURE_MAX_PARAMS];
-    memset(seen, 0, sizeof seen);
-    for (int r = 0; r < cfg->nraw; r++) {
-        const tg_raw_entry *e = &cfg->raw[r];
-        where(e, origin, at, sizeof at);
-        if (!strcmp(e->section, "closure")) {
-            if (strcmp(e->key, "use") != 0) {
-                const char *cand[] = {"use"};
-                if (tg_config_suggest(e->key, cand, 1) == 0)
-                    return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; did you mean [closure] use?",
-                                   at);
-                return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; [closure] has only 'use'", at);
-            }
-            continue;
-        }
-        tg_closure_choice *c = NULL;
-        int ci = -1;
-        for (int i = 0; i < spec->n; i++)
-            if (!strcmp(spec->c[i].section, e->section)) {
-                c = &spec->c[i];
-                ci = i;
-            }
-        if (!c)
-            continue; /* not among [closure] use: tg_config_validate warns once */
-        int p = -1;
-        for (int i = 0; i < c->ops->nparams; i++)
-            if (!strcmp(c->ops->params[i].key, e->key))
-                p = i;
-        if (p < 0) {
-            const char *names[TG_CLOSURE_MAX_PARAMS];
-            for (int i = 0; i < c->ops->nparams; i++)
-                names[i] = c->ops->params[i].key;
-            int s = tg_config_suggest(e->key, names, c->ops->nparams);
-            if (s >= 0)
-                return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; did you mean [%s] %s?", at,
-                               e->section, names[s]);
-            char keys[512] = "";
-            for (int i = 0; i < c->ops->nparams; i++) {
-                size_t l = strlen(keys);
-                snprintf(keys + l, sizeof keys - l, "%s%s", i ? ", " : "", names[i]);
-            }
-            return tg_fail(st, TG_ERR_CONFIG, "%s: unknown key; [%s] has: %s", at, e->section,
-                           c->ops->nparams ? keys : "no keys");
-        }
-        char value[TG_RAW_TEXT];
-        snprintf(value, sizeof value, "%s", e->value);
-        if (parse_param(&c->ops->params[p], trim(value), &c->params[p], c->texts[p], why,
-                        sizeof why) != TG_OK)
-            return tg_fail(st, TG_ERR_CONFIG, "%s: %s", at, why);
-        if (c->ops->params[p].kind == TG_PARAM_TEXT && e->line <= 0)
-            c->text_from_option = 1;
-        seen[ci][p] = 1;
-    }
+    for (int r = 0; r < cfg->nraw; r++)
+        if ((rc = spec_read_key(&cfg->raw[r], origin, spec, st)) != TG_OK)
+            return rc;
 
     /* 3. Required text values. */
     for (int i = 0; i < spec->n; i++) {
