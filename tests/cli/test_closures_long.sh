@@ -30,6 +30,16 @@ while IFS= read -r name; do
     case "$name" in
         stochastic_scaling) runs+=("$name|closure.use=viscosity, stochastic_scaling|stochastic_scaling.target=viscosity") ;;
         coefficients) runs+=("$name|closure.use=coefficients|coefficients.file=$TG_SRCDIR/configs/coefficients-example.txt") ;;
+        # A network needs its file: a Laplacian network (A2 = 200 m2 s-1 on
+        # gyre-129's 30 km grid, two layers) made by tests/unit/make_network.py;
+        # a build without libtorch has no network to run (test_network.sh
+        # covers that build).
+        network)
+            [ "${TG_TORCH_BUILT:-no}" = yes ] || continue
+            "$PYTHON" "$TG_SRCDIR/tests/unit/make_network.py" laplacian "$T/laplacian.pt" \
+                --layers 2 --dx 30000 --a2 200 >"$T/make_network.log" 2>&1 ||
+                { notok "make_network.py laplacian" "$(cat "$T/make_network.log")"; finish; }
+            runs+=("$name|closure.use=network|network.file=$T/laplacian.pt") ;;
         *) runs+=("$name|closure.use=$name") ;;
     esac
 done < <("$TWINGYRE" closures | sed -n 's/^\([a-z_0-9]*\)\( .*\)\{0,1\}$/\1/p' | grep -v '^$')
