@@ -28,33 +28,10 @@ tg_scratch fit
 tg_need_program
 
 # ---------------------------------------------------------------- the twin
-# A 1000 km invented basin (the Skerrow Basin's small cousin); the coarse
+# tiny_twin (testlib.sh) with a 65-point reference and 33-point coarse runs; the coarse
 # runs' physics is repeated in coarse.ini for the plain run below.
 mkdir -p "$T/cfg"
-{
-    small_basin 65
-    cat <<'EOF'
-
-[initial]
-state = noise
-noise_amplitude_m2_per_s = 100
-seed = 3
-
-[twin]
-reference_points = 65
-coarse_points = 33
-spinup_days = 16
-analysis_days = 16
-sample_every_days = 2
-compare = none
-filter = gaussian
-filter_width_factor = 2
-
-[twin.coarse]
-dissipation.viscosity_m2_per_s = 600
-time.step_s = 7200
-EOF
-} >"$T/cfg/twin.ini"
+tiny_twin 16 16 65 33 >"$T/cfg/twin.ini"
 {
     small_basin 33 600 7200
     cat <<'EOF'

@@ -176,9 +176,7 @@ fi
 # ---------------------------------------------------------------- training
 # The twin: tiny_twin (testlib.sh) with a 65-point reference and the
 # 33-point coarse grid.
-tiny_twin 60 40 | sed -e 's/^points = 33$/points = 65/' \
-    -e 's/^reference_points = 33$/reference_points = 65/' \
-    -e 's/^coarse_points = 17$/coarse_points = 33/' >twin.ini
+tiny_twin 60 40 65 33 >twin.ini
 tg twin twin.ini --out tw --quiet
 if [ "$rc" -ne 0 ]; then
     notok "the small twin runs" "$(err_tail)"

@@ -188,12 +188,13 @@ step_s = ${3:-3600}
 EOF
 }
 
-# tiny_twin SPINUP_DAYS ANALYSIS_DAYS: prints a whole twin config on
-# small_basin 33 (noise start, seed 3): reference 33 -> coarse 17 points,
-# Gaussian filter of width factor 2, samples every 2 days, no closure
-# compared, coarse viscosity 600 m2 s-1 and step 7200 s.
+# tiny_twin SPINUP_DAYS ANALYSIS_DAYS [REFERENCE_POINTS COARSE_POINTS]:
+# prints a whole twin config on small_basin REFERENCE_POINTS (noise start,
+# seed 3): reference -> coarse points (default 33 -> 17), Gaussian filter
+# of width factor 2, samples every 2 days, no closure compared, coarse
+# viscosity 600 m2 s-1 and step 7200 s.
 tiny_twin() {
-    small_basin 33
+    small_basin "${3:-33}"
     cat <<EOF
 
 [initial]
@@ -202,8 +203,8 @@ noise_amplitude_m2_per_s = 100
 seed = 3
 
 [twin]
-reference_points = 33
-coarse_points = 17
+reference_points = ${3:-33}
+coarse_points = ${4:-17}
 spinup_days = $1
 analysis_days = $2
 sample_every_days = 2
