@@ -225,6 +225,15 @@ static void close_quietly(int ncid)
     (void)nc_close(ncid); /* already failing: the first error is what the caller sees */
 }
 
+/* Closes a file read without error; *ncid becomes -1 whatever the result,
+ * so the caller's clean-up does not close it again. */
+static tg_code close_checked(int *ncid, const char *path, tg_status *st)
+{
+    const int rc = nc_close(*ncid);
+    *ncid = -1;
+    return tg_nc_check(rc, path, "closing the file", NULL, st);
+}
+
 /* ------------------------------------------------------------------------ */
 /* fields.nc                                                                 */
 /* ------------------------------------------------------------------------ */
@@ -894,11 +903,8 @@ tg_code tg_checkpoint_write(const char *final_path, const tg_nc_grid *g, const t
     for (int e = 0; e < c->nextra; e++)
         NC_TRY(nc_put_var_double(ncid, v_extra[e], c->extra_data[e]), "writing the data",
                c->extra_names[e]);
-    {
-        int rc = nc_close(ncid);
-        ncid = -1;
-        NC_TRY(rc, "closing the file", NULL);
-    }
+    if ((code = close_checked(&ncid, path, st)))
+        goto fail;
     if (rename(path, final_path) != 0) {
         code = tg_fail(st, TG_ERR_IO, "%s: renaming %s over it failed: %s", final_path, path,
                        strerror(errno));
@@ -1058,11 +1064,8 @@ tg_code tg_initial_read(const char *path, int nx, int ny, int nlayers, double *p
         info->step = (long)step;
     }
 
-    {
-        int rc = nc_close(ncid);
-        ncid = -1;
-        NC_TRY(rc, "closing the file", NULL);
-    }
+    if ((code = close_checked(&ncid, path, st)))
+        goto fail;
     return TG_OK;
 
 fail:
@@ -1101,11 +1104,8 @@ tg_code tg_checkpoint_read_extra(const char *path, const char *name, double *dat
         goto fail;
     }
     NC_TRY(nc_get_var_double(ncid, varid, data), "reading", name);
-    {
-        int rc = nc_close(ncid);
-        ncid = -1;
-        NC_TRY(rc, "closing the file", NULL);
-    }
+    if ((code = close_checked(&ncid, path, st)))
+        goto fail;
     return TG_OK;
 fail:
     if (ncid >= 0)
