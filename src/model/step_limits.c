@@ -18,11 +18,14 @@ void tg_step_limits_core(const tg_model *m, tg_step_limits *L)
     L->closure = INFINITY;
     L->closure_which = -1;
     L->damping_rate = 1.0 / L->harmonic + 1.0 / L->biharmonic + 1.0 / L->drag;
-    /* omega_max = max |Q_y| / K_min with K_min >= dk (step_limits.h). */
+    /* omega_max (step_limits.h): periodic, max |Q_y| / K_min with
+     * K_min = dk = 2 pi/L; basin, the gravest basin mode's beta / (2 K_11),
+     * K_11 = sqrt(2) dk with dk = pi/L. */
     double qy = fabs(cfg->beta_per_m_per_s);
     for (int k = 0; k < m->nl; k++)
         qy = fmax(qy, fabs(m->Qy[k]));
-    L->wave_frequency = qy / m->geom->spectrum_dk;
+    const double dk = m->geom->spectrum_dk;
+    L->wave_frequency = m->geom->kind == TG_GEOM_BASIN ? qy / (2.0 * sqrt(2.0) * dk) : qy / dk;
 }
 
 double tg_step_limits_wave(const tg_step_limits *L, double target_cfl)

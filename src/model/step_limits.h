@@ -19,13 +19,19 @@
  *   bottom drag r                2.5 / r   (the drag rate of q is r K^2/(K^2+F) <= r)
  *   each closure                 its stable_step answer (closure.h), none without one.
  * The advective limit at a speed s = |u|+|v| is target_cfl dx / s.
- * Linear Rossby waves are not advection: their frequency
- * omega = Q_y k / (K^2 + F) (Pedlosky 1987, Geophysical Fluid Dynamics,
- * section 3.17) is at most |Q_y| / K_min, K_min the smallest wavenumber that
- * fits in the domain (at least the spectrum bin width dk of the geometry:
- * pi/L in a basin, where the gravest mode has sqrt(2) pi/L, and 2 pi/L when
- * periodic), Q_y the largest planetary or background PV gradient. The same
- * target bounds the phase such a wave turns in one step:
+ * Linear Rossby waves are not advection. In a periodic domain their
+ * frequency omega = Q_y k / (K^2 + F) (Pedlosky 1987, Geophysical Fluid
+ * Dynamics, section 3.17) is at most |Q_y| / K_min, K_min = 2 pi/L the
+ * smallest wavenumber that fits (the spectrum bin width dk of the geometry),
+ * Q_y the largest planetary or background PV gradient. In a square basin
+ * of side L the free linear modes are the basin modes of Longuet-Higgins
+ * (1964, Proc. R. Soc. A 279, 446-473; Pedlosky 1987, section 3.21),
+ * psi = sin(m pi x/L) sin(n pi y/L) exp(i(beta x/(2 omega) - omega t)) with
+ * omega = beta / (2 sqrt((m pi/L)^2 + (n pi/L)^2 + F)), so the largest is
+ * the gravest barotropic mode's, omega_max = beta / (2 sqrt(2) pi/L) (a
+ * basin has no background flow, Q_y = beta): 2 sqrt(2) times below the
+ * periodic bound with K_min = pi/L. The same target bounds the phase such
+ * a wave turns in one step:
  * dt <= target_cfl / omega_max (the wave limit; with target 0.5 the RK3
  * phase error is 0.2 % and the damping 0.24 % per step).
  *

@@ -98,8 +98,9 @@ static stommel_result run_stommel(int points, int adaptive)
     cfg.step_s = 21600.0;
     cfg.duration_days = 25.0 / R_DRAG / 86400.0;
     if (adaptive) {
-        /* From 1 h the step grows to the wave limit (step_limits.h),
-         * 0.5 pi / (beta L) = 12.5 h here; outputs every 1/r, so the state
+        /* From 1 h the step grows to largest_step_s (1 day; the wave
+         * limit of step_limits.h, 0.5 2 sqrt(2) pi / (beta L), is 35 h
+         * here); outputs every 1/r, so the state
          * 1/r before the end is an output time that a step lands on. */
         cfg.step_choice = TG_STEP_ADAPTIVE;
         cfg.step_s = 3600.0;
