@@ -2,7 +2,7 @@
  * kinetic-energy spectrum), budget, checkpoint files and reading an initial
  * state.
  *
- * Files are written into a fresh directory under $TMPDIR (removed at the end),
+ * Files are written into a fresh directory under $TG_TEST_TMPDIR (else $TMPDIR; removed at the end),
  * or into $TG_TEST_OUTDIR when set (kept, so tests/crosscheck/
  * check_fields_xarray.py can be run on fields.nc and budget.nc there).
  * Metadata checks follow the CF conventions document (Eaton et al., 2020,

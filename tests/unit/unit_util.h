@@ -52,12 +52,15 @@ static inline int tg_unit_run(Suite *s)
 }
 
 /* Runs s with a fresh scratch folder: dir (n bytes) receives
- * $TMPDIR/twingyre-test-NAME-XXXXXX (/tmp when TMPDIR is unset), made
- * before the cases run and removed after. 1 when a case failed or the folder
- * could not be made, else 0. Needs _POSIX_C_SOURCE 200809L (mkdtemp). */
+ * $TG_TEST_TMPDIR/twingyre-test-NAME-XXXXXX (the suite's scratch folder,
+ * DEVELOPERS.md; else $TMPDIR, else /tmp), made before the cases run and
+ * removed after. 1 when a case failed or the folder could not be made,
+ * else 0. Needs _POSIX_C_SOURCE 200809L (mkdtemp). */
 static inline int tg_unit_run_in_scratch(Suite *s, char *dir, size_t n, const char *name)
 {
-    const char *tmp = getenv("TMPDIR");
+    const char *tmp = getenv("TG_TEST_TMPDIR");
+    if (!tmp || !*tmp)
+        tmp = getenv("TMPDIR");
     snprintf(dir, n, "%s/twingyre-test-%s-XXXXXX", tmp && *tmp ? tmp : "/tmp", name);
     if (!mkdtemp(dir)) {
         perror("mkdtemp");
