@@ -232,7 +232,10 @@ static inline void add_mode_row(double *restrict o, const double *f, const doubl
 
 /* Relative vorticity on the active nodes of stored row j from the inverted
  * relation zeta_k = lap psi_k = q_k - beta (y - y0) - (S psi)_k, which the
- * Helmholtz solves satisfy to round-off (one pass instead of a stencil). */
+ * Helmholtz solves satisfy to round-off (one pass instead of a stencil).
+ * The layers with S[k][kk] != 0 are subtracted in order, two per loop over
+ * the row (the first with q_k - beta (y - y0)), so the row is written once
+ * or twice instead of once per layer; the arithmetic is the same. */
 static void vorticity_row(tg_model *m, int j)
 {
     const tg_geometry *g = m->geom;
@@ -240,19 +243,46 @@ static void vorticity_row(tg_model *m, int j)
     const long npl = m->npl, r0 = (long)j * g->ns;
     const double by = m->beta_y[r0 + a0]; /* the same on the whole row */
     for (int k = 0; k < nl; k++) {
-        double *z = m->zeta + k * npl + r0;
+        double s[TG_MAX_LAYERS];
+        const double *p[TG_MAX_LAYERS];
+        int n = 0;
+        for (int kk = 0; kk < nl; kk++)
+            if (m->modes.S[k][kk] != 0.0) {
+                s[n] = m->modes.S[k][kk];
+                p[n++] = m->psi + kk * npl + r0;
+            }
+        double *restrict z = m->zeta + k * npl + r0;
         const double *qk = m->q + k * npl + r0;
-#pragma omp simd
-        for (int i = a0; i < a1; i++)
-            z[i] = qk[i] - by;
-        for (int kk = 0; kk < nl; kk++) {
-            const double s = m->modes.S[k][kk];
-            if (s == 0.0)
-                continue;
-            const double *pk = m->psi + kk * npl + r0;
+        int t = 0;
+        if (n == 0) {
 #pragma omp simd
             for (int i = a0; i < a1; i++)
-                z[i] -= s * pk[i];
+                z[i] = qk[i] - by;
+        } else if (n == 1) {
+            const double s0 = s[0], *p0 = p[0];
+#pragma omp simd
+            for (int i = a0; i < a1; i++)
+                z[i] = (qk[i] - by) - s0 * p0[i];
+            t = 1;
+        } else {
+            const double s0 = s[0], s1 = s[1], *p0 = p[0], *p1 = p[1];
+#pragma omp simd
+            for (int i = a0; i < a1; i++)
+                z[i] = ((qk[i] - by) - s0 * p0[i]) - s1 * p1[i];
+            t = 2;
+        }
+        for (; t < n; t += 2) {
+            const double s0 = s[t], *p0 = p[t];
+            if (t + 1 < n) {
+                const double s1 = s[t + 1], *p1 = p[t + 1];
+#pragma omp simd
+                for (int i = a0; i < a1; i++)
+                    z[i] = (z[i] - s0 * p0[i]) - s1 * p1[i];
+            } else {
+#pragma omp simd
+                for (int i = a0; i < a1; i++)
+                    z[i] -= s0 * p0[i];
+            }
         }
     }
 }

@@ -7,7 +7,8 @@
  * batched complex FFTs of length P, TG_FFT2_BATCH at a time, in place.
  * Inverse: the same passes backwards through an internal (P/2 + 1) x P
  * complex work array, then complex-to-real along the rows and the exact
- * scaling by 1/P^2 (P is a power of two).
+ * scaling by 1/P^2 (P is a power of two); tg_fft2_apply scales the spectral
+ * factor instead, which gives the same bits with one pass less.
  *
  * Each FFTW call runs on the calling thread's own buffers (new-array
  * execute with buffers of the planned sizes, distances and alignment), and
@@ -207,18 +208,37 @@ static int team_size(const tg_fft2 *f)
     return nt < f->nthreads ? nt : f->nthreads;
 }
 
+/* One column block's spectral factor: v[2 ky] and v[2 ky + 1] times
+ * fc[ky] s, ky = 0..P-1. With s = 1/P^2, the inverse's scaling (a power of
+ * two: exact) is done here instead of after the inverse row pass; the
+ * inverse transforms only add and multiply, so their results come out
+ * scaled by s bit for bit as if s were applied after them (outside the
+ * subnormal range). */
+static void multiply_factor(double *restrict v, const double *restrict fc, double s, int P)
+{
+#pragma omp simd
+    for (int ky = 0; ky < P; ky++) {
+        const double w = fc[ky] * s;
+        v[2 * ky] *= w;
+        v[2 * ky + 1] *= w;
+    }
+}
+
 /* Complex FFTs of rows kx of `src` (P complex each, interleaved doubles)
  * into the same rows of `dst` (may equal src), blocks of TG_FFT2_BATCH rows
  * shared among the threads of the enclosing parallel region. With `factor`
  * (tg_fft2_apply), each block goes forward through `full`/`tail`, is
- * multiplied by factor[kx P + ky] and goes back through `back`/`back_tail`
- * while it is in the thread's buffer; the values are those that the
- * separate passes would give, bit for bit. */
+ * multiplied by factor[kx P + ky] / P^2 (multiply_factor) and goes back
+ * through `back`/`back_tail` while it is in the thread's buffer; the values
+ * are those that the separate passes would give, bit for bit, with the
+ * inverse's 1/P^2 already applied. */
 static void column_pass(const tg_fft2 *f, const double *src, double *dst, fftw_plan full,
                         fftw_plan tail, const double *factor, fftw_plan back,
                         fftw_plan back_tail)
 {
     const int P = f->P;
+    /* 1/P^2 with P a power of two: exact. */
+    const double scale = 1.0 / ((double)P * (double)P);
     fftw_complex *lb = f->lbuf[omp_get_thread_num()];
 #pragma omp for schedule(static)
     for (int b = 0; b < f->ncb; b++) {
@@ -229,19 +249,44 @@ static void column_pass(const tg_fft2 *f, const double *src, double *dst, fftw_p
                    sizeof(fftw_complex) * P);
         fftw_execute_dft(cols == TG_FFT2_BATCH ? full : tail, lb, lb);
         if (factor) {
-            for (int c = 0; c < cols; c++) {
-                double *v = (double *)(lb + (size_t)c * f->ldist);
-                const double *fc = factor + (size_t)(k0 + c) * P;
-                for (int ky = 0; ky < P; ky++) {
-                    v[2 * ky] *= fc[ky];
-                    v[2 * ky + 1] *= fc[ky];
-                }
-            }
+            for (int c = 0; c < cols; c++)
+                multiply_factor((double *)(lb + (size_t)c * f->ldist),
+                                factor + (size_t)(k0 + c) * P, scale, P);
             fftw_execute_dft(cols == TG_FFT2_BATCH ? back : back_tail, lb, lb);
         }
         for (int c = 0; c < cols; c++)
             memcpy(dst + 2 * (size_t)(k0 + c) * P, lb + (size_t)c * f->ldist,
                    sizeof(fftw_complex) * P);
+    }
+}
+
+/* Transposing copy of complex values (two doubles each): dst[2 r], dst[2 r + 1]
+ * = src + r * sstride, r = 0..n-1, for the rows of a block (dst contiguous)
+ * from a column of the thread's half-spectrum buffer; transpose_out is the
+ * reverse. A full block of TG_FFT2_BATCH takes the unrolled path. */
+static inline void transpose_in(double *restrict dst, const double *restrict src, size_t sstride,
+                                int n)
+{
+    if (n == TG_FFT2_BATCH) {
+#pragma GCC unroll 8
+        for (int r = 0; r < TG_FFT2_BATCH; r++)
+            memcpy(dst + 2 * r, src + r * sstride, 2 * sizeof(double));
+    } else {
+        for (int r = 0; r < n; r++)
+            memcpy(dst + 2 * r, src + r * sstride, 2 * sizeof(double));
+    }
+}
+
+static inline void transpose_out(double *restrict dst, size_t dstride, const double *restrict src,
+                                 int n)
+{
+    if (n == TG_FFT2_BATCH) {
+#pragma GCC unroll 8
+        for (int r = 0; r < TG_FFT2_BATCH; r++)
+            memcpy(dst + r * dstride, src + 2 * r, 2 * sizeof(double));
+    } else {
+        for (int r = 0; r < n; r++)
+            memcpy(dst + r * dstride, src + 2 * r, 2 * sizeof(double));
     }
 }
 
@@ -260,22 +305,19 @@ static void row_pass_forward(const tg_fft2 *f, const double *in, int stride, dou
             memcpy(rb + (size_t)r * f->rdist, in + (size_t)(j0 + r) * stride,
                    sizeof(double) * P);
         fftw_execute_dft_r2c(f->r2c, rb, cb);
-        for (int kx = 0; kx < nc; kx++) {
-            double *o = spec + 2 * ((size_t)kx * P + j0);
-            for (int r = 0; r < rr; r++) {
-                o[2 * r] = cb[(size_t)r * f->cdist + kx][0];
-                o[2 * r + 1] = cb[(size_t)r * f->cdist + kx][1];
-            }
-        }
+        for (int kx = 0; kx < nc; kx++)
+            transpose_in(spec + 2 * ((size_t)kx * P + j0), (const double *)(cb + kx),
+                         2 * (size_t)f->cdist, rr);
     }
 }
 
-/* Rows of w[kx][j] (after the column pass) back along kx with the factor
- * 1/P^2, in the enclosing parallel region: into `out` (row length
- * `stride`), or, with fn, handed row by row to fn(ctx, field, j, row)
- * from the thread's buffer (tg_fft2_apply_rows). */
-static void row_pass_inverse(const tg_fft2 *f, const double *w, double *out, int stride,
-                             tg_fft2_rows_fn fn, void *ctx, int field)
+/* Rows of w[kx][j] (after the column pass) back along kx, in the enclosing
+ * parallel region, with the factor 1/P^2 unless the column pass applied it
+ * (`scaled`): into `out` (row length `stride`), or, with fn, handed row by
+ * row to fn(ctx, field, j, row) from the thread's buffer
+ * (tg_fft2_apply_rows, always scaled). */
+static void row_pass_inverse(const tg_fft2 *f, const double *w, int scaled, double *out,
+                             int stride, tg_fft2_rows_fn fn, void *ctx, int field)
 {
     const int P = f->P, nc = f->nc, rr = f->rrows;
     /* 1/P^2 with P a power of two: exact. */
@@ -286,21 +328,22 @@ static void row_pass_inverse(const tg_fft2 *f, const double *w, double *out, int
 #pragma omp for schedule(static)
     for (int b = 0; b < f->nrb; b++) {
         const int j0 = b * rr;
-        for (int kx = 0; kx < nc; kx++) {
-            const double *s = w + 2 * ((size_t)kx * P + j0);
-            for (int r = 0; r < rr; r++) {
-                cb[(size_t)r * f->cdist + kx][0] = s[2 * r];
-                cb[(size_t)r * f->cdist + kx][1] = s[2 * r + 1];
-            }
-        }
+        for (int kx = 0; kx < nc; kx++)
+            transpose_out((double *)(cb + kx), 2 * (size_t)f->cdist,
+                          w + 2 * ((size_t)kx * P + j0), rr);
         fftw_execute_dft_c2r(f->c2r, cb, rb);
         for (int r = 0; r < rr; r++) {
-            double *x = rb + (size_t)r * f->rdist;
-            double *o = fn ? x : out + (size_t)(j0 + r) * stride;
-            for (int i = 0; i < P; i++)
-                o[i] = scale * x[i];
-            if (fn)
+            const double *x = rb + (size_t)r * f->rdist;
+            if (fn) {
                 fn(ctx, field, j0 + r, x);
+            } else {
+                double *restrict o = out + (size_t)(j0 + r) * stride;
+                if (scaled)
+                    memcpy(o, x, sizeof(double) * P);
+                else
+                    for (int i = 0; i < P; i++)
+                        o[i] = scale * x[i];
+            }
         }
     }
 }
@@ -322,7 +365,7 @@ void tg_fft2_inverse(tg_fft2 *f, const double *spec, double *out, int stride)
         /* along ky: work[kx][j] */
         column_pass(f, spec, f->work, f->cbwd, f->cbwd_tail, NULL, NULL, NULL);
         /* along kx: out[j][i] */
-        row_pass_inverse(f, f->work, out, stride, NULL, NULL, 0);
+        row_pass_inverse(f, f->work, 0, out, stride, NULL, NULL, 0);
     }
 }
 
@@ -335,7 +378,7 @@ static void apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
         row_pass_forward(f, fields[n], stride, f->work);
         column_pass(f, f->work, f->work, f->cfwd, f->cfwd_tail, factors[n], f->cbwd,
                     f->cbwd_tail);
-        row_pass_inverse(f, f->work, fields[n], stride, fn, ctx, n);
+        row_pass_inverse(f, f->work, 1, fields[n], stride, fn, ctx, n);
     }
 }
 
