@@ -189,13 +189,30 @@ void tg_model_project_row(tg_model *m, const double *q, int j)
     const int nl = m->nl, a0 = g->a0, a1 = g->a1;
     const long npl = m->npl, r0 = (long)j * g->ns;
     const double by = m->beta_y[r0 + a0]; /* the same on the whole row */
+    /* The layers are added in order, two per loop over the row. */
     for (int md = 0; md < nl; md++) {
-        double *r = m->phi + md * npl + r0;
+        double *restrict r = m->phi + md * npl + r0;
         const double *q0 = q + r0, p0 = m->modes.Pinv[md][0];
+        int k = 1;
+        if (nl > 1) {
+            const double *q1 = q + npl + r0, p1 = m->modes.Pinv[md][1];
 #pragma omp simd
-        for (int i = a0; i < a1; i++)
-            r[i] = p0 * (q0[i] - by);
-        for (int k = 1; k < nl; k++) {
+            for (int i = a0; i < a1; i++)
+                r[i] = p0 * (q0[i] - by) + p1 * (q1[i] - by);
+            k = 2;
+        } else {
+#pragma omp simd
+            for (int i = a0; i < a1; i++)
+                r[i] = p0 * (q0[i] - by);
+        }
+        for (; k + 1 < nl; k += 2) {
+            const double pk = m->modes.Pinv[md][k], pl = m->modes.Pinv[md][k + 1];
+            const double *qk = q + k * npl + r0, *ql = qk + npl;
+#pragma omp simd
+            for (int i = a0; i < a1; i++)
+                r[i] = (r[i] + pk * (qk[i] - by)) + pl * (ql[i] - by);
+        }
+        if (k < nl) {
             const double pk = m->modes.Pinv[md][k];
             const double *qk = q + k * npl + r0;
 #pragma omp simd
@@ -287,17 +304,43 @@ static void vorticity_row(tg_model *m, int j)
     }
 }
 
+/* Mode md's share of two layers' rows: o0 (=, or += unless first) p0 f and
+ * o1 likewise with p1, over n values, in one loop (add_mode_row's
+ * arithmetic without a homogeneous part). */
+static inline void add_mode_rows2(double *restrict o0, double *restrict o1, const double *f,
+                                  double p0, double p1, int first, int n)
+{
+    if (first) {
+#pragma omp simd
+        for (int i = 0; i < n; i++) {
+            o0[i] = p0 * f[i];
+            o1[i] = p1 * f[i];
+        }
+    } else {
+#pragma omp simd
+        for (int i = 0; i < n; i++) {
+            o0[i] += p0 * f[i];
+            o1[i] += p1 * f[i];
+        }
+    }
+}
+
 /* ops->solve_modes_rows: mode md's share of psi_k = sum_m P[k][m] phi_m on
  * the active nodes of row j (the same sum, in the same order, as the pass
- * of tg_model_invert), and after the last mode the row's vorticity. */
+ * of tg_model_invert; two layers per loop), and after the last mode the
+ * row's vorticity. */
 static void layers_row(void *ctx, int md, int j, const double *phi)
 {
     tg_model *m = ctx;
     const tg_geometry *g = m->geom;
     const long r0 = (long)j * g->ns + g->a0;
-    for (int k = 0; k < m->nl; k++)
-        add_mode_row(m->psi + k * m->npl + r0, phi, NULL, 0.0, m->modes.P[k][md], md == 0,
-                     g->a1 - g->a0);
+    const int n = g->a1 - g->a0;
+    int k = 0;
+    for (; k + 1 < m->nl; k += 2)
+        add_mode_rows2(m->psi + k * m->npl + r0, m->psi + (k + 1) * m->npl + r0, phi,
+                       m->modes.P[k][md], m->modes.P[k + 1][md], md == 0, n);
+    if (k < m->nl)
+        add_mode_row(m->psi + k * m->npl + r0, phi, NULL, 0.0, m->modes.P[k][md], md == 0, n);
     if (md == m->nl - 1)
         vorticity_row(m, j);
 }
