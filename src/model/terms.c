@@ -180,24 +180,24 @@ static void tendency_row(tg_model *m, const layer_terms *lt, int k, int j, doubl
         sums[2 * F_DRAG + 1] = z;
     }
 
-    /* Viscosity: o += v. */
-#pragma omp simd
-    for (int i = a0; i < a1; i++)
-        o[i] += v[i];
-
-    /* Mean flow: o += -U dq/dx - Qy dpsi/dx. */
+    /* Viscosity: o += v, then mean flow: o += -U dq/dx - Qy dpsi/dx, in
+     * one loop when the mean flow is present. */
     if (t->present[F_MEAN]) {
         const double cu = t->cu, cq = t->cq;
         double e = 0.0, z = 0.0;
 #pragma omp simd reduction(+ : e, z)
         for (int i = a0; i < a1; i++) {
             const double vm = cu * tg_ddx2_at(qc, i) + cq * tg_ddx2_at(pc, i);
-            o[i] += vm;
+            o[i] = (o[i] + v[i]) + vm;
             e += vm * (pc[i] - wall);
             z += vm * qc[i];
         }
         sums[2 * F_MEAN] = e;
         sums[2 * F_MEAN + 1] = z;
+    } else {
+#pragma omp simd
+        for (int i = a0; i < a1; i++)
+            o[i] += v[i];
     }
     for (int s = 0; s < 2 * F_N; s++)
         *rowsum_slot(m, k, s, j) = sums[s];
