@@ -9,6 +9,7 @@
 #include "constants.h"
 #include "fdops.h"
 #include "rng.h"
+#include "simdclone.h"
 
 static double *alloc_fields(long n)
 {
@@ -182,8 +183,9 @@ fail:
 /* Modal right-hand sides of row j: phi_m = sum_k Pinv[m][k] (q_k - beta (y - y0))
  * on the active nodes. The one copy of this sum: tg_model_derive and the
  * fused stage pass (terms.c) both use it, so a state reached by stepping and
- * the same state read back from a checkpoint invert to the same bits. */
-void tg_model_project_row(tg_model *m, const double *q, int j)
+ * the same state read back from a checkpoint invert to the same bits.
+ * Compiled for AVX2 too (simdclone.h; the same bits). */
+TG_SIMD_CLONES void tg_model_project_row(tg_model *m, const double *q, int j)
 {
     const tg_geometry *g = m->geom;
     const int nl = m->nl, a0 = g->a0, a1 = g->a1;
@@ -252,8 +254,11 @@ static inline void add_mode_row(double *restrict o, const double *f, const doubl
  * Helmholtz solves satisfy to round-off (one pass instead of a stencil).
  * The layers with S[k][kk] != 0 are subtracted in order, two per loop over
  * the row (the first with q_k - beta (y - y0)), so the row is written once
- * or twice instead of once per layer; the arithmetic is the same. */
-static void vorticity_row(tg_model *m, int j)
+ * or twice instead of once per layer; the arithmetic is the same. Compiled
+ * for AVX2 too (simdclone.h; the same bits): layers_row's AVX2 copy calls it,
+ * and AVX2 code must not hand over to SSE2 code without clearing the upper
+ * halves of the vector registers, which a tail call may skip. */
+TG_SIMD_CLONES static void vorticity_row(tg_model *m, int j)
 {
     const tg_geometry *g = m->geom;
     const int nl = m->nl, a0 = g->a0, a1 = g->a1;
@@ -328,8 +333,8 @@ static inline void add_mode_rows2(double *restrict o0, double *restrict o1, cons
 /* ops->solve_modes_rows: mode md's share of psi_k = sum_m P[k][m] phi_m on
  * the active nodes of row j (the same sum, in the same order, as the pass
  * of tg_model_invert; two layers per loop), and after the last mode the
- * row's vorticity. */
-static void layers_row(void *ctx, int md, int j, const double *phi)
+ * row's vorticity. Compiled for AVX2 too (simdclone.h; the same bits). */
+TG_SIMD_CLONES static void layers_row(void *ctx, int md, int j, const double *phi)
 {
     tg_model *m = ctx;
     const tg_geometry *g = m->geom;

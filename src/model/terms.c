@@ -19,6 +19,7 @@
 
 #include "fdops.h"
 #include "model.h"
+#include "simdclone.h"
 
 /* The built-in terms:
  *   advection      -J(psi_k, q_k)                      Arakawa (1966)
@@ -96,8 +97,9 @@ static inline double *rowsum_slot(tg_model *m, int k, int s, int j)
  * budget sums into m->rowsums. v is a scratch row of ns values. The stencils
  * are fdops.h's point kernels. The terms are added in the order of the
  * list above, each term present in a short loop of its own over the row (a
- * loop with every term and ten sums at once runs out of registers). */
-static void tendency_row(tg_model *m, const layer_terms *lt, int k, int j, double *restrict o,
+ * loop with every term and ten sums at once runs out of registers). Compiled
+ * for AVX2 too (simdclone.h): there the row's sums differ at round-off. */
+TG_SIMD_CLONES static void tendency_row(tg_model *m, const layer_terms *lt, int k, int j, double *restrict o,
                          double *restrict v)
 {
     const tg_geometry *g = m->geom;
@@ -288,8 +290,9 @@ tg_code tg_model_tendency(tg_model *m, int stage, tg_term_rates *rates, tg_statu
     return TG_OK;
 }
 
-/* The Runge-Kutta update of one row: qn = a q0 + b (q + dt t) on [a0, a1). */
-static inline void rk_row(double *restrict qn, const double *q0, const double *q,
+/* The Runge-Kutta update of one row: qn = a q0 + b (q + dt t) on [a0, a1)
+ * (compiled for AVX2 too: the same bits). */
+TG_SIMD_CLONES static void rk_row(double *restrict qn, const double *q0, const double *q,
                           const double *t, double a, double b, double dt, int a0, int a1)
 {
 #pragma omp simd

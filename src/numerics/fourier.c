@@ -28,6 +28,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "simdclone.h"
+
 /* Rows or columns per FFTW call (fixed: it decides which plan does each). */
 #define TG_FFT2_BATCH 8
 
@@ -213,8 +215,8 @@ static int team_size(const tg_fft2 *f)
  * two: exact) is done here instead of after the inverse row pass; the
  * inverse transforms only add and multiply, so their results come out
  * scaled by s bit for bit as if s were applied after them (outside the
- * subnormal range). */
-static void multiply_factor(double *restrict v, const double *restrict fc, double s, int P)
+ * subnormal range). Compiled for AVX2 too (simdclone.h; the same bits). */
+TG_SIMD_CLONES static void multiply_factor(double *restrict v, const double *restrict fc, double s, int P)
 {
 #pragma omp simd
     for (int ky = 0; ky < P; ky++) {
