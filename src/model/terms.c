@@ -308,6 +308,8 @@ tg_code tg_model_stage_update(tg_model *m, int stage, const double *q0, double a
     const long npl = m->npl;
     const double dt = m->dt;
     double *qn = m->qnext;
+    /* The modal right-hand sides, unless the inversion forms them itself. */
+    const int project = !tg_model_projects_in_invert(m);
 
     if (tg_closure_host_count(m->closures) > 0) {
         /* Closures: the whole tendency first (closures need the state of
@@ -323,7 +325,8 @@ tg_code tg_model_stage_update(tg_model *m, int stage, const double *q0, double a
                 const long o = k * npl + r0;
                 rk_row(qn + o, q0 + o, m->q + o, m->tend + o, a, b, dt, a0, a1);
             }
-            tg_model_project_row(m, qn, j);
+            if (project)
+                tg_model_project_row(m, qn, j);
         }
         return TG_OK;
     }
@@ -331,9 +334,10 @@ tg_code tg_model_stage_update(tg_model *m, int stage, const double *q0, double a
     /* No closures: one pass over the rows. For each row and layer, the
      * built-in tendency goes to this thread's row of m->rowwork (it never
      * exists as a whole field), q is updated from it, and the row's budget
-     * sums are kept; then the row of every mode's right-hand side is formed
-     * from the new q. The row reads rows j-1..j+1 of the current q, psi and
-     * zeta and writes only qnext and phi, so rows are independent. */
+     * sums are kept; then, unless the inversion forms them itself, the row
+     * of every mode's right-hand side is formed from the new q. The row
+     * reads rows j-1..j+1 of the current q, psi and zeta and writes only
+     * qnext and phi, so rows are independent. */
     if (rates)
         memset(rates, 0, sizeof *rates);
     layer_terms lt[TG_MAX_LAYERS];
@@ -349,7 +353,8 @@ tg_code tg_model_stage_update(tg_model *m, int stage, const double *q0, double a
                 tendency_row(m, lt, k, j, trow, v);
                 rk_row(qn + o, q0 + o, m->q + o, trow, a, b, dt, a0, a1);
             }
-            tg_model_project_row(m, qn, j);
+            if (project)
+                tg_model_project_row(m, qn, j);
         }
     }
     if (rates)

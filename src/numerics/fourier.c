@@ -9,13 +9,15 @@
  * complex work array, then complex-to-real along the rows and the exact
  * scaling by 1/P^2 (P is a power of two); tg_fft2_apply scales the spectral
  * factor instead, which gives the same bits with one pass less.
+ * tg_fft2_apply_fused keeps a work array per field, so that each block of
+ * rows of every field is filled, and later handed over, together.
  *
  * Each FFTW call runs on the calling thread's own buffers (new-array
  * execute with buffers of the planned sizes, distances and alignment), and
  * which plan transforms a row or column depends only on its index, so
  * results do not depend on the number of OpenMP threads.
  *
- * Ownership: tg_fft2 owns its plans, the work array and the per-thread
+ * Ownership: tg_fft2 owns its plans, the work arrays and the per-thread
  * buffers; tg_fft2_destroy frees them all. Only FFTW_ESTIMATE plans are
  * made (timed planning would make round-off differ between runs).
  *
@@ -44,8 +46,11 @@ struct tg_fft2 {
     int rdist;       /* row distance in rbuf (doubles) */
     int cdist;       /* row distance in cbuf (complex) */
     int ldist;       /* row distance in lbuf (complex) */
-    double *work;    /* inverse: nc x P complex after the column pass */
-    double **rbuf;   /* per thread: rrows real rows */
+    int nwork;       /* work arrays (tg_fft2_reserve) */
+    int nrows;       /* fields with real rows in every rbuf (tg_fft2_reserve) */
+    size_t rlen;     /* doubles of one field's real rows in rbuf */
+    double *work[TG_FFT2_MAX_FIELDS]; /* per field: nc x P complex spectrum */
+    double **rbuf;   /* per thread: rrows real rows per field (nrows blocks of rlen) */
     fftw_complex **cbuf; /* per thread: rrows half-spectrum rows */
     fftw_complex **lbuf; /* per thread: TG_FFT2_BATCH columns of P complex */
     fftw_plan r2c;   /* rrows rows, real to complex */
@@ -82,7 +87,8 @@ void tg_fft2_destroy(tg_fft2 *f)
     free(f->rbuf);
     free(f->cbuf);
     free(f->lbuf);
-    fftw_free(f->work);
+    for (int n = 0; n < f->nwork; n++)
+        fftw_free(f->work[n]);
     free(f);
 }
 
@@ -126,18 +132,21 @@ tg_fft2 *tg_fft2_create(int P, tg_status *st)
     const size_t clen = (size_t)f->rrows * f->cdist;
     const size_t llen = (size_t)TG_FFT2_BATCH * f->ldist;
     const size_t wlen = 2 * (size_t)f->nc * P;
-    f->work = fftw_malloc(wlen * sizeof(double));
+    f->nwork = 1;
+    f->nrows = 1;
+    f->rlen = rlen;
+    f->work[0] = fftw_malloc(wlen * sizeof(double));
     f->rbuf = calloc((size_t)f->nthreads, sizeof *f->rbuf);
     f->cbuf = calloc((size_t)f->nthreads, sizeof *f->cbuf);
     f->lbuf = calloc((size_t)f->nthreads, sizeof *f->lbuf);
-    if (!f->work || !f->rbuf || !f->cbuf || !f->lbuf) {
+    if (!f->work[0] || !f->rbuf || !f->cbuf || !f->lbuf) {
         tg_fail(st, TG_ERR_NOMEM,
                 "Fourier transform: cannot allocate the work array for P = %d (%zu bytes)", P,
                 wlen * sizeof(double));
         tg_fft2_destroy(f);
         return NULL;
     }
-    memset(f->work, 0, wlen * sizeof(double));
+    memset(f->work[0], 0, wlen * sizeof(double));
     for (int t = 0; t < f->nthreads; t++) {
         f->rbuf[t] = fftw_malloc(rlen * sizeof(double));
         f->cbuf[t] = fftw_malloc(clen * sizeof(fftw_complex));
@@ -292,60 +301,65 @@ static inline void transpose_out(double *restrict dst, size_t dstride, const dou
     }
 }
 
+/* Row block b's r2c from the real rows rb into spec[kx][j] (transposed),
+ * with the thread's half-spectrum buffer cb. */
+static void forward_block(const tg_fft2 *f, int b, double *rb, fftw_complex *cb, double *spec)
+{
+    const int j0 = b * f->rrows;
+    fftw_execute_dft_r2c(f->r2c, rb, cb);
+    for (int kx = 0; kx < f->nc; kx++)
+        transpose_in(spec + 2 * ((size_t)kx * f->P + j0), (const double *)(cb + kx),
+                     2 * (size_t)f->cdist, f->rrows);
+}
+
+/* Row block b of w[kx][j] (after the column pass) back along kx into the
+ * real rows rb (not scaled), with the thread's half-spectrum buffer cb. */
+static void inverse_block(const tg_fft2 *f, int b, const double *w, fftw_complex *cb,
+                          double *rb)
+{
+    const int j0 = b * f->rrows;
+    for (int kx = 0; kx < f->nc; kx++)
+        transpose_out((double *)(cb + kx), 2 * (size_t)f->cdist,
+                      w + 2 * ((size_t)kx * f->P + j0), f->rrows);
+    fftw_execute_dft_c2r(f->c2r, cb, rb);
+}
+
 /* Rows along x of `in` (row length `stride`) into spec[kx][j], in the
  * enclosing parallel region. */
 static void row_pass_forward(const tg_fft2 *f, const double *in, int stride, double *spec)
 {
-    const int P = f->P, nc = f->nc, rr = f->rrows;
-    const int tid = omp_get_thread_num();
+    const int rr = f->rrows, tid = omp_get_thread_num();
     double *rb = f->rbuf[tid];
-    fftw_complex *cb = f->cbuf[tid];
 #pragma omp for schedule(static)
     for (int b = 0; b < f->nrb; b++) {
-        const int j0 = b * rr;
         for (int r = 0; r < rr; r++)
-            memcpy(rb + (size_t)r * f->rdist, in + (size_t)(j0 + r) * stride,
-                   sizeof(double) * P);
-        fftw_execute_dft_r2c(f->r2c, rb, cb);
-        for (int kx = 0; kx < nc; kx++)
-            transpose_in(spec + 2 * ((size_t)kx * P + j0), (const double *)(cb + kx),
-                         2 * (size_t)f->cdist, rr);
+            memcpy(rb + (size_t)r * f->rdist, in + (size_t)(b * rr + r) * stride,
+                   sizeof(double) * f->P);
+        forward_block(f, b, rb, f->cbuf[tid], spec);
     }
 }
 
-/* Rows of w[kx][j] (after the column pass) back along kx, in the enclosing
- * parallel region, with the factor 1/P^2 unless the column pass applied it
- * (`scaled`): into `out` (row length `stride`), or, with fn, handed row by
- * row to fn(ctx, field, j, row) from the thread's buffer
- * (tg_fft2_apply_rows, always scaled). */
+/* Rows of w[kx][j] (after the column pass) back along kx into `out` (row
+ * length `stride`), in the enclosing parallel region, with the factor
+ * 1/P^2 unless the column pass applied it (`scaled`). */
 static void row_pass_inverse(const tg_fft2 *f, const double *w, int scaled, double *out,
-                             int stride, tg_fft2_rows_fn fn, void *ctx, int field)
+                             int stride)
 {
-    const int P = f->P, nc = f->nc, rr = f->rrows;
+    const int P = f->P, rr = f->rrows, tid = omp_get_thread_num();
     /* 1/P^2 with P a power of two: exact. */
     const double scale = 1.0 / ((double)P * (double)P);
-    const int tid = omp_get_thread_num();
     double *rb = f->rbuf[tid];
-    fftw_complex *cb = f->cbuf[tid];
 #pragma omp for schedule(static)
     for (int b = 0; b < f->nrb; b++) {
-        const int j0 = b * rr;
-        for (int kx = 0; kx < nc; kx++)
-            transpose_out((double *)(cb + kx), 2 * (size_t)f->cdist,
-                          w + 2 * ((size_t)kx * P + j0), rr);
-        fftw_execute_dft_c2r(f->c2r, cb, rb);
+        inverse_block(f, b, w, f->cbuf[tid], rb);
         for (int r = 0; r < rr; r++) {
             const double *x = rb + (size_t)r * f->rdist;
-            if (fn) {
-                fn(ctx, field, j0 + r, x);
-            } else {
-                double *restrict o = out + (size_t)(j0 + r) * stride;
-                if (scaled)
-                    memcpy(o, x, sizeof(double) * P);
-                else
-                    for (int i = 0; i < P; i++)
-                        o[i] = scale * x[i];
-            }
+            double *restrict o = out + (size_t)(b * rr + r) * stride;
+            if (scaled)
+                memcpy(o, x, sizeof(double) * P);
+            else
+                for (int i = 0; i < P; i++)
+                    o[i] = scale * x[i];
         }
     }
 }
@@ -365,34 +379,100 @@ void tg_fft2_inverse(tg_fft2 *f, const double *spec, double *out, int stride)
 #pragma omp parallel num_threads(team_size(f))
     {
         /* along ky: work[kx][j] */
-        column_pass(f, spec, f->work, f->cbwd, f->cbwd_tail, NULL, NULL, NULL);
+        column_pass(f, spec, f->work[0], f->cbwd, f->cbwd_tail, NULL, NULL, NULL);
         /* along kx: out[j][i] */
-        row_pass_inverse(f, f->work, 0, out, stride, NULL, NULL, 0);
-    }
-}
-
-/* tg_fft2_apply and tg_fft2_apply_rows: one parallel region, field after field. */
-static void apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
-                  const double *const *factors, tg_fft2_rows_fn fn, void *ctx)
-{
-#pragma omp parallel num_threads(team_size(f))
-    for (int n = 0; n < nfields; n++) {
-        row_pass_forward(f, fields[n], stride, f->work);
-        column_pass(f, f->work, f->work, f->cfwd, f->cfwd_tail, factors[n], f->cbwd,
-                    f->cbwd_tail);
-        row_pass_inverse(f, f->work, 1, fields[n], stride, fn, ctx, n);
+        row_pass_inverse(f, f->work[0], 0, out, stride);
     }
 }
 
 void tg_fft2_apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
                    const double *const *factors)
 {
-    apply(f, nfields, fields, stride, factors, NULL, NULL);
+    /* One parallel region, field after field, through the first work array. */
+#pragma omp parallel num_threads(team_size(f))
+    for (int n = 0; n < nfields; n++) {
+        row_pass_forward(f, fields[n], stride, f->work[0]);
+        column_pass(f, f->work[0], f->work[0], f->cfwd, f->cfwd_tail, factors[n], f->cbwd,
+                    f->cbwd_tail);
+        row_pass_inverse(f, f->work[0], 1, fields[n], stride);
+    }
 }
 
-void tg_fft2_apply_rows(tg_fft2 *f, int nfields, const double *const *fields, int stride,
-                        const double *const *factors, tg_fft2_rows_fn fn, void *ctx)
+tg_code tg_fft2_reserve(tg_fft2 *f, int nfields, tg_status *st)
 {
-    /* With fn, the fields are only read. */
-    apply(f, nfields, (double *const *)fields, stride, factors, fn, ctx);
+    tg_status_clear(st);
+    if (nfields < 1 || nfields > TG_FFT2_MAX_FIELDS)
+        return tg_fail(st, TG_ERR_INTERNAL,
+                       "Fourier transform: %d fields for one pass requested (1 to %d allowed)",
+                       nfields, TG_FFT2_MAX_FIELDS);
+    if (nfields <= f->nrows)
+        return TG_OK;
+    const size_t wlen = 2 * (size_t)f->nc * f->P;
+    for (int n = f->nwork; n < nfields; n++) {
+        f->work[n] = fftw_malloc(wlen * sizeof(double));
+        if (!f->work[n])
+            return tg_fail(st, TG_ERR_NOMEM,
+                           "Fourier transform: cannot allocate work array %d for P = %d "
+                           "(%zu bytes)", n, f->P, wlen * sizeof(double));
+        memset(f->work[n], 0, wlen * sizeof(double));
+        f->nwork = n + 1; /* freed by tg_fft2_destroy from here on */
+    }
+    /* Every thread's real rows for every field, each block aligned like the
+     * planned one (new-array execute). */
+    for (int t = 0; t < f->nthreads; t++) {
+        double *rb = fftw_malloc((size_t)nfields * f->rlen * sizeof(double));
+        if (!rb)
+            return tg_fail(st, TG_ERR_NOMEM,
+                           "Fourier transform: fftw_malloc failed for the rows of %d fields "
+                           "of thread %d", nfields, t);
+        memset(rb, 0, (size_t)nfields * f->rlen * sizeof(double));
+        fftw_free(f->rbuf[t]);
+        f->rbuf[t] = rb;
+    }
+    for (int t = 0; t < f->nthreads; t++)
+        for (int n = 0; n < nfields; n++)
+            if (fftw_alignment_of(f->rbuf[t] + n * f->rlen) != fftw_alignment_of(f->rbuf[0]))
+                return tg_fail(st, TG_ERR_INTERNAL,
+                               "Fourier transform: the rows of field %d are not aligned like "
+                               "the planned rows", n);
+    f->nrows = nfields;
+    return TG_OK;
+}
+
+void tg_fft2_apply_fused(tg_fft2 *f, int nfields, tg_fft2_fill_fn fill,
+                         const double *const *factors, tg_fft2_take_fn take, void *ctx)
+{
+    const int rr = f->rrows;
+#pragma omp parallel num_threads(team_size(f))
+    {
+        const int tid = omp_get_thread_num();
+        double *rows[TG_FFT2_MAX_FIELDS];
+        /* Forward: each row block of every field filled, then each field's
+         * block to its spectrum. */
+#pragma omp for schedule(static)
+        for (int b = 0; b < f->nrb; b++) {
+            for (int r = 0; r < rr; r++) {
+                for (int n = 0; n < nfields; n++)
+                    rows[n] = f->rbuf[tid] + n * f->rlen + (size_t)r * f->rdist;
+                fill(ctx, b * rr + r, rows);
+            }
+            for (int n = 0; n < nfields; n++)
+                forward_block(f, b, f->rbuf[tid] + n * f->rlen, f->cbuf[tid], f->work[n]);
+        }
+        /* Columns: forward, factor, backward, field after field. */
+        for (int n = 0; n < nfields; n++)
+            column_pass(f, f->work[n], f->work[n], f->cfwd, f->cfwd_tail, factors[n], f->cbwd,
+                        f->cbwd_tail);
+        /* Inverse: each row block of every field, then its rows handed over. */
+#pragma omp for schedule(static)
+        for (int b = 0; b < f->nrb; b++) {
+            for (int n = 0; n < nfields; n++)
+                inverse_block(f, b, f->work[n], f->cbuf[tid], f->rbuf[tid] + n * f->rlen);
+            for (int r = 0; r < rr; r++) {
+                for (int n = 0; n < nfields; n++)
+                    rows[n] = f->rbuf[tid] + n * f->rlen + (size_t)r * f->rdist;
+                take(ctx, b * rr + r, (const double *const *)rows);
+            }
+        }
+    }
 }
