@@ -9,8 +9,11 @@
  * complex work array, then complex-to-real along the rows and the exact
  * scaling by 1/P^2 (P is a power of two); tg_fft2_apply scales the spectral
  * factor instead, which gives the same bits with one pass less.
- * tg_fft2_apply_fused keeps a work array per field, so that each block of
- * rows of every field is filled, and later handed over, together.
+ * Internal work arrays keep their rows P + 4 complex apart, like the
+ * thread's column buffer, so that the column transforms of tg_fft2_apply
+ * run on them in place, without copies. tg_fft2_apply_fused keeps a work
+ * array per field, so that each block of rows of every field is filled,
+ * and later handed over, together.
  *
  * Each FFTW call runs on the calling thread's own buffers (new-array
  * execute with buffers of the planned sizes, distances and alignment), and
@@ -49,7 +52,7 @@ struct tg_fft2 {
     int nwork;       /* work arrays (tg_fft2_reserve) */
     int nrows;       /* fields with real rows in every rbuf (tg_fft2_reserve) */
     size_t rlen;     /* doubles of one field's real rows in rbuf */
-    double *work[TG_FFT2_MAX_FIELDS]; /* per field: nc x P complex spectrum */
+    double *work[TG_FFT2_MAX_FIELDS]; /* per field: nc rows of P complex, ldist apart */
     double **rbuf;   /* per thread: rrows real rows per field (nrows blocks of rlen) */
     fftw_complex **cbuf; /* per thread: rrows half-spectrum rows */
     fftw_complex **lbuf; /* per thread: TG_FFT2_BATCH columns of P complex */
@@ -131,7 +134,7 @@ tg_fft2 *tg_fft2_create(int P, tg_status *st)
     const size_t rlen = (size_t)f->rrows * f->rdist;
     const size_t clen = (size_t)f->rrows * f->cdist;
     const size_t llen = (size_t)TG_FFT2_BATCH * f->ldist;
-    const size_t wlen = 2 * (size_t)f->nc * P;
+    const size_t wlen = 2 * (size_t)f->nc * f->ldist;
     f->nwork = 1;
     f->nrows = 1;
     f->rlen = rlen;
@@ -161,8 +164,10 @@ tg_fft2 *tg_fft2_create(int P, tg_status *st)
         memset(f->rbuf[t], 0, rlen * sizeof(double));
         memset(f->cbuf[t], 0, clen * sizeof(fftw_complex));
         memset(f->lbuf[t], 0, llen * sizeof(fftw_complex));
-        /* New-array execute needs every buffer aligned like the planned one. */
+        /* New-array execute needs every buffer aligned like the planned one
+         * (the column transforms also run on the work arrays). */
         if (fftw_alignment_of(f->rbuf[t]) != fftw_alignment_of(f->rbuf[0]) ||
+            fftw_alignment_of(f->work[0]) != fftw_alignment_of((double *)f->lbuf[0]) ||
             fftw_alignment_of((double *)f->cbuf[t]) != fftw_alignment_of((double *)f->cbuf[0]) ||
             fftw_alignment_of((double *)f->lbuf[t]) != fftw_alignment_of((double *)f->lbuf[0])) {
             tg_fail(st, TG_ERR_INTERNAL,
@@ -235,39 +240,53 @@ TG_SIMD_CLONES static void multiply_factor(double *restrict v, const double *res
     }
 }
 
-/* Complex FFTs of rows kx of `src` (P complex each, interleaved doubles)
- * into the same rows of `dst` (may equal src), blocks of TG_FFT2_BATCH rows
- * shared among the threads of the enclosing parallel region. With `factor`
- * (tg_fft2_apply), each block goes forward through `full`/`tail`, is
- * multiplied by factor[kx P + ky] / P^2 (multiply_factor) and goes back
- * through `back`/`back_tail` while it is in the thread's buffer; the values
- * are those that the separate passes would give, bit for bit, with the
- * inverse's 1/P^2 already applied. */
-static void column_pass(const tg_fft2 *f, const double *src, double *dst, fftw_plan full,
-                        fftw_plan tail, const double *factor, fftw_plan back,
-                        fftw_plan back_tail)
+/* Complex FFTs of rows kx of `src` (P complex each, interleaved doubles,
+ * rows sdist complex apart) into the same rows of `dst` (ddist apart; may
+ * equal src), blocks of TG_FFT2_BATCH rows shared among the threads of the
+ * enclosing parallel region, through the thread's buffer with `full` or
+ * `tail`. */
+static void column_pass(const tg_fft2 *f, const double *src, size_t sdist, double *dst,
+                        size_t ddist, fftw_plan full, fftw_plan tail)
 {
     const int P = f->P;
-    /* 1/P^2 with P a power of two: exact. */
-    const double scale = 1.0 / ((double)P * (double)P);
     fftw_complex *lb = f->lbuf[omp_get_thread_num()];
 #pragma omp for schedule(static)
     for (int b = 0; b < f->ncb; b++) {
         const int k0 = b * TG_FFT2_BATCH;
         const int cols = (b == f->ncb - 1) ? f->ctail : TG_FFT2_BATCH;
         for (int c = 0; c < cols; c++)
-            memcpy(lb + (size_t)c * f->ldist, src + 2 * (size_t)(k0 + c) * P,
+            memcpy(lb + (size_t)c * f->ldist, src + 2 * (k0 + c) * sdist,
                    sizeof(fftw_complex) * P);
         fftw_execute_dft(cols == TG_FFT2_BATCH ? full : tail, lb, lb);
-        if (factor) {
-            for (int c = 0; c < cols; c++)
-                multiply_factor((double *)(lb + (size_t)c * f->ldist),
-                                factor + (size_t)(k0 + c) * P, scale, P);
-            fftw_execute_dft(cols == TG_FFT2_BATCH ? back : back_tail, lb, lb);
-        }
         for (int c = 0; c < cols; c++)
-            memcpy(dst + 2 * (size_t)(k0 + c) * P, lb + (size_t)c * f->ldist,
+            memcpy(dst + 2 * (k0 + c) * ddist, lb + (size_t)c * f->ldist,
                    sizeof(fftw_complex) * P);
+    }
+}
+
+/* The column pass of a spectral multiplication, in place on a work array
+ * w (rows ldist apart, laid out and aligned like the thread buffers, so the
+ * planned transforms run on it directly): each block of TG_FFT2_BATCH rows
+ * goes forward, is multiplied by factor[kx P + ky] / P^2 (multiply_factor)
+ * and goes back while it is in cache; the values are those that the
+ * separate passes would give, bit for bit, with the inverse's 1/P^2
+ * already applied. In the enclosing parallel region. */
+static void column_pass_work(const tg_fft2 *f, double *w, const double *factor)
+{
+    const int P = f->P;
+    /* 1/P^2 with P a power of two: exact. */
+    const double scale = 1.0 / ((double)P * (double)P);
+#pragma omp for schedule(static)
+    for (int b = 0; b < f->ncb; b++) {
+        const int k0 = b * TG_FFT2_BATCH;
+        const int full = b < f->ncb - 1 || f->ctail == TG_FFT2_BATCH;
+        const int cols = full ? TG_FFT2_BATCH : f->ctail;
+        fftw_complex *blk = (fftw_complex *)(w + 2 * (size_t)k0 * f->ldist);
+        fftw_execute_dft(full ? f->cfwd : f->cfwd_tail, blk, blk);
+        for (int c = 0; c < cols; c++)
+            multiply_factor((double *)(blk + (size_t)c * f->ldist),
+                            factor + (size_t)(k0 + c) * P, scale, P);
+        fftw_execute_dft(full ? f->cbwd : f->cbwd_tail, blk, blk);
     }
 }
 
@@ -301,32 +320,35 @@ static inline void transpose_out(double *restrict dst, size_t dstride, const dou
     }
 }
 
-/* Row block b's r2c from the real rows rb into spec[kx][j] (transposed),
- * with the thread's half-spectrum buffer cb. */
-static void forward_block(const tg_fft2 *f, int b, double *rb, fftw_complex *cb, double *spec)
+/* Row block b's r2c from the real rows rb into spec[kx][j] (transposed;
+ * rows kx `dist` complex apart), with the thread's half-spectrum buffer cb. */
+static void forward_block(const tg_fft2 *f, int b, double *rb, fftw_complex *cb, double *spec,
+                          size_t dist)
 {
     const int j0 = b * f->rrows;
     fftw_execute_dft_r2c(f->r2c, rb, cb);
     for (int kx = 0; kx < f->nc; kx++)
-        transpose_in(spec + 2 * ((size_t)kx * f->P + j0), (const double *)(cb + kx),
+        transpose_in(spec + 2 * (kx * dist + j0), (const double *)(cb + kx),
                      2 * (size_t)f->cdist, f->rrows);
 }
 
-/* Row block b of w[kx][j] (after the column pass) back along kx into the
- * real rows rb (not scaled), with the thread's half-spectrum buffer cb. */
-static void inverse_block(const tg_fft2 *f, int b, const double *w, fftw_complex *cb,
-                          double *rb)
+/* Row block b of w[kx][j] (after the column pass; rows kx `dist` complex
+ * apart) back along kx into the real rows rb (not scaled), with the
+ * thread's half-spectrum buffer cb. */
+static void inverse_block(const tg_fft2 *f, int b, const double *w, size_t dist,
+                          fftw_complex *cb, double *rb)
 {
     const int j0 = b * f->rrows;
     for (int kx = 0; kx < f->nc; kx++)
-        transpose_out((double *)(cb + kx), 2 * (size_t)f->cdist,
-                      w + 2 * ((size_t)kx * f->P + j0), f->rrows);
+        transpose_out((double *)(cb + kx), 2 * (size_t)f->cdist, w + 2 * (kx * dist + j0),
+                      f->rrows);
     fftw_execute_dft_c2r(f->c2r, cb, rb);
 }
 
-/* Rows along x of `in` (row length `stride`) into spec[kx][j], in the
- * enclosing parallel region. */
-static void row_pass_forward(const tg_fft2 *f, const double *in, int stride, double *spec)
+/* Rows along x of `in` (row length `stride`) into spec[kx][j] (rows kx
+ * `dist` complex apart), in the enclosing parallel region. */
+static void row_pass_forward(const tg_fft2 *f, const double *in, int stride, double *spec,
+                             size_t dist)
 {
     const int rr = f->rrows, tid = omp_get_thread_num();
     double *rb = f->rbuf[tid];
@@ -335,15 +357,16 @@ static void row_pass_forward(const tg_fft2 *f, const double *in, int stride, dou
         for (int r = 0; r < rr; r++)
             memcpy(rb + (size_t)r * f->rdist, in + (size_t)(b * rr + r) * stride,
                    sizeof(double) * f->P);
-        forward_block(f, b, rb, f->cbuf[tid], spec);
+        forward_block(f, b, rb, f->cbuf[tid], spec, dist);
     }
 }
 
-/* Rows of w[kx][j] (after the column pass) back along kx into `out` (row
- * length `stride`), in the enclosing parallel region, with the factor
- * 1/P^2 unless the column pass applied it (`scaled`). */
-static void row_pass_inverse(const tg_fft2 *f, const double *w, int scaled, double *out,
-                             int stride)
+/* Rows of w[kx][j] (after the column pass; rows kx `dist` complex apart)
+ * back along kx into `out` (row length `stride`), in the enclosing parallel
+ * region, with the factor 1/P^2 unless the column pass applied it
+ * (`scaled`). */
+static void row_pass_inverse(const tg_fft2 *f, const double *w, size_t dist, int scaled,
+                             double *out, int stride)
 {
     const int P = f->P, rr = f->rrows, tid = omp_get_thread_num();
     /* 1/P^2 with P a power of two: exact. */
@@ -351,7 +374,7 @@ static void row_pass_inverse(const tg_fft2 *f, const double *w, int scaled, doub
     double *rb = f->rbuf[tid];
 #pragma omp for schedule(static)
     for (int b = 0; b < f->nrb; b++) {
-        inverse_block(f, b, w, f->cbuf[tid], rb);
+        inverse_block(f, b, w, dist, f->cbuf[tid], rb);
         for (int r = 0; r < rr; r++) {
             const double *x = rb + (size_t)r * f->rdist;
             double *restrict o = out + (size_t)(b * rr + r) * stride;
@@ -368,9 +391,9 @@ void tg_fft2_forward(tg_fft2 *f, const double *in, int stride, double *spec)
 {
 #pragma omp parallel num_threads(team_size(f))
     {
-        row_pass_forward(f, in, stride, spec);
+        row_pass_forward(f, in, stride, spec, f->P);
         /* along y: spec[kx][ky] */
-        column_pass(f, spec, spec, f->cfwd, f->cfwd_tail, NULL, NULL, NULL);
+        column_pass(f, spec, f->P, spec, f->P, f->cfwd, f->cfwd_tail);
     }
 }
 
@@ -379,9 +402,9 @@ void tg_fft2_inverse(tg_fft2 *f, const double *spec, double *out, int stride)
 #pragma omp parallel num_threads(team_size(f))
     {
         /* along ky: work[kx][j] */
-        column_pass(f, spec, f->work[0], f->cbwd, f->cbwd_tail, NULL, NULL, NULL);
+        column_pass(f, spec, f->P, f->work[0], f->ldist, f->cbwd, f->cbwd_tail);
         /* along kx: out[j][i] */
-        row_pass_inverse(f, f->work[0], 0, out, stride);
+        row_pass_inverse(f, f->work[0], f->ldist, 0, out, stride);
     }
 }
 
@@ -391,10 +414,9 @@ void tg_fft2_apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
     /* One parallel region, field after field, through the first work array. */
 #pragma omp parallel num_threads(team_size(f))
     for (int n = 0; n < nfields; n++) {
-        row_pass_forward(f, fields[n], stride, f->work[0]);
-        column_pass(f, f->work[0], f->work[0], f->cfwd, f->cfwd_tail, factors[n], f->cbwd,
-                    f->cbwd_tail);
-        row_pass_inverse(f, f->work[0], 1, fields[n], stride);
+        row_pass_forward(f, fields[n], stride, f->work[0], f->ldist);
+        column_pass_work(f, f->work[0], factors[n]);
+        row_pass_inverse(f, f->work[0], f->ldist, 1, fields[n], stride);
     }
 }
 
@@ -407,7 +429,7 @@ tg_code tg_fft2_reserve(tg_fft2 *f, int nfields, tg_status *st)
                        nfields, TG_FFT2_MAX_FIELDS);
     if (nfields <= f->nrows)
         return TG_OK;
-    const size_t wlen = 2 * (size_t)f->nc * f->P;
+    const size_t wlen = 2 * (size_t)f->nc * f->ldist;
     for (int n = f->nwork; n < nfields; n++) {
         f->work[n] = fftw_malloc(wlen * sizeof(double));
         if (!f->work[n])
@@ -416,6 +438,10 @@ tg_code tg_fft2_reserve(tg_fft2 *f, int nfields, tg_status *st)
                            "(%zu bytes)", n, f->P, wlen * sizeof(double));
         memset(f->work[n], 0, wlen * sizeof(double));
         f->nwork = n + 1; /* freed by tg_fft2_destroy from here on */
+        if (fftw_alignment_of(f->work[n]) != fftw_alignment_of((double *)f->lbuf[0]))
+            return tg_fail(st, TG_ERR_INTERNAL,
+                           "Fourier transform: work array %d is not aligned like the planned "
+                           "columns", n);
     }
     /* Every thread's real rows for every field, each block aligned like the
      * planned one (new-array execute). */
@@ -457,17 +483,18 @@ void tg_fft2_apply_fused(tg_fft2 *f, int nfields, tg_fft2_fill_fn fill,
                 fill(ctx, b * rr + r, rows);
             }
             for (int n = 0; n < nfields; n++)
-                forward_block(f, b, f->rbuf[tid] + n * f->rlen, f->cbuf[tid], f->work[n]);
+                forward_block(f, b, f->rbuf[tid] + n * f->rlen, f->cbuf[tid], f->work[n],
+                              f->ldist);
         }
         /* Columns: forward, factor, backward, field after field. */
         for (int n = 0; n < nfields; n++)
-            column_pass(f, f->work[n], f->work[n], f->cfwd, f->cfwd_tail, factors[n], f->cbwd,
-                        f->cbwd_tail);
+            column_pass_work(f, f->work[n], factors[n]);
         /* Inverse: each row block of every field, then its rows handed over. */
 #pragma omp for schedule(static)
         for (int b = 0; b < f->nrb; b++) {
             for (int n = 0; n < nfields; n++)
-                inverse_block(f, b, f->work[n], f->cbuf[tid], f->rbuf[tid] + n * f->rlen);
+                inverse_block(f, b, f->work[n], f->ldist, f->cbuf[tid],
+                              f->rbuf[tid] + n * f->rlen);
             for (int r = 0; r < rr; r++) {
                 for (int n = 0; n < nfields; n++)
                     rows[n] = f->rbuf[tid] + n * f->rlen + (size_t)r * f->rdist;

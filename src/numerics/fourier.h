@@ -84,7 +84,7 @@ void tg_fft2_apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
 
 /* Makes the work arrays and row buffers for tg_fft2_apply_fused of up to
  * nfields fields (1..TG_FFT2_MAX_FIELDS): (nfields - 1) more spectra of
- * 2 (P/2 + 1) P doubles. Call it before stepping; it allocates only when
+ * 2 (P/2 + 1) (P + 4) doubles. Call it before stepping; it allocates only when
  * nfields is more than before. */
 tg_code tg_fft2_reserve(tg_fft2 *f, int nfields, tg_status *st);
 
