@@ -1,8 +1,9 @@
 /* fourier.c - 2-D real FFT of a P x P periodic array (see fourier.h).
  *
  * Forward: the rows (along x) go through batched 1-D real-to-complex FFTs
- * of length P, TG_FFT2_BATCH rows per FFTW call; each block's P/2 + 1
- * outputs are written transposed into `spec` (row kx, column j), so that
+ * of length P, TG_FFT2_BATCH rows per FFTW call and two calls per row block
+ * when P allows; each block's P/2 + 1 outputs are written transposed into
+ * `spec` (row kx, column j), so that
  * the columns become contiguous; then the P/2 + 1 rows of `spec` go through
  * batched complex FFTs of length P, TG_FFT2_BATCH at a time, in place.
  * Inverse: the same passes backwards through an internal (P/2 + 1) x P
@@ -38,11 +39,18 @@
 /* Rows or columns per FFTW call (fixed: it decides which plan does each). */
 #define TG_FFT2_BATCH 8
 
+/* FFTW calls of rows per row block when the rows allow: a block's
+ * transposing copies then move 2 x TG_FFT2_BATCH complex values (256
+ * contiguous bytes) per spectral row. */
+#define TG_FFT2_ROW_CALLS 2
+
 struct tg_fft2 {
     int P;           /* points per side */
     int nc;          /* complex outputs per row, P/2 + 1 */
-    int rrows;       /* rows per row block, min(TG_FFT2_BATCH, P) */
-    int nrb;         /* row blocks, P / rrows */
+    int rrows;       /* rows per FFTW call, min(TG_FFT2_BATCH, P) */
+    int ncalls;      /* FFTW calls per row block: TG_FFT2_ROW_CALLS or 1 */
+    int brows;       /* rows per row block, ncalls * rrows */
+    int nrb;         /* row blocks, P / brows */
     int ncb;         /* column blocks, ceil(nc / TG_FFT2_BATCH) */
     int ctail;       /* columns in the last column block */
     int nthreads;    /* threads with buffers */
@@ -53,8 +61,8 @@ struct tg_fft2 {
     int nrows;       /* fields with real rows in every rbuf (tg_fft2_reserve) */
     size_t rlen;     /* doubles of one field's real rows in rbuf */
     double *work[TG_FFT2_MAX_FIELDS]; /* per field: nc rows of P complex, ldist apart */
-    double **rbuf;   /* per thread: rrows real rows per field (nrows blocks of rlen) */
-    fftw_complex **cbuf; /* per thread: rrows half-spectrum rows */
+    double **rbuf;   /* per thread: brows real rows per field (nrows blocks of rlen) */
+    fftw_complex **cbuf; /* per thread: brows half-spectrum rows */
     fftw_complex **lbuf; /* per thread: TG_FFT2_BATCH columns of P complex */
     fftw_plan r2c;   /* rrows rows, real to complex */
     fftw_plan c2r;   /* rrows rows, complex to real */
@@ -119,7 +127,9 @@ tg_fft2 *tg_fft2_create(int P, tg_status *st)
     f->P = P;
     f->nc = P / 2 + 1;
     f->rrows = P < TG_FFT2_BATCH ? P : TG_FFT2_BATCH;
-    f->nrb = P / f->rrows;
+    f->ncalls = (P / f->rrows) % TG_FFT2_ROW_CALLS == 0 ? TG_FFT2_ROW_CALLS : 1;
+    f->brows = f->ncalls * f->rrows;
+    f->nrb = P / f->brows;
     f->ncb = (f->nc + TG_FFT2_BATCH - 1) / TG_FFT2_BATCH;
     f->ctail = f->nc - (f->ncb - 1) * TG_FFT2_BATCH;
     f->nthreads = omp_get_max_threads();
@@ -131,8 +141,8 @@ tg_fft2 *tg_fft2_create(int P, tg_status *st)
     f->cdist = f->nc + 3;
     f->ldist = P + 4;
 
-    const size_t rlen = (size_t)f->rrows * f->rdist;
-    const size_t clen = (size_t)f->rrows * f->cdist;
+    const size_t rlen = (size_t)f->brows * f->rdist;
+    const size_t clen = (size_t)f->brows * f->cdist;
     const size_t llen = (size_t)TG_FFT2_BATCH * f->ldist;
     const size_t wlen = 2 * (size_t)f->nc * f->ldist;
     f->nwork = 1;
@@ -166,7 +176,11 @@ tg_fft2 *tg_fft2_create(int P, tg_status *st)
         memset(f->lbuf[t], 0, llen * sizeof(fftw_complex));
         /* New-array execute needs every buffer aligned like the planned one
          * (the column transforms also run on the work arrays). */
+        const size_t rcall = (size_t)f->rrows * f->rdist, ccall = (size_t)f->rrows * f->cdist;
         if (fftw_alignment_of(f->rbuf[t]) != fftw_alignment_of(f->rbuf[0]) ||
+            fftw_alignment_of(f->rbuf[t] + rcall) != fftw_alignment_of(f->rbuf[0]) ||
+            fftw_alignment_of((double *)(f->cbuf[t] + ccall)) !=
+                fftw_alignment_of((double *)f->cbuf[0]) ||
             fftw_alignment_of(f->work[0]) != fftw_alignment_of((double *)f->lbuf[0]) ||
             fftw_alignment_of((double *)f->cbuf[t]) != fftw_alignment_of((double *)f->cbuf[0]) ||
             fftw_alignment_of((double *)f->lbuf[t]) != fftw_alignment_of((double *)f->lbuf[0])) {
@@ -203,7 +217,7 @@ tg_fft2 *tg_fft2_create(int P, tg_status *st)
     tg_log(TG_LOG_DEBUG,
            "Fourier transform: P = %d, %d row blocks of %d, %d column blocks, buffers for %d "
            "threads",
-           P, f->nrb, f->rrows, f->ncb, f->nthreads);
+           P, f->nrb, f->brows, f->ncb, f->nthreads);
     return f;
 }
 
@@ -293,13 +307,14 @@ static void column_pass_work(const tg_fft2 *f, double *w, const double *factor)
 /* Transposing copy of complex values (two doubles each): dst[2 r], dst[2 r + 1]
  * = src + r * sstride, r = 0..n-1, for the rows of a block (dst contiguous)
  * from a column of the thread's half-spectrum buffer; transpose_out is the
- * reverse. A full block of TG_FFT2_BATCH takes the unrolled path. */
+ * reverse. A full block of TG_FFT2_ROW_CALLS x TG_FFT2_BATCH rows takes the
+ * unrolled path. */
 static inline void transpose_in(double *restrict dst, const double *restrict src, size_t sstride,
                                 int n)
 {
-    if (n == TG_FFT2_BATCH) {
-#pragma GCC unroll 8
-        for (int r = 0; r < TG_FFT2_BATCH; r++)
+    if (n == TG_FFT2_ROW_CALLS * TG_FFT2_BATCH) {
+#pragma GCC unroll 16
+        for (int r = 0; r < TG_FFT2_ROW_CALLS * TG_FFT2_BATCH; r++)
             memcpy(dst + 2 * r, src + r * sstride, 2 * sizeof(double));
     } else {
         for (int r = 0; r < n; r++)
@@ -310,9 +325,9 @@ static inline void transpose_in(double *restrict dst, const double *restrict src
 static inline void transpose_out(double *restrict dst, size_t dstride, const double *restrict src,
                                  int n)
 {
-    if (n == TG_FFT2_BATCH) {
-#pragma GCC unroll 8
-        for (int r = 0; r < TG_FFT2_BATCH; r++)
+    if (n == TG_FFT2_ROW_CALLS * TG_FFT2_BATCH) {
+#pragma GCC unroll 16
+        for (int r = 0; r < TG_FFT2_ROW_CALLS * TG_FFT2_BATCH; r++)
             memcpy(dst + r * dstride, src + 2 * r, 2 * sizeof(double));
     } else {
         for (int r = 0; r < n; r++)
@@ -325,11 +340,13 @@ static inline void transpose_out(double *restrict dst, size_t dstride, const dou
 static void forward_block(const tg_fft2 *f, int b, double *rb, fftw_complex *cb, double *spec,
                           size_t dist)
 {
-    const int j0 = b * f->rrows;
-    fftw_execute_dft_r2c(f->r2c, rb, cb);
+    const int j0 = b * f->brows;
+    for (int c = 0; c < f->ncalls; c++)
+        fftw_execute_dft_r2c(f->r2c, rb + (size_t)c * f->rrows * f->rdist,
+                             cb + (size_t)c * f->rrows * f->cdist);
     for (int kx = 0; kx < f->nc; kx++)
         transpose_in(spec + 2 * (kx * dist + j0), (const double *)(cb + kx),
-                     2 * (size_t)f->cdist, f->rrows);
+                     2 * (size_t)f->cdist, f->brows);
 }
 
 /* Row block b of w[kx][j] (after the column pass; rows kx `dist` complex
@@ -338,11 +355,13 @@ static void forward_block(const tg_fft2 *f, int b, double *rb, fftw_complex *cb,
 static void inverse_block(const tg_fft2 *f, int b, const double *w, size_t dist,
                           fftw_complex *cb, double *rb)
 {
-    const int j0 = b * f->rrows;
+    const int j0 = b * f->brows;
     for (int kx = 0; kx < f->nc; kx++)
         transpose_out((double *)(cb + kx), 2 * (size_t)f->cdist, w + 2 * (kx * dist + j0),
-                      f->rrows);
-    fftw_execute_dft_c2r(f->c2r, cb, rb);
+                      f->brows);
+    for (int c = 0; c < f->ncalls; c++)
+        fftw_execute_dft_c2r(f->c2r, cb + (size_t)c * f->rrows * f->cdist,
+                             rb + (size_t)c * f->rrows * f->rdist);
 }
 
 /* Rows along x of `in` (row length `stride`) into spec[kx][j] (rows kx
@@ -350,7 +369,7 @@ static void inverse_block(const tg_fft2 *f, int b, const double *w, size_t dist,
 static void row_pass_forward(const tg_fft2 *f, const double *in, int stride, double *spec,
                              size_t dist)
 {
-    const int rr = f->rrows, tid = omp_get_thread_num();
+    const int rr = f->brows, tid = omp_get_thread_num();
     double *rb = f->rbuf[tid];
 #pragma omp for schedule(static)
     for (int b = 0; b < f->nrb; b++) {
@@ -368,7 +387,7 @@ static void row_pass_forward(const tg_fft2 *f, const double *in, int stride, dou
 static void row_pass_inverse(const tg_fft2 *f, const double *w, size_t dist, int scaled,
                              double *out, int stride)
 {
-    const int P = f->P, rr = f->rrows, tid = omp_get_thread_num();
+    const int P = f->P, rr = f->brows, tid = omp_get_thread_num();
     /* 1/P^2 with P a power of two: exact. */
     const double scale = 1.0 / ((double)P * (double)P);
     double *rb = f->rbuf[tid];
@@ -468,7 +487,7 @@ tg_code tg_fft2_reserve(tg_fft2 *f, int nfields, tg_status *st)
 void tg_fft2_apply_fused(tg_fft2 *f, int nfields, tg_fft2_fill_fn fill,
                          const double *const *factors, tg_fft2_take_fn take, void *ctx)
 {
-    const int rr = f->rrows;
+    const int rr = f->brows;
 #pragma omp parallel num_threads(team_size(f))
     {
         const int tid = omp_get_thread_num();
