@@ -117,6 +117,9 @@ static tg_code periodic_setup_modes(tg_geometry *g, int nmodes, const double *F,
                        "periodic: %d vertical modes requested (1 to %d allowed)", nmodes,
                        TG_MAX_LAYERS);
     p->nmodes = nmodes;
+    /* The fused solves keep every mode's spectrum (solve_modes_rows). */
+    if (tg_fft2_reserve(p->fft, nmodes, st) != TG_OK)
+        return st->code;
     for (int m = 0; m < nmodes; m++) {
         if (!(F[m] >= 0.0) || !isfinite(F[m]))
             return tg_fail(st, TG_ERR_NUMERIC,
@@ -169,32 +172,35 @@ static void periodic_solve_modes_parts(tg_geometry *g, int nmodes, double *phi, 
         halo_copy(g, phi + m * stride);
 }
 
-/* solve_modes_rows: the fused solves of tg_fft2_apply_rows, whose rows
+/* solve_modes_rows: the fused solves of tg_fft2_apply_fused, whose rows
  * 0..P-1 are the stored rows 1..P. */
 typedef struct {
+    tg_geometry_fill_fn fill;
     tg_geometry_rows_fn fn;
     void *ctx;
 } rows_relay;
 
-static void relay_row(void *ctx, int m, int j, const double *row)
+static void relay_fill(void *ctx, int j, double *const *rows)
 {
     const rows_relay *r = ctx;
-    r->fn(r->ctx, m, j + 1, row);
+    r->fill(r->ctx, j + 1, rows);
 }
 
-static void periodic_solve_modes_rows(tg_geometry *g, int nmodes, const double *rhs, long stride,
+static void relay_take(void *ctx, int j, const double *const *rows)
+{
+    const rows_relay *r = ctx;
+    r->fn(r->ctx, j + 1, rows);
+}
+
+static void periodic_solve_modes_rows(tg_geometry *g, int nmodes, tg_geometry_fill_fn fill,
                                       tg_geometry_rows_fn fn, void *ctx)
 {
     periodic *p = g->impl;
-    const int ns = g->ns;
-    const double *fields[TG_MAX_LAYERS] = {NULL};
     const double *factors[TG_MAX_LAYERS] = {NULL};
-    for (int m = 0; m < nmodes; m++) {
-        fields[m] = rhs + m * stride + ns + 1;
+    for (int m = 0; m < nmodes; m++)
         factors[m] = p->invden[m];
-    }
-    rows_relay r = {fn, ctx};
-    tg_fft2_apply_rows(p->fft, nmodes, fields, ns, factors, relay_row, &r);
+    rows_relay r = {fill, fn, ctx};
+    tg_fft2_apply_fused(p->fft, nmodes, relay_fill, factors, relay_take, &r);
 }
 
 static void periodic_filter_gaussian(tg_geometry *g, double *f, double width)

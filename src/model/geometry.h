@@ -22,8 +22,10 @@
 
 typedef struct tg_geometry tg_geometry;
 
-/* Receives mode m's solution on one row (ops->solve_modes_rows). */
-typedef void (*tg_geometry_rows_fn)(void *ctx, int m, int j, const double *phi);
+/* ops->solve_modes_rows: writes every mode's right-hand side on one row
+ * (rhs[m]), and receives every mode's solution on one row (phi[m]). */
+typedef void (*tg_geometry_fill_fn)(void *ctx, int j, double *const *rhs);
+typedef void (*tg_geometry_rows_fn)(void *ctx, int j, const double *const *phi);
 
 /* Kinds of the coarse-graining filter (ops->filter_field). */
 typedef enum { TG_FILTER_SHARP = 0, TG_FILTER_GAUSSIAN = 1 } tg_filter_kind;
@@ -118,15 +120,16 @@ typedef struct {
                               const double **homog);
 
     /* Optional (NULL when absent; only where solve_mode never has a wall
-     * correction): every mode's solve_mode result, bit for bit, handed over
-     * row by row instead of stored. Mode m's right-hand side is at
-     * rhs + m * stride (left as it is); fn(ctx, m, j, phi) is called once
-     * for every mode m and active row j (stored index, a0 <= j < a1) with
-     * phi[i - a0] the solution at active node i of that row, mode after
-     * mode (every row of mode m before any of m + 1), inside a parallel
-     * region whose threads share the rows in a fixed way, so fn writes only
-     * row j's data. Nothing is written to the ring. */
-    void (*solve_modes_rows)(tg_geometry *g, int nmodes, const double *rhs, long stride,
+     * correction): every mode's solve_mode result, bit for bit, for
+     * right-hand sides that are given and solutions that are handed over
+     * row by row, neither stored. fill(ctx, j, rhs) writes rhs[m][i - a0],
+     * mode m's right-hand side at active node i of active row j (stored
+     * index, a0 <= j < a1), and fn(ctx, j, phi) receives phi[m][i - a0],
+     * mode m's solution there; each is called once per row, every fill
+     * before any fn, inside a parallel region whose threads share the rows
+     * in a fixed way, so both write only row j's data. Nothing is written
+     * to the ring. */
+    void (*solve_modes_rows)(tg_geometry *g, int nmodes, tg_geometry_fill_fn fill,
                              tg_geometry_rows_fn fn, void *ctx);
 } tg_geometry_ops;
 

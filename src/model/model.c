@@ -9,6 +9,7 @@
 #include "constants.h"
 #include "fdops.h"
 #include "rng.h"
+#include "simdclone.h"
 
 static double *alloc_fields(long n)
 {
@@ -179,30 +180,59 @@ fail:
         }                                                                                 \
     } while (0)
 
-/* Modal right-hand sides of row j: phi_m = sum_k Pinv[m][k] (q_k - beta (y - y0))
- * on the active nodes. The one copy of this sum: tg_model_derive and the
- * fused stage pass (terms.c) both use it, so a state reached by stepping and
- * the same state read back from a checkpoint invert to the same bits. */
-void tg_model_project_row(tg_model *m, const double *q, int j)
+/* Modal right-hand sides of active row j: r[m][i - a0] = sum_k Pinv[m][k]
+ * (q_k - beta (y - y0)) at the active nodes i, the layers added in order,
+ * two per loop over the row. The one copy of this sum: tg_model_project_row
+ * (into m->phi) and the fused solves of tg_model_invert (into the
+ * geometry's rows) both use it, so a state reached by stepping and the same
+ * state read back from a checkpoint invert to the same bits. Compiled for
+ * AVX2 too (simdclone.h; the same bits). */
+TG_SIMD_CLONES static void project_rows(const tg_model *m, const double *q, int j,
+                                        double *const *rows)
 {
     const tg_geometry *g = m->geom;
-    const int nl = m->nl, a0 = g->a0, a1 = g->a1;
-    const long npl = m->npl, r0 = (long)j * g->ns;
-    const double by = m->beta_y[r0 + a0]; /* the same on the whole row */
+    const int nl = m->nl, a0 = g->a0, n = g->a1 - g->a0;
+    const long npl = m->npl, r0 = (long)j * g->ns + a0;
+    const double by = m->beta_y[r0]; /* the same on the whole row */
     for (int md = 0; md < nl; md++) {
-        double *r = m->phi + md * npl + r0;
+        double *restrict r = rows[md];
         const double *q0 = q + r0, p0 = m->modes.Pinv[md][0];
+        int k = 1;
+        if (nl > 1) {
+            const double *q1 = q + npl + r0, p1 = m->modes.Pinv[md][1];
 #pragma omp simd
-        for (int i = a0; i < a1; i++)
-            r[i] = p0 * (q0[i] - by);
-        for (int k = 1; k < nl; k++) {
+            for (int i = 0; i < n; i++)
+                r[i] = p0 * (q0[i] - by) + p1 * (q1[i] - by);
+            k = 2;
+        } else {
+#pragma omp simd
+            for (int i = 0; i < n; i++)
+                r[i] = p0 * (q0[i] - by);
+        }
+        for (; k + 1 < nl; k += 2) {
+            const double pk = m->modes.Pinv[md][k], pl = m->modes.Pinv[md][k + 1];
+            const double *qk = q + k * npl + r0, *ql = qk + npl;
+#pragma omp simd
+            for (int i = 0; i < n; i++)
+                r[i] = (r[i] + pk * (qk[i] - by)) + pl * (ql[i] - by);
+        }
+        if (k < nl) {
             const double pk = m->modes.Pinv[md][k];
             const double *qk = q + k * npl + r0;
 #pragma omp simd
-            for (int i = a0; i < a1; i++)
+            for (int i = 0; i < n; i++)
                 r[i] += pk * (qk[i] - by);
         }
     }
+}
+
+void tg_model_project_row(tg_model *m, const double *q, int j)
+{
+    double *rows[TG_MAX_LAYERS];
+    const long r0 = (long)j * m->geom->ns + m->geom->a0;
+    for (int md = 0; md < m->nl; md++)
+        rows[md] = m->phi + md * m->npl + r0;
+    project_rows(m, q, j, rows);
 }
 
 /* One mode's share of a row of psi_k: o (=, or += unless first) pk * phi_m,
@@ -232,44 +262,143 @@ static inline void add_mode_row(double *restrict o, const double *f, const doubl
 
 /* Relative vorticity on the active nodes of stored row j from the inverted
  * relation zeta_k = lap psi_k = q_k - beta (y - y0) - (S psi)_k, which the
- * Helmholtz solves satisfy to round-off (one pass instead of a stencil). */
-static void vorticity_row(tg_model *m, int j)
+ * Helmholtz solves satisfy to round-off (one pass instead of a stencil).
+ * The layers with S[k][kk] != 0 are subtracted in order, two per loop over
+ * the row (the first with q_k - beta (y - y0)), so the row is written once
+ * or twice instead of once per layer; the arithmetic is the same. Compiled
+ * for AVX2 too (simdclone.h; the same bits): layers_row's AVX2 copy calls it,
+ * and AVX2 code must not hand over to SSE2 code without clearing the upper
+ * halves of the vector registers, which a tail call may skip. */
+TG_SIMD_CLONES static void vorticity_row(tg_model *m, int j)
 {
     const tg_geometry *g = m->geom;
     const int nl = m->nl, a0 = g->a0, a1 = g->a1;
     const long npl = m->npl, r0 = (long)j * g->ns;
     const double by = m->beta_y[r0 + a0]; /* the same on the whole row */
     for (int k = 0; k < nl; k++) {
-        double *z = m->zeta + k * npl + r0;
+        double s[TG_MAX_LAYERS];
+        const double *p[TG_MAX_LAYERS];
+        int n = 0;
+        for (int kk = 0; kk < nl; kk++)
+            if (m->modes.S[k][kk] != 0.0) {
+                s[n] = m->modes.S[k][kk];
+                p[n++] = m->psi + kk * npl + r0;
+            }
+        double *restrict z = m->zeta + k * npl + r0;
         const double *qk = m->q + k * npl + r0;
-#pragma omp simd
-        for (int i = a0; i < a1; i++)
-            z[i] = qk[i] - by;
-        for (int kk = 0; kk < nl; kk++) {
-            const double s = m->modes.S[k][kk];
-            if (s == 0.0)
-                continue;
-            const double *pk = m->psi + kk * npl + r0;
+        int t = 0;
+        if (n == 0) {
 #pragma omp simd
             for (int i = a0; i < a1; i++)
-                z[i] -= s * pk[i];
+                z[i] = qk[i] - by;
+        } else if (n == 1) {
+            const double s0 = s[0], *p0 = p[0];
+#pragma omp simd
+            for (int i = a0; i < a1; i++)
+                z[i] = (qk[i] - by) - s0 * p0[i];
+            t = 1;
+        } else {
+            const double s0 = s[0], s1 = s[1], *p0 = p[0], *p1 = p[1];
+#pragma omp simd
+            for (int i = a0; i < a1; i++)
+                z[i] = ((qk[i] - by) - s0 * p0[i]) - s1 * p1[i];
+            t = 2;
+        }
+        for (; t < n; t += 2) {
+            const double s0 = s[t], *p0 = p[t];
+            if (t + 1 < n) {
+                const double s1 = s[t + 1], *p1 = p[t + 1];
+#pragma omp simd
+                for (int i = a0; i < a1; i++)
+                    z[i] = (z[i] - s0 * p0[i]) - s1 * p1[i];
+            } else {
+#pragma omp simd
+                for (int i = a0; i < a1; i++)
+                    z[i] -= s0 * p0[i];
+            }
         }
     }
 }
 
-/* ops->solve_modes_rows: mode md's share of psi_k = sum_m P[k][m] phi_m on
- * the active nodes of row j (the same sum, in the same order, as the pass
- * of tg_model_invert), and after the last mode the row's vorticity. */
-static void layers_row(void *ctx, int md, int j, const double *phi)
+/* ops->solve_modes_rows: the modal right-hand sides of row j from m->q. */
+static void modes_fill(void *ctx, int j, double *const *rhs)
+{
+    const tg_model *m = ctx;
+    project_rows(m, m->q, j, rhs);
+}
+
+/* Two layers' rows of psi = sum_m p[m] phi_m over n values, for the
+ * weights pa (into oa) and pb (into ob): the modes added in order, the
+ * first two in one expression. */
+static inline void layer_pair_row(double *restrict oa, double *restrict ob,
+                                  const double *const *phi, const double *pa,
+                                  const double *pb, int nmodes, int n)
+{
+    const double *f0 = phi[0], a0 = pa[0], b0 = pb[0];
+    if (nmodes > 1) {
+        const double *f1 = phi[1], a1 = pa[1], b1 = pb[1];
+#pragma omp simd
+        for (int i = 0; i < n; i++) {
+            oa[i] = a0 * f0[i] + a1 * f1[i];
+            ob[i] = b0 * f0[i] + b1 * f1[i];
+        }
+    } else {
+#pragma omp simd
+        for (int i = 0; i < n; i++) {
+            oa[i] = a0 * f0[i];
+            ob[i] = b0 * f0[i];
+        }
+    }
+    for (int md = 2; md < nmodes; md++) {
+        const double *f = phi[md], am = pa[md], bm = pb[md];
+#pragma omp simd
+        for (int i = 0; i < n; i++) {
+            oa[i] += am * f[i];
+            ob[i] += bm * f[i];
+        }
+    }
+}
+
+/* One layer's row of psi = sum_m p[m] phi_m (layer_pair_row's arithmetic). */
+static inline void layer_row(double *restrict o, const double *const *phi, const double *p,
+                             int nmodes, int n)
+{
+    const double *f0 = phi[0], p0 = p[0];
+    if (nmodes > 1) {
+        const double *f1 = phi[1], p1 = p[1];
+#pragma omp simd
+        for (int i = 0; i < n; i++)
+            o[i] = p0 * f0[i] + p1 * f1[i];
+    } else {
+#pragma omp simd
+        for (int i = 0; i < n; i++)
+            o[i] = p0 * f0[i];
+    }
+    for (int md = 2; md < nmodes; md++) {
+        const double *f = phi[md], pm = p[md];
+#pragma omp simd
+        for (int i = 0; i < n; i++)
+            o[i] += pm * f[i];
+    }
+}
+
+/* ops->solve_modes_rows: psi_k = sum_m P[k][m] phi_m on the active nodes of
+ * row j (the sum, in the same order, of the pass of tg_model_invert; two
+ * layers per loop), then the row's vorticity. Compiled for AVX2 too
+ * (simdclone.h; the same bits). */
+TG_SIMD_CLONES static void layers_row(void *ctx, int j, const double *const *phi)
 {
     tg_model *m = ctx;
     const tg_geometry *g = m->geom;
+    const int nl = m->nl, n = g->a1 - g->a0;
     const long r0 = (long)j * g->ns + g->a0;
-    for (int k = 0; k < m->nl; k++)
-        add_mode_row(m->psi + k * m->npl + r0, phi, NULL, 0.0, m->modes.P[k][md], md == 0,
-                     g->a1 - g->a0);
-    if (md == m->nl - 1)
-        vorticity_row(m, j);
+    int k = 0;
+    for (; k + 1 < nl; k += 2)
+        layer_pair_row(m->psi + k * m->npl + r0, m->psi + (k + 1) * m->npl + r0, phi,
+                       m->modes.P[k], m->modes.P[k + 1], nl, n);
+    if (k < nl)
+        layer_row(m->psi + k * m->npl + r0, phi, m->modes.P[k], nl, n);
+    vorticity_row(m, j);
 }
 
 void tg_model_invert(tg_model *m)
@@ -281,10 +410,11 @@ void tg_model_invert(tg_model *m)
     const double *homog[TG_MAX_LAYERS];
 
     if (g->ops->solve_modes_rows) {
-        /* The solves hand each row of each mode to layers_row: psi and
-         * zeta of the active nodes without storing the modes; the rings
-         * follow below. */
-        g->ops->solve_modes_rows(g, nl, m->phi, npl, layers_row, m);
+        /* The solves take each row's right-hand sides from m->q
+         * (modes_fill) and hand each row of every mode to layers_row: psi
+         * and zeta of the active nodes without storing the modes; the
+         * rings follow below. */
+        g->ops->solve_modes_rows(g, nl, modes_fill, layers_row, m);
         for (int md = 0; md < nl; md++)
             cwall[md] = 0.0;
     } else {
@@ -341,9 +471,11 @@ void tg_model_invert(tg_model *m)
 void tg_model_derive(tg_model *m)
 {
     const tg_geometry *g = m->geom;
+    if (!tg_model_projects_in_invert(m)) {
 #pragma omp parallel for schedule(static)
-    for (int j = g->a0; j < g->a1; j++)
-        tg_model_project_row(m, m->q, j);
+        for (int j = g->a0; j < g->a1; j++)
+            tg_model_project_row(m, m->q, j);
+    }
     tg_model_invert(m);
 }
 

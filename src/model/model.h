@@ -86,8 +86,9 @@ typedef struct tg_model {
     /* Work arrays, made once. */
     double *phi;            /* nl*npl: modal right-hand sides, then the particular
                                solutions of the Helmholtz solves (tg_model_invert;
-                               the right-hand sides stay where the geometry hands
-                               the solutions over row by row, ops->solve_modes_rows) */
+                               unused where the geometry takes the right-hand sides
+                               and hands the solutions over row by row,
+                               ops->solve_modes_rows) */
     double *lap1;           /* npl, biharmonic viscosity scratch */
     double *lap2;           /* nl*npl, Laplacian of the Laplacian of zeta (biharmonic) */
     double *tend;           /* nl*npl total tendency (tg_model_tendency) */
@@ -141,16 +142,24 @@ tg_code tg_model_tendency(tg_model *m, int stage, tg_term_rates *rates, tg_statu
  * tg_model_stage_update writes the next stage into m->qnext on the active
  * nodes,
  *   qnext = a q0 + b (q + dt L(q)),    L = the total tendency of m->q,
- * and the modal right-hand sides of qnext into m->phi; *rates as for
- * tg_model_tendency. Without closures this is one pass over the grid; with
- * closures it is tg_model_tendency and then a pass for the update.
- * tg_model_invert then finishes the PV inversion of m->q from those
- * right-hand sides (the caller has made qnext the current m->q):
- * tg_model_derive is tg_model_project followed by tg_model_invert. */
+ * and, unless tg_model_projects_in_invert, the modal right-hand sides of
+ * qnext into m->phi; *rates as for tg_model_tendency. Without closures this
+ * is one pass over the grid; with closures it is tg_model_tendency and then
+ * a pass for the update. tg_model_invert then finishes the PV inversion of
+ * m->q (the caller has made qnext the current m->q): tg_model_derive is
+ * the projection (when needed) followed by tg_model_invert. */
 tg_code tg_model_stage_update(tg_model *m, int stage, const double *q0, double a, double b,
                               tg_term_rates *rates, tg_status *st);
 void tg_model_project_row(tg_model *m, const double *q, int j);
 void tg_model_invert(tg_model *m);
+
+/* Whether tg_model_invert forms the modal right-hand sides from m->q
+ * itself, row by row inside the geometry's fused solves
+ * (ops->solve_modes_rows): then nothing needs to fill m->phi first. */
+static inline int tg_model_projects_in_invert(const tg_model *m)
+{
+    return m->geom->ops->solve_modes_rows != NULL;
+}
 
 /* Diagnostics of the current state. */
 double tg_model_energy(tg_model *m);                     /* m2 s-2 */

@@ -19,6 +19,7 @@
 
 #include "fdops.h"
 #include "model.h"
+#include "simdclone.h"
 
 /* The built-in terms:
  *   advection      -J(psi_k, q_k)                      Arakawa (1966)
@@ -96,8 +97,9 @@ static inline double *rowsum_slot(tg_model *m, int k, int s, int j)
  * budget sums into m->rowsums. v is a scratch row of ns values. The stencils
  * are fdops.h's point kernels. The terms are added in the order of the
  * list above, each term present in a short loop of its own over the row (a
- * loop with every term and ten sums at once runs out of registers). */
-static void tendency_row(tg_model *m, const layer_terms *lt, int k, int j, double *restrict o,
+ * loop with every term and ten sums at once runs out of registers). Compiled
+ * for AVX2 too (simdclone.h): there the row's sums differ at round-off. */
+TG_SIMD_CLONES static void tendency_row(tg_model *m, const layer_terms *lt, int k, int j, double *restrict o,
                          double *restrict v)
 {
     const tg_geometry *g = m->geom;
@@ -180,24 +182,24 @@ static void tendency_row(tg_model *m, const layer_terms *lt, int k, int j, doubl
         sums[2 * F_DRAG + 1] = z;
     }
 
-    /* Viscosity: o += v. */
-#pragma omp simd
-    for (int i = a0; i < a1; i++)
-        o[i] += v[i];
-
-    /* Mean flow: o += -U dq/dx - Qy dpsi/dx. */
+    /* Viscosity: o += v, then mean flow: o += -U dq/dx - Qy dpsi/dx, in
+     * one loop when the mean flow is present. */
     if (t->present[F_MEAN]) {
         const double cu = t->cu, cq = t->cq;
         double e = 0.0, z = 0.0;
 #pragma omp simd reduction(+ : e, z)
         for (int i = a0; i < a1; i++) {
             const double vm = cu * tg_ddx2_at(qc, i) + cq * tg_ddx2_at(pc, i);
-            o[i] += vm;
+            o[i] = (o[i] + v[i]) + vm;
             e += vm * (pc[i] - wall);
             z += vm * qc[i];
         }
         sums[2 * F_MEAN] = e;
         sums[2 * F_MEAN + 1] = z;
+    } else {
+#pragma omp simd
+        for (int i = a0; i < a1; i++)
+            o[i] += v[i];
     }
     for (int s = 0; s < 2 * F_N; s++)
         *rowsum_slot(m, k, s, j) = sums[s];
@@ -288,8 +290,9 @@ tg_code tg_model_tendency(tg_model *m, int stage, tg_term_rates *rates, tg_statu
     return TG_OK;
 }
 
-/* The Runge-Kutta update of one row: qn = a q0 + b (q + dt t) on [a0, a1). */
-static inline void rk_row(double *restrict qn, const double *q0, const double *q,
+/* The Runge-Kutta update of one row: qn = a q0 + b (q + dt t) on [a0, a1)
+ * (compiled for AVX2 too: the same bits). */
+TG_SIMD_CLONES static void rk_row(double *restrict qn, const double *q0, const double *q,
                           const double *t, double a, double b, double dt, int a0, int a1)
 {
 #pragma omp simd
@@ -305,6 +308,8 @@ tg_code tg_model_stage_update(tg_model *m, int stage, const double *q0, double a
     const long npl = m->npl;
     const double dt = m->dt;
     double *qn = m->qnext;
+    /* The modal right-hand sides, unless the inversion forms them itself. */
+    const int project = !tg_model_projects_in_invert(m);
 
     if (tg_closure_host_count(m->closures) > 0) {
         /* Closures: the whole tendency first (closures need the state of
@@ -320,7 +325,8 @@ tg_code tg_model_stage_update(tg_model *m, int stage, const double *q0, double a
                 const long o = k * npl + r0;
                 rk_row(qn + o, q0 + o, m->q + o, m->tend + o, a, b, dt, a0, a1);
             }
-            tg_model_project_row(m, qn, j);
+            if (project)
+                tg_model_project_row(m, qn, j);
         }
         return TG_OK;
     }
@@ -328,9 +334,10 @@ tg_code tg_model_stage_update(tg_model *m, int stage, const double *q0, double a
     /* No closures: one pass over the rows. For each row and layer, the
      * built-in tendency goes to this thread's row of m->rowwork (it never
      * exists as a whole field), q is updated from it, and the row's budget
-     * sums are kept; then the row of every mode's right-hand side is formed
-     * from the new q. The row reads rows j-1..j+1 of the current q, psi and
-     * zeta and writes only qnext and phi, so rows are independent. */
+     * sums are kept; then, unless the inversion forms them itself, the row
+     * of every mode's right-hand side is formed from the new q. The row
+     * reads rows j-1..j+1 of the current q, psi and zeta and writes only
+     * qnext and phi, so rows are independent. */
     if (rates)
         memset(rates, 0, sizeof *rates);
     layer_terms lt[TG_MAX_LAYERS];
@@ -346,7 +353,8 @@ tg_code tg_model_stage_update(tg_model *m, int stage, const double *q0, double a
                 tendency_row(m, lt, k, j, trow, v);
                 rk_row(qn + o, q0 + o, m->q + o, trow, a, b, dt, a0, a1);
             }
-            tg_model_project_row(m, qn, j);
+            if (project)
+                tg_model_project_row(m, qn, j);
         }
     }
     if (rates)

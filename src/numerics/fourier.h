@@ -79,16 +79,29 @@ void tg_fft2_inverse(tg_fft2 *f, const double *spec, double *out, int stride);
 void tg_fft2_apply(tg_fft2 *f, int nfields, double *const *fields, int stride,
                    const double *const *factors);
 
-/* Receives row j (0..P-1) of field n's result: row[i], i = 0..P-1. */
-typedef void (*tg_fft2_rows_fn)(void *ctx, int n, int j, const double *row);
+/* Most fields of one tg_fft2_apply_fused. */
+#define TG_FFT2_MAX_FIELDS 8
 
-/* tg_fft2_apply without storing the results: fields[n] are left as they
- * are, and each row of each result (bit for bit that of tg_fft2_apply) is
- * handed to fn(ctx, n, j, row) while it is in cache, inside one parallel
- * region: field after field (every row of field n before any of n + 1),
- * rows shared among the threads in fixed blocks, so fn must write only what
- * belongs to row j. */
-void tg_fft2_apply_rows(tg_fft2 *f, int nfields, const double *const *fields, int stride,
-                        const double *const *factors, tg_fft2_rows_fn fn, void *ctx);
+/* Makes the work arrays and row buffers for tg_fft2_apply_fused of up to
+ * nfields fields (1..TG_FFT2_MAX_FIELDS): (nfields - 1) more spectra of
+ * 2 (P/2 + 1) (P + 4) doubles. Call it before stepping; it allocates only when
+ * nfields is more than before. */
+tg_code tg_fft2_reserve(tg_fft2 *f, int nfields, tg_status *st);
+
+/* Writes row j (0..P-1) of every field: rows[n][i], i = 0..P-1. */
+typedef void (*tg_fft2_fill_fn)(void *ctx, int j, double *const *rows);
+
+/* Receives row j (0..P-1) of every field's result: rows[n][i], i = 0..P-1. */
+typedef void (*tg_fft2_take_fn)(void *ctx, int j, const double *const *rows);
+
+/* tg_fft2_apply of nfields fields (at most those of tg_fft2_reserve) that
+ * are never stored: fill(ctx, j, rows) writes row j of every field, and
+ * take(ctx, j, rows) receives row j of every result, bit for bit that of
+ * tg_fft2_apply, while it is in cache. Each is called once per row, inside
+ * one parallel region whose threads share the rows in fixed blocks, so fill
+ * and take must write only what belongs to row j; every fill comes before
+ * any take. */
+void tg_fft2_apply_fused(tg_fft2 *f, int nfields, tg_fft2_fill_fn fill,
+                         const double *const *factors, tg_fft2_take_fn take, void *ctx);
 
 #endif

@@ -211,28 +211,44 @@ START_TEST(fft_threads_bitwise)
 }
 END_TEST
 
-/* tg_fft2_apply_rows receiver: copies row j of field n into out (row
- * length `stride`, fields nr apart) and counts the calls of each row. */
+/* tg_fft2_apply_fused's two ends for two fields: fill copies row j of each
+ * field from in, take copies row j of each result into out (row length
+ * `stride`, fields nr apart); each counts its calls of each row. */
 typedef struct {
+    const double *in;
     double *out;
-    int *calls;
+    int *fills, *takes;
     int P, stride;
     size_t nr;
-} row_sink;
+} row_ends;
 
-static void sink_row(void *ctx, int n, int j, const double *row)
+static void fill_rows(void *ctx, int j, double *const *rows)
 {
-    row_sink *s = ctx;
-    memcpy(s->out + n * s->nr + (size_t)j * s->stride, row, sizeof(double) * s->P);
+    row_ends *s = ctx;
+    for (int n = 0; n < 2; n++)
+        memcpy(rows[n], s->in + n * s->nr + (size_t)j * s->stride, sizeof(double) * s->P);
 #pragma omp atomic
-    s->calls[n * s->P + j]++;
+    s->fills[j]++;
+}
+
+static void take_rows(void *ctx, int j, const double *const *rows)
+{
+    row_ends *s = ctx;
+    /* every row filled before any is taken */
+    for (int jj = 0; jj < s->P; jj++)
+        ck_assert_int_eq(s->fills[jj], 1);
+    for (int n = 0; n < 2; n++)
+        memcpy(s->out + n * s->nr + (size_t)j * s->stride, rows[n], sizeof(double) * s->P);
+#pragma omp atomic
+    s->takes[j]++;
 }
 
 /* tg_fft2_apply on two fields equals, bit for bit, forward transform,
  * multiplication of each (re, im) by the factor and inverse transform,
- * with 1 and 2 threads; it writes only the P x P blocks. tg_fft2_apply_rows
- * hands over the same rows, each once, and leaves its input alone. Source:
- * the contract of fourier.h (the fused pass does the same arithmetic). */
+ * with 1 and 2 threads; it writes only the P x P blocks. tg_fft2_apply_fused
+ * takes each row once, before it hands any over, and hands over the same
+ * rows, each once. Source: the contract of fourier.h (the fused pass does
+ * the same arithmetic). */
 START_TEST(fft_apply_bitwise)
 {
     const int P = thread_sizes[_i], stride = P + 3, nc = P / 2 + 1;
@@ -270,25 +286,28 @@ START_TEST(fft_apply_bitwise)
         ck_assert_msg(memcmp(got[t], want, 2 * nr * sizeof(double)) == 0,
                       "P = %d, %d thread(s): apply differs from forward, product, inverse", P,
                       t + 1);
-        /* the same through rows: the P x P blocks of want, input untouched */
-        int *calls = calloc(2 * (size_t)P, sizeof(int));
-        ck_assert_ptr_nonnull(calls);
-        memcpy(got[t], in, 2 * nr * sizeof(double));
-        row_sink sink = {alloc0(2 * nr), calls, P, stride, nr};
-        const double *cfields[2] = {in, in + nr};
-        tg_fft2_apply_rows(f, 2, cfields, stride, factors, sink_row, &sink);
-        for (int n = 0; n < 2; n++)
-            for (int j = 0; j < P; j++) {
-                ck_assert_msg(calls[n * P + j] == 1, "P = %d, %d thread(s): row %d of field "
-                              "%d handed over %d times", P, t + 1, j, n, calls[n * P + j]);
+        /* the same through rows: the P x P blocks of want */
+        int *fills = calloc(2 * (size_t)P, sizeof(int)), *takes = fills + P;
+        ck_assert_ptr_nonnull(fills);
+        row_ends ends = {in, alloc0(2 * nr), fills, takes, P, stride, nr};
+        tg_status st;
+        ck_assert_int_eq(tg_fft2_reserve(f, 2, &st), TG_OK);
+        ck_assert_int_eq(tg_fft2_reserve(f, TG_FFT2_MAX_FIELDS + 1, &st), TG_ERR_INTERNAL);
+        ck_assert_ptr_nonnull(strstr(st.msg, "fields for one pass"));
+        tg_fft2_apply_fused(f, 2, fill_rows, factors, take_rows, &ends);
+        for (int j = 0; j < P; j++) {
+            ck_assert_msg(fills[j] == 1 && takes[j] == 1, "P = %d, %d thread(s): row %d "
+                          "filled %d times, handed over %d times", P, t + 1, j, fills[j],
+                          takes[j]);
+            for (int n = 0; n < 2; n++) {
                 const size_t o = n * nr + (size_t)j * stride;
-                ck_assert_msg(memcmp(sink.out + o, want + o, sizeof(double) * P) == 0,
+                ck_assert_msg(memcmp(ends.out + o, want + o, sizeof(double) * P) == 0,
                               "P = %d, %d thread(s): row %d of field %d differs from apply",
                               P, t + 1, j, n);
             }
-        ck_assert_msg(memcmp(got[t], in, 2 * nr * sizeof(double)) == 0, "input changed");
-        free(sink.out);
-        free(calls);
+        }
+        free(ends.out);
+        free(fills);
     }
     omp_set_num_threads(saved);
     free(in);
