@@ -47,6 +47,7 @@
  */
 #include <dlfcn.h>
 #include <errno.h>
+#include <float.h>
 #include <math.h>
 #include <omp.h>
 #include <stdio.h>
@@ -96,7 +97,7 @@ typedef struct {
     int nl, ns, a0, a1;
     long npl;
     double dx, mult;
-    int flux, remove_mean, every_stage;
+    int flux, remove_mean, every_stage, double_precision;
     int nfield, field[F_N];
     char path[4096];
     double *in;      /* nfield * nl * npl */
@@ -338,6 +339,7 @@ static tg_code net_create(const tg_closure_setup *s, void **state, tg_status *st
         net_destroy(n);
         return rc;
     }
+    n->double_precision = info.double_precision;
     tg_code rc = setup_io(n, s, &info, st);
     if (rc != TG_OK) {
         net_destroy(n);
@@ -395,6 +397,14 @@ static void flux_divergence(const net_state *n, double *tend)
             const double south = w[c - ns] * w[c] * (fy[c - ns] + fy[c]);
             tend[c] = -h * ((east - west) + (north - south));
         }
+}
+
+/* The rounding of the network's arithmetic (vet's linear check sizes its
+ * finite differences by it). */
+static double net_precision(void *state)
+{
+    const net_state *n = state;
+    return n->double_precision ? DBL_EPSILON : FLT_EPSILON;
 }
 
 static tg_code net_tendency(void *state, const tg_closure_view *v, double *tend, tg_status *st)
@@ -486,4 +496,5 @@ const tg_closure_ops tg_scheme_network = {
     .create = net_create,
     .tendency = net_tendency,
     .destroy = net_destroy,
+    .precision = net_precision,
 };
