@@ -16,7 +16,7 @@
 //
 // Speed: once its normalization is read, the module is frozen and optimized
 // for inference at load time (torch::jit::optimize_for_inference: weights
-// folded in as constants, convolution and ReLU fused, the convolutions run
+// folded in as constants, the convolutions run
 // by oneDNN where libtorch has it), which halves the cost of a call of the
 // demo's network at 65 points (README, "Speed"). glibc is asked to keep
 // freed blocks in the heap (tg_net_open), because libtorch allocates every
