@@ -16,9 +16,13 @@
 //
 // Speed: once its normalization is read, the module is frozen and optimized
 // for inference at load time (torch::jit::optimize_for_inference: weights
-// folded in as constants, convolution and ReLU fused, the convolutions run
+// folded in as constants, the convolutions run
 // by oneDNN where libtorch has it), which halves the cost of a call of the
-// demo's network at 65 points (README, "Speed").
+// demo's network at 65 points (README, "Speed"). glibc is asked to keep
+// freed blocks in the heap (tg_net_open), because libtorch allocates every
+// intermediate tensor afresh at each call and returning those blocks to
+// the system made each call fault its pages in again: that took 40 % of a
+// call at 65 points. What is left is the convolutions' arithmetic.
 //
 // Reproducibility: the graph executor's own optimizations are switched off
 // (setGraphExecutorOptimize(false)) after that, because the profiling
@@ -41,6 +45,9 @@
 
 #include <cstdio>
 #include <cstring>
+#ifdef __GLIBC__
+#include <malloc.h>
+#endif
 #include <exception>
 #include <string>
 #include <vector>
@@ -134,6 +141,17 @@ extern "C" tg_net *tg_net_open(const char *path, int threads, int deterministic,
                                tg_net_info *info, char *err, size_t nerr)
 {
     tg_net *net = nullptr;
+#ifdef __GLIBC__
+    // libtorch allocates each intermediate tensor afresh at every call
+    // (0.3 MB per hidden layer of the demo's network at 65 points); with
+    // glibc's default thresholds those blocks were mapped and unmapped, or
+    // trimmed off the heap, at every call, and the page faults of zeroing
+    // them again cost as much as the convolutions. Keeping freed blocks in
+    // the heap makes later calls reuse them (README, "Speed").
+    // A refusal (0) leaves glibc's defaults: slower, not wrong.
+    const int kept = mallopt(M_MMAP_THRESHOLD, 32 << 20) && mallopt(M_TRIM_THRESHOLD, 64 << 20);
+    (void)kept;
+#endif
     try {
         if (threads > 0) {
             at::set_num_threads(threads);

@@ -9,12 +9,20 @@
  * run. The state vector is q on the active nodes of every layer. Its
  * Jacobian acts on v by the central difference
  *     J v ~ [T(q0 + e v) - T(q0 - e v)] / (2 e),
- *     e = sqrt(eps_mach) * max(rms(q0 - mean), 1e-2 |f0|) / rms(v),
+ *     e = sqrt(eps) * max(rms(q0 - mean), 1e-2 |f0|) / rms(v),
  * the Jacobian-free perturbation of Knoll & Keyes 2004 (J. Comput. Phys.
  * 193, 357-397, section 2.2; the form with a typical size of the state
  * instead of 1 + |u| is ours, because q is dimensional, s-1; the floor
  * 1e-2 |f0| is the vorticity of a Rossby number of 0.01, for a state at
- * rest with zero PV). For a linear closure the difference is exact up to
+ * rest with zero PV). eps is the relative rounding error of the tendency:
+ * DBL_EPSILON, or the largest a component declares (closure.h, precision;
+ * FLT_EPSILON for a network evaluated in single precision), since the
+ * step must stay well above the function's own rounding (Knoll & Keyes
+ * 2004, section 2.2, take the square root of the relative error in the
+ * function's evaluation; from memory): with DBL_EPSILON a single-precision
+ * network's differences were rounding noise, and its growth rate around the
+ * demo's reference state read 0.022 day-1 where the same network in double
+ * precision gave 0.0016. For a linear closure the difference is exact up to
  * round-off. Stochastic components are evaluated with the noise frozen: the
  * two evaluations use the same step and stage and no per-step hook runs
  * between them, so the difference sees only the state dependence.
@@ -213,7 +221,7 @@ static double perturbation_size(const tg_model *m, const double *q0, long n)
     const double rms = sqrt(fmax(s2 / n - mean * mean, 0.0));
     const double floor = 1e-2 * fabs(m->cfg.coriolis_f0_per_s);
     /* v has unit 2-norm: rms(v) = 1 / sqrt(n). */
-    return sqrt(DBL_EPSILON) * fmax(rms, floor) * sqrt((double)n);
+    return sqrt(tg_closure_host_precision(m->closures)) * fmax(rms, floor) * sqrt((double)n);
 }
 
 /* The start vector v0 (n values): Philox normal numbers, normalized. */

@@ -32,10 +32,11 @@
 #include "status.h"
 
 /* Bumped when this header changes; plugins are checked against it. Version
- * 2 added stable_step at the end of tg_closure_ops; a plugin built for
- * version 1 still loads and has no stable_step (closure_host.c never reads
- * past the end of its ops). */
-#define TG_CLOSURE_ABI 2
+ * 2 added stable_step at the end of tg_closure_ops, version 3 precision
+ * after it; a plugin built for an older version still loads and has
+ * neither member it lacks (closure_host.c never reads past the end of its
+ * ops). */
+#define TG_CLOSURE_ABI 3
 
 /* The stability bound of the explicit SSP-RK3 step on the negative real
  * axis, |lambda| dt <= 2.51 (Shu & Osher 1988; the root of
@@ -172,6 +173,12 @@ typedef struct tg_closure_ops {
      * largest_step_s and the max_cfl check bound the step (README,
      * "Adaptive steps"). */
     double (*stable_step)(void *state, const tg_closure_view *v);
+    /* Optional (ABI 3): the relative rounding error of the scheme's
+     * tendency, e.g. FLT_EPSILON for one computed in single precision.
+     * `twingyre vet` sizes the finite differences of its linear check by
+     * its square root (vet_linear.c). A scheme without it computes in
+     * double precision (DBL_EPSILON). */
+    double (*precision)(void *state);
 } tg_closure_ops;
 
 /* The registry (closures/registry.c). */

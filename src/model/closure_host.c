@@ -2,6 +2,7 @@
 #include "closure_host.h"
 
 #include <dlfcn.h>
+#include <float.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdio.h>
@@ -651,6 +652,18 @@ void tg_closure_host_set_step(tg_closure_host *h, double dt)
 {
     if (h)
         h->dt = dt;
+}
+
+double tg_closure_host_precision(const tg_closure_host *h)
+{
+    double e = DBL_EPSILON;
+    for (int c = 0; h && c < h->n; c++) {
+        const tg_closure_ops *o = h->spec.c[c].ops;
+        /* A plugin built for interface version 1 or 2 has no precision member. */
+        if (o->abi >= 3 && o->precision)
+            e = fmax(e, o->precision(h->state[c]));
+    }
+    return e;
 }
 
 /* A plugin built for interface version 1 has no stable_step member. */

@@ -97,6 +97,10 @@ void tg_closure_host_set_step(tg_closure_host *h, double dt);
 double tg_closure_host_stable_step(tg_closure_host *h, const tg_closure_input *in,
                                    double *rate_sum, int *which);
 
+/* The largest relative rounding error of the components' tendencies
+ * (closure.h, precision); DBL_EPSILON when none declares one. */
+double tg_closure_host_precision(const tg_closure_host *h);
+
 /* Checkpoint support: component c's own state (0 doubles when it has none). */
 size_t tg_closure_host_state_size(const tg_closure_host *h, int c);
 void tg_closure_host_state_save(const tg_closure_host *h, int c, double *buf);

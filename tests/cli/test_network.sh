@@ -26,9 +26,12 @@
 #     network file there exits 2 before the reference runs); its vet at the
 #     twin's coarse resolution, with vet's default 30-day window, passes every
 #     check, the linear check around the reference state included (the
-#     network trained with train-network's default weight decay, AdamW:
-#     Loshchilov & Hutter 2019, ICLR; the same twin's network trained with
-#     --decay 0 fails that check, e-folding in about 65 days).
+#     network trained with train-network's defaults, its stability penalty
+#     on); the same training with --stability 0 ends with a larger linear
+#     energy production (train-network's estimate) and a larger growth rate
+#     in vet's linear check; vet's linear check gives the same growth rates
+#     for a float32 network and its float64 copy (its finite differences
+#     follow the closure's declared precision).
 # Skips (77) in a build without libtorch unless TG_REQUIRE_TORCH=1.
 #
 # Environment: TWINGYRE, TG_SRCDIR, PYTHON, TG_TEST_TMPDIR, TG_TORCH_BUILT.
@@ -234,5 +237,59 @@ if [ "$rc" -eq 0 ] && py vetall.py vet_small/vet.json; then
 else
     notok "vet of the trained network at the coarse resolution: every check passes" \
         "$(err_tail)" "$(cat py)" "$(grep -E 'FAIL|verdict' out)"
+fi
+# vet's finite differences follow the network's precision: the same weights
+# in float64 give the same linear growth rates (within 5 % of vet's limit)
+# as the float32 file. The step is the square root of the tendency's
+# relative rounding error (Knoll & Keyes 2004, J. Comput. Phys. 193,
+# 357-397, section 2.2, from memory); with double precision's step the
+# float32 differences are rounding noise.
+"$PYTHON" -c 'import sys, torch
+torch.jit.load(sys.argv[1]).double().save(sys.argv[2])' small.pt small64.pt >py 2>&1 ||
+    notok "a float64 copy of the trained network" "$(cat py)"
+tg vet coarse.ini --out vet_small64 --set closure.use=network \
+    --set "network.file=$T/small64.pt" --set "vet.reference_state=$T/tw/coarse_start.nc" \
+    --set vet.step_factors=1 --set vet.multipliers=1,2 --set vet.finer_grid=no
+cat >prec.py <<'PY'
+import json, sys
+a, b = (json.load(open(f)) for f in sys.argv[1:3])
+lim = [c["limit"] for c in a["checks"] if c["name"] == "linear_growth_reference"][0]
+for w in ("rest", "reference"):
+    x, y = (d["linear"][w]["growth_rate_per_day"] for d in (a, b))
+    assert abs(x - y) <= 0.05 * lim, "%s: float32 %.3g, float64 %.3g day-1" % (w, x, y)
+    print("%s %.2e/%.2e" % (w, x, y), end="; ")
+PY
+if [ "$rc" -le 9 ] && py prec.py vet_small/vet.json vet_small64/vet.json; then
+    ok "vet's linear check: float32 and float64 copies agree ($(cat py))"
+else
+    notok "vet's linear check: float32 and float64 copies agree" "$(err_tail)" "$(cat py)"
+fi
+# The stability penalty does something: the same training without it
+# (--stability 0) leaves a larger linear energy production (train-network's
+# own estimate, the numerical-range bound of Trefethen & Embree 2005,
+# Spectra and Pseudospectra, chapter 17, from memory) and a larger growth
+# rate around the reference state in vet's linear check.
+"$PYTHON" "$TRAIN" tw/subgrid.nc --out small0.pt --epochs 200 --train 0:14 --test 15:20 \
+    --stability 0 >train0.out 2>&1
+trc=$?
+tg vet coarse.ini --out vet_small0 --set closure.use=network --set "network.file=$T/small0.pt" \
+    --set "vet.reference_state=$T/tw/coarse_start.nc" --set vet.step_factors=1 \
+    --set vet.multipliers=1,2 --set vet.finer_grid=no
+cat >pen.py <<'PY'
+import json, sys
+on, off = json.load(open(sys.argv[1])), json.load(open(sys.argv[2]))
+assert on["stability"] > 0 and off["stability"] == 0, (on["stability"], off["stability"])
+p1, p0 = on["production_train_per_day"], off["production_train_per_day"]
+assert p1 < p0, "production with the penalty %.3g, without %.3g day-1" % (p1, p0)
+g1, g0 = (json.load(open(f))["linear"]["reference"]["growth_rate_per_day"] for f in sys.argv[3:5])
+assert g1 < g0, "vet growth with the penalty %.3g, without %.3g day-1" % (g1, g0)
+print("production %.2e < %.2e, vet growth %.2e < %.2e day-1" % (p1, p0, g1, g0))
+PY
+if [ "$trc" -eq 0 ] && [ "$rc" -le 9 ] &&
+    py pen.py small.json small0.json vet_small/vet.json vet_small0/vet.json; then
+    ok "the stability penalty lowers the linear energy production and vet's growth ($(cat py))"
+else
+    notok "the stability penalty lowers the linear energy production and vet's growth" \
+        "$(tail -n 3 train0.out)" "$(err_tail)" "$(cat py)"
 fi
 finish

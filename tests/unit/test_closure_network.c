@@ -17,8 +17,8 @@
  *     flux form, LeVeque 2002, Finite Volume Methods for Hyperbolic
  *     Problems, section 4.1);
  *   - every_stage = false evaluates at stage 0 and returns that tendency
- *     unchanged at stages 1 and 2 whatever the state; every_stage = true
- *     follows the state; multiplier 2 doubles the tendency bit for bit;
+ *     unchanged at stages 1 and 2 whatever the state, and so does the
+ *     default; every_stage = true follows the state; multiplier 2 doubles the tendency bit for bit;
  *     remove_mean leaves a zero domain mean (round-off);
  *   - bad networks stop the model's creation with TG_ERR_CONFIG and a
  *     message that names the fault: missing file, not TorchScript, no
@@ -182,9 +182,11 @@ START_TEST(test_stage_options)
     char path[600];
     make_net("laplacian", nl, dx, 300.0, path, sizeof path);
     const char *once[] = {"network.every_stage=false", NULL};
+    const char *each[] = {"network.every_stage=true", NULL};
     const char *twice[] = {"network.multiplier=2", NULL};
     const char *mean[] = {"network.remove_mean=true", NULL};
-    tg_model *mo = net_model(0, path, once), *me = net_model(0, path, NULL);
+    tg_model *mo = net_model(0, path, once), *me = net_model(0, path, each);
+    tg_model *md = net_model(0, path, NULL);
     tg_model *m2 = net_model(0, path, twice), *mm = net_model(0, path, mean);
     const size_t nb = sizeof(double) * (size_t)(nl * mo->npl);
     double *t0 = malloc(nb), *other = malloc(nb);
@@ -198,6 +200,9 @@ START_TEST(test_stage_options)
     ck_assert(memcmp(eval_at(mo, 0, other, TG_OK), t0, nb) != 0);
     ck_assert(memcmp(eval_at(me, 0, NULL, TG_OK), t0, nb) == 0);
     ck_assert(memcmp(eval_at(me, 1, other, TG_OK), t0, nb) != 0);
+    /* The default is once per step. */
+    ck_assert(memcmp(eval_at(md, 0, NULL, TG_OK), t0, nb) == 0);
+    ck_assert(memcmp(eval_at(md, 1, other, TG_OK), t0, nb) == 0);
 
     const double *t2 = eval_at(m2, 0, NULL, TG_OK);
     const tg_geometry *g = m2->geom;
@@ -225,6 +230,7 @@ START_TEST(test_stage_options)
     free(other);
     tg_model_destroy(mo);
     tg_model_destroy(me);
+    tg_model_destroy(md);
     tg_model_destroy(m2);
     tg_model_destroy(mm);
 }
