@@ -221,6 +221,12 @@ TG_SIMD_CLONES static void dst_pre(const double *restrict sint, int len, int row
     for (int r = 0; r < rows; r++) {
         const double *fr0 = f + (size_t)r * ss;
         double *yr = y + (size_t)r * ydist;
+        /* The next row into the cache now: each row (4 kB at n = 511) is
+         * read from both ends, too short for the processor's own
+         * prefetching, and this loop waited on its loads. */
+        if (r + 1 < rows)
+            for (int j = 0; j < len - 1; j += 8)
+                __builtin_prefetch(fr0 + ss + j);
         yr[0] = 0.0;
 #pragma omp simd
         for (int j = 1; j <= h; j++) {
