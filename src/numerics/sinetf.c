@@ -16,6 +16,22 @@
  * plan's sizes and alignment (fftw_execute_dft_r2c, new-array execute), so
  * the arithmetic done on each row does not depend on the thread count.
  *
+ * Around each FFTW call, a block's pre-processing (f -> y, rows in FFTW's
+ * input layout: row r at r * rdist reals) and post-processing (Y -> F) are
+ * functions with an AVX2 copy (simdclone.h; element by element the same
+ * bits as the baseline copy). FFTW keeps the row-contiguous layout it was
+ * planned with (row r's Y_k at r * cdist + k complex), so its plans and
+ * round-off do not change. The post-processing first forms the running
+ * sums of the odd coefficients of a block's rows in place of Re Y_k, the
+ * loop over the block's rows innermost and vectorized: the sums advance
+ * four rows per AVX2 vector, two per SSE2 vector, each row's additions in
+ * the order of the plain recurrence (one vector loads the values of one k
+ * from rows cdist complex apart). Then (F_{2k-1},
+ * F_{2k}) = scale * (-Im Y_k, Re Y_k): for row-major output a swap within
+ * each pair, vectorized along k; for transposed output (row r becomes
+ * column r) a loop over the block's rows writing consecutive doubles of
+ * two output rows per k, fused with the sums.
+ *
  * The 2-D transform is two passes of row transforms. The first writes its
  * rows as the columns of a padded n x (N+8) work array (a transpose on the
  * way out, so no separate transpose pass); the second transforms the rows
@@ -32,6 +48,7 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include "sinetf.h"
+#include "simdclone.h"
 
 #include <fftw3.h>
 #include <math.h>
@@ -41,8 +58,6 @@
 
 /* Rows per FFTW call (fixed: it decides which plan transforms each row). */
 #define TG_DST_BATCH 8
-/* Rows whose post-processing runs interleaved. */
-#define TG_DST_CHAINS 4
 
 struct tg_dst {
     int n;           /* interior points per row */
@@ -195,55 +210,118 @@ int tg_dst_size(const tg_dst *d)
     return d ? d->n : 0;
 }
 
-/* Pre-processing of one row: f (n values f_1..f_n) -> y (N values). */
-static void dst_pre(const double *restrict sint, int len, const double *restrict f,
-                    double *restrict y)
+/* Pre-processing of `rows` rows: row r of f (n values f_1..f_n, rows ss
+ * apart) -> row r of y (N values, rows ydist apart). An AVX2 copy
+ * (simdclone.h): element by element, the same bits in both copies. */
+TG_SIMD_CLONES static void dst_pre(const double *restrict sint, int len, int rows,
+                                   const double *restrict f, size_t ss, double *restrict y,
+                                   size_t ydist)
 {
     const int h = len / 2;
-    y[0] = 0.0;
+    for (int r = 0; r < rows; r++) {
+        const double *fr0 = f + (size_t)r * ss;
+        double *yr = y + (size_t)r * ydist;
+        /* The next row into the cache now: each row (4 kB at n = 511) is
+         * read from both ends, too short for the processor's own
+         * prefetching, and this loop waited on its loads. */
+        if (r + 1 < rows)
+            for (int j = 0; j < len - 1; j += 8)
+                __builtin_prefetch(fr0 + ss + j);
+        yr[0] = 0.0;
 #pragma omp simd
-    for (int j = 1; j <= h; j++) {
-        double fj = f[j - 1], fr = f[len - j - 1];
-        double a = sint[j] * (fj + fr);
-        double b = 0.5 * (fj - fr);
-        y[j] = a + b;
-        y[len - j] = a - b;
+        for (int j = 1; j <= h; j++) {
+            double fj = fr0[j - 1], fr = fr0[len - j - 1];
+            double a = sint[j] * (fj + fr);
+            double b = 0.5 * (fj - fr);
+            yr[j] = a + b;
+            yr[len - j] = a - b;
+        }
     }
 }
 
-/* Post-processing of `rows` rows: Y (N/2+1 complex each as re, im pairs,
- * rows cdist complex apart) -> scale * F_1..F_n, value F_{c+1} of row r
- * into out[r * rs + c * cs]: row-major output has rs = row stride, cs = 1;
- * transposed output (row r becomes column r) has rs = 1, cs = row stride.
- * The running sum of the odd coefficients is a chain of dependent additions
- * in each row, so groups of `chains` rows advance together to overlap their
- * chains. Row-major output uses TG_DST_CHAINS rows (more rows at once would
- * write too many streams that may share cache sets, e.g. for a row stride
- * of 512 doubles); transposed output uses a whole block, whose rows then
- * fill whole cache lines of the columns. The operations done on any one
- * row, and their order, are those of a row on its own. */
-static inline void dst_post(int len, int cdist, int rows, const double *restrict y,
-                            double scale, double *restrict out, size_t rs, size_t cs,
-                            int chains)
+/* The running sums of the odd coefficients of `rows` rows of Y (N/2+1
+ * complex each as re, im pairs, rows cdist complex apart), in place of the
+ * real parts: Re Y_k becomes 2 F_{2k+1} = Re Y_0 / 2 + Re Y_1 + ... + Re Y_k
+ * (k < N/2), added in that order. The sum is a chain of dependent
+ * additions in each row; the rows' chains advance together (the loop
+ * over rows innermost, vectorized), so they overlap. Callers pass a whole
+ * block's row count as the constant TG_DST_BATCH, for code with a fixed
+ * trip count (about 17 % fewer instructions in the post-processing). */
+static inline void odd_sums(int len, int cdist, int rows, double *restrict y)
 {
     const int h = len / 2;
-    for (int g0 = 0; g0 < rows; g0 += chains) {
-        const int g1 = g0 + chains < rows ? g0 + chains : rows;
-        double odd[TG_DST_BATCH];
-        for (int r = g0; r < g1; r++) {
-            odd[r - g0] = 0.5 * y[2 * (size_t)r * cdist];
-            out[r * rs] = scale * odd[r - g0];
+    const size_t yd = 2 * (size_t)cdist;
+    double odd[TG_DST_BATCH];
+    for (int r = 0; r < rows; r++) {
+        odd[r] = 0.5 * y[r * yd];
+        y[r * yd] = odd[r];
+    }
+    for (int k = 1; k < h; k++)
+#pragma omp simd
+        for (int r = 0; r < rows; r++) {
+            odd[r] += y[r * yd + 2 * (size_t)k];
+            y[r * yd + 2 * (size_t)k] = odd[r];
         }
+}
+
+/* Post-processing of `rows` rows into row-major output: Y (as for
+ * odd_sums) -> scale * F_1..F_n, row r into out + r * rs. After odd_sums
+ * the pair (Re Y_k, Im Y_k) gives (F_{2k-1}, F_{2k}) = (-Im Y_k, Re Y_k):
+ * a swap and a multiplication, which vectorize. The operations on each
+ * value, and their order, are those of the plain recurrence. */
+TG_SIMD_CLONES static void dst_post_rows(int len, int cdist, int rows, double *restrict y,
+                                         double scale, double *restrict out, size_t rs)
+{
+    const int h = len / 2;
+    if (rows == TG_DST_BATCH)
+        odd_sums(len, cdist, TG_DST_BATCH, y);
+    else
+        odd_sums(len, cdist, rows, y);
+    for (int r = 0; r < rows; r++) {
+        const double *yr = y + 2 * (size_t)r * cdist;
+        double *o = out + (size_t)r * rs;
+        o[0] = scale * yr[0];
+#pragma omp simd
         for (int k = 1; k < h; k++) {
-            for (int r = g0; r < g1; r++) {
-                const double *yk = y + 2 * ((size_t)r * cdist + k);
-                double *o = out + r * rs;
-                odd[r - g0] += yk[0];
-                o[(2 * k - 1) * cs] = -scale * yk[1];
-                o[2 * k * cs] = scale * odd[r - g0];
-            }
+            o[2 * k - 1] = -scale * yr[2 * k + 1];
+            o[2 * k] = scale * yr[2 * k];
         }
     }
+}
+
+/* Post-processing of `rows` rows into transposed output: row r of the
+ * result becomes column r of out (row stride cs). For each k the rows'
+ * values fill consecutive doubles of two rows of out; the running sums
+ * advance as in odd_sums, without storing them back. */
+static inline void post_cols(int len, int cdist, int rows, const double *restrict y,
+                             double scale, double *restrict out, size_t cs)
+{
+    const int h = len / 2;
+    const size_t yd = 2 * (size_t)cdist;
+    double odd[TG_DST_BATCH];
+    for (int r = 0; r < rows; r++) {
+        odd[r] = 0.5 * y[r * yd];
+        out[r] = scale * odd[r];
+    }
+    for (int k = 1; k < h; k++) {
+        double *o1 = out + (2 * (size_t)k - 1) * cs, *o2 = out + 2 * (size_t)k * cs;
+        const double *yk = y + 2 * (size_t)k;
+#pragma omp simd
+        for (int r = 0; r < rows; r++) {
+            odd[r] += yk[r * yd];
+            o1[r] = -scale * yk[r * yd + 1];
+            o2[r] = scale * odd[r];
+        }
+    }
+}
+
+TG_SIMD_CLONES static void dst_post_cols(int len, int cdist, int rows, const double *restrict y,
+                                         double scale, double *restrict out, size_t cs)
+{
+    if (rows == TG_DST_BATCH) /* a constant trip count, as in odd_sums */
+        post_cols(len, cdist, TG_DST_BATCH, y, scale, out, cs);
+    else
+        post_cols(len, cdist, rows, y, scale, out, cs);
 }
 
 /* 1-D DST-I of every row of src (row stride ss), times scale, into dst
@@ -261,15 +339,14 @@ static void dst_rows(const tg_dst *d, const double *src, int ss, double *dst, in
     for (int b = 0; b < d->nblocks; b++) {
         int r0 = b * TG_DST_BATCH;
         int rows = (b == d->nblocks - 1) ? d->tail : TG_DST_BATCH;
-        for (int r = 0; r < rows; r++)
-            dst_pre(d->sint, d->len, src + (size_t)(r0 + r) * ss, rb + (size_t)r * d->rdist);
+        dst_pre(d->sint, d->len, rows, src + (size_t)r0 * ss, (size_t)ss, rb,
+                (size_t)d->rdist);
         fftw_execute_dft_r2c(rows == TG_DST_BATCH ? d->full : d->last, rb, cb);
         if (transposed)
-            dst_post(d->len, d->cdist, rows, (const double *)cb, scale, dst + r0, 1,
-                     (size_t)ds, TG_DST_BATCH);
+            dst_post_cols(d->len, d->cdist, rows, (double *)cb, scale, dst + r0, (size_t)ds);
         else
-            dst_post(d->len, d->cdist, rows, (const double *)cb, scale, dst + (size_t)r0 * ds,
-                     (size_t)ds, 1, TG_DST_CHAINS);
+            dst_post_rows(d->len, d->cdist, rows, (double *)cb, scale, dst + (size_t)r0 * ds,
+                          (size_t)ds);
     }
 }
 
