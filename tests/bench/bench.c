@@ -74,8 +74,7 @@
 #define MAX_SETS 64
 
 /* Targets (the benchmark specification). */
-#define TARGET_STEP_OVER_DST 1.5   /* at TARGET_STEP_POINTS */
-#define TARGET_STEP_POINTS 513
+#define TARGET_STEP_POINTS 513     /* the basin row whose step/transforms is shown */
 #define TARGET_DST_OVER_R2C 2.0
 #define TARGET_PEAK_MB 120.0
 #define TARGET_SPEEDUP 1.6         /* two threads over one */
@@ -830,9 +829,10 @@ int main(int argc, char **argv)
         if (!r->ok || r->periodic || r->points != TARGET_STEP_POINTS)
             continue;
         snprintf(conf, sizeof conf, "%d^2, %d thr", r->points, r->threads);
-        double v = r->step_ms / r->dst_step_ms;
-        target_line("step time / its transforms' time", conf, v, "<= 1.5",
-                    v <= TARGET_STEP_OVER_DST, starved(r));
+        /* The 1.5 aim was withdrawn (the step is near the memory traffic
+         * of its stencils and budgets; DEVELOPERS.md): shown, not judged. */
+        printf("%-40s %-14s %9.2f %8s  %s\n", "step time / its transforms' time", conf,
+               r->step_ms / r->dst_step_ms, "-", "info (former aim 1.5, withdrawn)");
     }
     for (int i = 0; i < nconf; i++) {
         const result *r = &res[i];
