@@ -15,7 +15,6 @@
 
 #include "budget.h"
 #include "constants.h"
-#include "fdops.h"
 #include "initial.h"
 #include "model.h"
 #include "ncio.h"
@@ -394,11 +393,8 @@ static tg_code take_step(run_ctx *c, tg_run_events *ev, tg_status *st)
         return rc;
     tg_diag_compute(m, &c->after);
     const double dt = m->dt;
-    long bad = -1;
     int bad_layer = 0;
-    for (int k = 0; k < m->nl && bad < 0; k++)
-        if ((bad = tg_find_nonfinite(m->geom, m->q + k * m->npl)) >= 0)
-            bad_layer = k;
+    long bad = tg_diag_nonfinite(m, &c->after, &bad_layer);
     if (bad >= 0 || !isfinite(c->after.energy))
         return rewind_bad_step(c, bad, bad_layer, time_before, st);
     *ev = tg_run_steps_after(&c->steps, m, c->after.max_cfl);

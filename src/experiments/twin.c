@@ -550,9 +550,7 @@ static tg_code ref_open_files(ref_ctx *r, tg_status *st)
 static tg_code ref_check_stable(ref_ctx *r, const tg_diag *after, tg_status *st)
 {
     tg_model *m = r->m;
-    long bad = -1;
-    for (int k = 0; k < m->nl && bad < 0; k++)
-        bad = tg_find_nonfinite(m->geom, m->q + k * m->npl);
+    long bad = tg_diag_nonfinite(m, after, NULL);
     if (!(bad >= 0 || !isfinite(after->energy) || after->max_cfl > r->c->ref.max_cfl))
         return TG_OK;
     const double day = m->time_s / TG_SECONDS_PER_DAY;

@@ -1,5 +1,6 @@
 /* budget.c - budget record layout and packing (budget.h). */
 #include "budget.h"
+#include "fdops.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -17,13 +18,182 @@ const char *tg_term_name(int t)
     return (t >= 0 && t < TG_NTERMS) ? term_names[t] : "?";
 }
 
+/* The per-step diagnostics in one pass over the rows (tg_diag_compute).
+ * Each row's sums are those of tg_model_energy, tg_model_enstrophy,
+ * tg_model_kinetic_energy and tg_model_mass_error, and its CFL maximum that
+ * of tg_max_cfl, formed with the same operations in the same order, and
+ * the rows are then added in the same order: the results are the same
+ * bits. Each row sum is a chain of dependent additions; the separate
+ * functions ran one chain per pass over the field, here the chains of a
+ * row advance together (three per layer, two layers per loop), which is
+ * most of the saving besides reading each field once. Row sums go to
+ * m->rowsums, slot s of row j at s * ns + j:
+ *   k: energy, nl + k: enstrophy, 2 nl + k: kinetic energy, 3 nl + k: CFL,
+ *   4 nl + i and 5 nl + i: mass error numerator and denominator;
+ * the CFL maximum's node goes to m->rowidx[k * ns + j]. */
+
+/* Energy, enstrophy and kinetic energy chains of layers k0 .. k0 + nk - 1
+ * (nk = 1 or 2) on active row j. */
+static inline void diag_sums(const tg_model *m, int j, int k0, int nk, double *rs)
+{
+    const tg_geometry *g = m->geom;
+    const int nl = m->nl, ns = g->ns, a0 = g->a0, a1 = g->a1;
+    const long npl = m->npl, r0 = (long)j * ns;
+    const double *by = m->beta_y + r0;
+    const double *q0 = m->q + k0 * npl + r0, *p0 = m->psi + k0 * npl + r0,
+                 *z0 = m->zeta + k0 * npl + r0;
+    const double c0 = m->wall[k0];
+    double e0 = 0.0, s0 = 0.0, t0 = 0.0;
+    if (nk == 2) {
+        const double *q1 = q0 + npl, *p1 = p0 + npl, *z1 = z0 + npl;
+        const double c1 = m->wall[k0 + 1];
+        double e1 = 0.0, s1 = 0.0, t1 = 0.0;
+        for (int i = a0; i < a1; i++) {
+            e0 += (q0[i] - by[i]) * (p0[i] - c0);
+            s0 += q0[i] * (q0[i] - 0.0);
+            t0 += z0[i] * (p0[i] - c0);
+            e1 += (q1[i] - by[i]) * (p1[i] - c1);
+            s1 += q1[i] * (q1[i] - 0.0);
+            t1 += z1[i] * (p1[i] - c1);
+        }
+        rs[(long)(k0 + 1) * ns + j] = e1;
+        rs[(long)(nl + k0 + 1) * ns + j] = s1;
+        rs[(long)(2 * nl + k0 + 1) * ns + j] = t1;
+    } else {
+        for (int i = a0; i < a1; i++) {
+            e0 += (q0[i] - by[i]) * (p0[i] - c0);
+            s0 += q0[i] * (q0[i] - 0.0);
+            t0 += z0[i] * (p0[i] - c0);
+        }
+    }
+    rs[(long)k0 * ns + j] = e0;
+    rs[(long)(nl + k0) * ns + j] = s0;
+    rs[(long)(2 * nl + k0) * ns + j] = t0;
+}
+
+/* Layer k's largest CFL number on active row j and its node (tg_max_cfl's
+ * loop). */
+static inline void diag_cfl(const tg_model *m, int j, int k, double *rs, long *ri)
+{
+    const tg_geometry *g = m->geom;
+    const int ns = g->ns, a0 = g->a0, a1 = g->a1;
+    const double c = m->dt / (2.0 * g->dx * g->dx), U = m->U[k];
+    const double *pc = m->psi + k * m->npl + (long)j * ns, *pn = pc + ns, *ps = pc - ns;
+    double mx = -1.0;
+    long at = (long)j * ns + a0;
+    for (int i = a0; i < a1; i++) {
+        double v = c * (fabs(pn[i] - ps[i] - 2.0 * g->dx * U) + fabs(pc[i + 1] - pc[i - 1]));
+        if (v > mx || isnan(v)) {
+            mx = isnan(v) ? INFINITY : v;
+            at = (long)j * ns + i;
+            if (isinf(mx))
+                break;
+        }
+    }
+    rs[(long)(3 * m->nl + k) * ns + j] = mx;
+    ri[(long)k * ns + j] = at;
+}
+
+/* The mass-constraint sums of interface i on row j (tg_model_mass_error's loop). */
+static inline void diag_mass(const tg_model *m, int j, int i, double *rs)
+{
+    const tg_geometry *g = m->geom;
+    const int ns = g->ns;
+    const long r0 = (long)j * ns;
+    const double *w = g->weight + r0;
+    const double *a = m->psi + i * m->npl + r0, *b = a + m->npl;
+    double s = 0.0, sa = 0.0;
+    for (int x = 0; x < ns; x++) {
+        if (w[x] == 0.0)
+            continue;
+        const double d = a[x] - b[x];
+        s += w[x] * d;
+        sa += w[x] * fabs(d);
+    }
+    rs[(long)(4 * m->nl + i) * ns + j] = s;
+    rs[(long)(5 * m->nl + i) * ns + j] = sa;
+}
+
 void tg_diag_compute(tg_model *m, tg_diag *d)
 {
-    d->energy = tg_model_energy(m);
-    tg_model_enstrophy(m, d->enstrophy);
-    tg_model_kinetic_energy(m, d->kinetic);
-    tg_model_mass_error(m, d->mass_error);
-    d->max_cfl = tg_model_max_cfl(m, &d->cfl_layer, &d->cfl_x, &d->cfl_y);
+    const tg_geometry *g = m->geom;
+    const int nl = m->nl, ns = g->ns, a0 = g->a0, a1 = g->a1;
+    double *rs = m->rowsums;
+    long *ri = m->rowidx;
+#pragma omp parallel for schedule(static)
+    for (int j = 0; j < ns; j++) {
+        if (j >= a0 && j < a1) {
+            int k = 0;
+            for (; k + 1 < nl; k += 2)
+                diag_sums(m, j, k, 2, rs);
+            if (k < nl)
+                diag_sums(m, j, k, 1, rs);
+            for (k = 0; k < nl; k++)
+                diag_cfl(m, j, k, rs, ri);
+        }
+        for (int i = 0; i + 1 < nl; i++)
+            diag_mass(m, j, i, rs);
+    }
+
+    /* The rows in order, as the separate functions add them. */
+    const double dx = g->dx;
+    double e = 0.0;
+    for (int k = 0; k < nl; k++) {
+        double se = 0.0, sz = 0.0, sk = 0.0;
+        for (int j = a0; j < a1; j++) {
+            se += rs[(long)k * ns + j];
+            sz += rs[(long)(nl + k) * ns + j];
+            sk += rs[(long)(2 * nl + k) * ns + j];
+        }
+        e += m->cfg.thickness_m[k] * (se * dx * dx);
+        d->enstrophy[k] = 0.5 * (sz * dx * dx) / g->area;
+        d->kinetic[k] = -0.5 * (sk * dx * dx) / g->area;
+    }
+    d->energy = -0.5 * e / (m->Htot * g->area);
+    for (int i = 0; i + 1 < nl; i++) {
+        double s = 0.0, sa = 0.0;
+        for (int j = 0; j < ns; j++) {
+            s += rs[(long)(4 * nl + i) * ns + j];
+            sa += rs[(long)(5 * nl + i) * ns + j];
+        }
+        d->mass_error[i] = sa > 0.0 ? s / sa : 0.0;
+    }
+    double best = -1.0;
+    long at = 0;
+    int kbest = 0;
+    for (int k = 0; k < nl; k++) {
+        double c = -1.0;
+        long w = -1;
+        for (int j = a0; j < a1; j++)
+            if (rs[(long)(3 * nl + k) * ns + j] > c) {
+                c = rs[(long)(3 * nl + k) * ns + j];
+                w = ri[(long)k * ns + j];
+            }
+        if (c > best || isnan(c)) {
+            best = isnan(c) ? INFINITY : c;
+            at = w;
+            kbest = k;
+        }
+    }
+    d->max_cfl = best;
+    d->cfl_layer = kbest;
+    d->cfl_x = g->coord[at % ns];
+    d->cfl_y = g->coord[at / ns];
+}
+
+long tg_diag_nonfinite(const tg_model *m, const tg_diag *d, int *layer)
+{
+    for (int k = 0; k < m->nl; k++) {
+        if (isfinite(d->enstrophy[k]))
+            continue;
+        long bad = tg_find_nonfinite(m->geom, m->q + k * m->npl);
+        if (bad >= 0) {
+            if (layer)
+                *layer = k;
+            return bad;
+        }
+    }
+    return -1;
 }
 
 /* Terms listed when the caller gives no mask: those of a basin run. */

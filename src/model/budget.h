@@ -27,7 +27,15 @@ typedef struct {
     double cfl_x, cfl_y;
 } tg_diag;
 
+/* All of tg_diag in one pass over the fields (the same bits as
+ * tg_model_energy, tg_model_enstrophy, tg_model_kinetic_energy,
+ * tg_model_mass_error and tg_model_max_cfl). Uses m->rowsums and m->rowidx. */
 void tg_diag_compute(tg_model *m, tg_diag *d);
+
+/* The first node of the active region where PV is NaN or Inf (its layer in
+ * *layer), or -1. Only layers whose enstrophy in d (of the same state) is
+ * not finite are searched: a NaN or Inf in q makes that sum NaN or Inf. */
+long tg_diag_nonfinite(const tg_model *m, const tg_diag *d, int *layer);
 
 /* Short names of the terms ("advection", "wind", ...), index TG_TERM_*. */
 const char *tg_term_name(int t);

@@ -7,7 +7,8 @@
  * against the largest term) in a noisy wind-forced two-layer run, that the
  * advection term neither creates nor destroys energy, where its enstrophy
  * rate comes from, and that the energy formula of tg_model_energy equals a
- * direct sum of kinetic and available potential energy. A Check suite with
+ * direct sum of kinetic and available potential energy, and that the
+ * one-pass diagnostics give the same bits as the separate functions. A Check suite with
  * its own main().
  *
  * Part of twingyre. GPL-3.0-or-later.
@@ -424,6 +425,66 @@ START_TEST(energy_equals_direct_sum_random)
 }
 END_TEST
 
+/* tg_diag_compute's one pass gives the same bits as the separate
+ * diagnostics it replaces in a run (tg_model_energy, tg_model_enstrophy,
+ * tg_model_kinetic_energy, tg_model_mass_error, tg_model_max_cfl), for 1-3
+ * layers, basin and periodic, on a stepped random state; and
+ * tg_diag_nonfinite finds a NaN or Inf planted in q, and nothing in a finite
+ * state. Source: common practice (a faster path checked bitwise against
+ * the plain one it replaces). */
+START_TEST(fused_diagnostics_match_separate)
+{
+    const int nl = _i % 3 + 1, periodic = _i / 3;
+    tg_config cfg = layered_config(nl, periodic ? 32 : 33);
+    if (periodic)
+        cfg.geometry = TG_GEOM_PERIODIC;
+    tg_model *m = tg_unit_model(&cfg);
+    tg_model_set_noise(m, 5e3, 21u + (uint64_t)_i);
+    tg_status st;
+    for (int t = 0; t < 3; t++)
+        ck_assert_msg(tg_step(m, NULL, &st) == TG_OK, "%s", st.msg);
+
+    tg_diag d;
+    memset(&d, 0, sizeof d);
+    tg_diag_compute(m, &d);
+    double e = tg_model_energy(m), z[TG_MAX_LAYERS], ke[TG_MAX_LAYERS],
+           me[TG_MAX_LAYERS] = {0.0}, cx, cy;
+    int cl;
+    tg_model_enstrophy(m, z);
+    tg_model_kinetic_energy(m, ke);
+    tg_model_mass_error(m, me);
+    double cfl = tg_model_max_cfl(m, &cl, &cx, &cy);
+    ck_assert_msg(e > 0.0 && cfl > 0.0, "empty state: the check would be empty");
+    ck_assert_msg(memcmp(&e, &d.energy, sizeof e) == 0, "energy %.17g against %.17g", d.energy,
+                  e);
+    for (int k = 0; k < nl; k++) {
+        ck_assert_msg(memcmp(&z[k], &d.enstrophy[k], sizeof z[k]) == 0,
+                      "layer %d: enstrophy %.17g against %.17g", k, d.enstrophy[k], z[k]);
+        ck_assert_msg(memcmp(&ke[k], &d.kinetic[k], sizeof ke[k]) == 0,
+                      "layer %d: kinetic energy %.17g against %.17g", k, d.kinetic[k], ke[k]);
+    }
+    for (int i = 0; i + 1 < nl; i++)
+        ck_assert_msg(memcmp(&me[i], &d.mass_error[i], sizeof me[i]) == 0,
+                      "interface %d: mass error %.17g against %.17g", i, d.mass_error[i], me[i]);
+    ck_assert_msg(memcmp(&cfl, &d.max_cfl, sizeof cfl) == 0 && cl == d.cfl_layer &&
+                      cx == d.cfl_x && cy == d.cfl_y,
+                  "CFL %.17g layer %d at (%g, %g) against %.17g layer %d at (%g, %g)", d.max_cfl,
+                  d.cfl_layer, d.cfl_x, d.cfl_y, cfl, cl, cx, cy);
+
+    int layer = -7;
+    ck_assert_int_eq(tg_diag_nonfinite(m, &d, &layer), -1);
+    ck_assert_int_eq(layer, -7);
+    const tg_geometry *g = m->geom;
+    const int kbad = nl - 1;
+    const long node = (long)(g->a0 + 3) * g->ns + g->a1 - 2;
+    m->q[kbad * m->npl + node] = (_i % 2) ? INFINITY : NAN;
+    tg_diag_compute(m, &d);
+    ck_assert_int_eq(tg_diag_nonfinite(m, &d, &layer), node);
+    ck_assert_int_eq(layer, kbad);
+    tg_model_destroy(m);
+}
+END_TEST
+
 static Suite *budget_suite(void)
 {
     Suite *s = suite_create("budget");
@@ -441,6 +502,7 @@ static Suite *budget_suite(void)
     tcase_set_timeout(te, 30);
     tcase_add_loop_test(te, energy_equals_direct_sum_noise, 0, 3);
     tcase_add_loop_test(te, energy_equals_direct_sum_random, 0, 2);
+    tcase_add_loop_test(te, fused_diagnostics_match_separate, 0, 6);
     suite_add_tcase(s, te);
     return s;
 }
