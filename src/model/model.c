@@ -75,7 +75,7 @@ static tg_code alloc_work(tg_model *m, tg_status *st)
      * the regions that use them ask for no more threads than this. */
     m->nwork = omp_get_max_threads() > 0 ? omp_get_max_threads() : 1;
     m->rowwork = alloc_fields(2L * m->nwork * ns);
-    m->rowidx = calloc((size_t)ns, sizeof(long));
+    m->rowidx = calloc((size_t)m->nl * ns, sizeof(long));
     if (!m->q || !m->psi || !m->zeta || !m->phi || !m->tend || !m->term || !m->q0 ||
         !m->qnext || !m->beta_y || !m->wind_forcing || !m->lap1 || !m->lap2 || !m->rowbuf ||
         !m->rowsums || !m->rowwork || !m->rowidx) {
@@ -401,6 +401,24 @@ TG_SIMD_CLONES static void layers_row(void *ctx, int j, const double *const *phi
     vorticity_row(m, j);
 }
 
+/* Row j of psi_k = sum_m P[k][m] (phi_m + c_m h_m) over every stored node
+ * (h_m may be NULL), then on active rows the vorticity. Compiled for AVX2
+ * too (simdclone.h; the same bits). */
+TG_SIMD_CLONES static void modes_to_layers_row(tg_model *m, int j, const double *cwall,
+                                               const double *const *homog)
+{
+    const tg_geometry *g = m->geom;
+    const int nl = m->nl, ns = g->ns;
+    const long npl = m->npl, r0 = (long)j * ns;
+    for (int k = 0; k < nl; k++)
+        for (int md = 0; md < nl; md++)
+            add_mode_row(m->psi + k * npl + r0, m->phi + md * npl + r0,
+                         homog[md] ? homog[md] + r0 : NULL, cwall[md], m->modes.P[k][md],
+                         md == 0, ns);
+    if (j >= g->a0 && j < g->a1)
+        vorticity_row(m, j);
+}
+
 void tg_model_invert(tg_model *m)
 {
     tg_geometry *g = m->geom;
@@ -434,17 +452,8 @@ void tg_model_invert(tg_model *m)
          * phi_m with phi_m = phi_p + c_m phi_h (every stored node), and on
          * the active rows the vorticity. */
 #pragma omp parallel for schedule(static)
-        for (int j = 0; j < ns; j++) {
-            const long r0 = (long)j * ns;
-            for (int k = 0; k < nl; k++) {
-                for (int md = 0; md < nl; md++)
-                    add_mode_row(m->psi + k * npl + r0, m->phi + md * npl + r0,
-                                 homog[md] ? homog[md] + r0 : NULL, cwall[md],
-                                 m->modes.P[k][md], md == 0, ns);
-            }
-            if (j >= a0 && j < a1)
-                vorticity_row(m, j);
-        }
+        for (int j = 0; j < ns; j++)
+            modes_to_layers_row(m, j, cwall, homog);
     }
     /* Rings: psi's wall value, the wall vorticity, then PV on the ring for
      * the stencils of the Jacobian. */
