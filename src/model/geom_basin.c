@@ -105,19 +105,15 @@ static double solve_dirichlet(tg_geometry *g, basin *b, const solve_work *sw, in
                               const double *rhs, double *phi)
 {
     const int ns = g->ns, n = b->n;
-    tg_dst_forward(sw->dst, rhs + ns + 1, ns, sw->spec);
-    const double *inv = b->invden[m], *w = b->wint;
+    /* Transform and divide by (lambda - F_m) in one pass (times its inverse). */
+    tg_dst_forward_times(sw->dst, rhs + ns + 1, ns, sw->spec, b->invden[m]);
+    const double *w = b->wint;
     double *s = sw->spec, *rb = sw->rowbuf;
-    /* Divide by (lambda - F_m). The integral needs the odd wavenumbers
-     * only (even array indices kx, ky: index = wavenumber - 1); w is 0 at
-     * the others. */
+    /* The integral needs the odd wavenumbers only (even array indices kx,
+     * ky: index = wavenumber - 1); w is 0 at the others. */
 #pragma omp parallel for schedule(static)
     for (int kx = 0; kx < n; kx++) {
-        double *row = s + (long)kx * n;
-        const double *iv = inv + (long)kx * n;
-#pragma omp simd
-        for (int ky = 0; ky < n; ky++)
-            row[ky] *= iv[ky];
+        const double *row = s + (long)kx * n;
         double acc = 0.0;
         if (kx % 2 == 0)
             for (int ky = 0; ky < n; ky += 2)

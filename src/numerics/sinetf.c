@@ -313,7 +313,8 @@ static inline void odd_sums(int len, int cdist, int rows, double *restrict y)
  * a swap and a multiplication, which vectorize. The operations on each
  * value, and their order, are those of the plain recurrence. */
 TG_SIMD_CLONES static void dst_post_rows(int len, int cdist, int rows, double *restrict y,
-                                         double scale, double *restrict out, size_t rs)
+                                         double scale, double *restrict out, size_t rs,
+                                         const double *restrict fac)
 {
     const int h = len / 2;
     if (rows == TG_DST_BATCH)
@@ -323,6 +324,18 @@ TG_SIMD_CLONES static void dst_post_rows(int len, int cdist, int rows, double *r
     for (int r = 0; r < rows; r++) {
         const double *yr = y + 2 * (size_t)r * cdist;
         double *o = out + (size_t)r * rs;
+        if (fac) {
+            /* Each value times its factor (tg_dst_forward_times): the
+             * product a separate pass over the result would form. */
+            const double *f = fac + (size_t)r * rs;
+            o[0] = (scale * yr[0]) * f[0];
+#pragma omp simd
+            for (int k = 1; k < h; k++) {
+                o[2 * k - 1] = (-scale * yr[2 * k + 1]) * f[2 * k - 1];
+                o[2 * k] = (scale * yr[2 * k]) * f[2 * k];
+            }
+            continue;
+        }
         o[0] = scale * yr[0];
 #pragma omp simd
         for (int k = 1; k < h; k++) {
@@ -400,7 +413,7 @@ TG_SIMD_CLONES static void unpack_rows(const double *restrict tw, int len, int c
  * dst when `transposed` (which saves a separate transpose pass). Rows are
  * shared among the threads of the enclosing parallel region. */
 static void dst_rows(const tg_dst *d, const double *src, int ss, double *dst, int ds,
-                     int transposed, double scale)
+                     int transposed, double scale, const double *fac)
 {
     int tid = omp_get_thread_num();
     double *rb = d->rbuf[tid];
@@ -423,7 +436,7 @@ static void dst_rows(const tg_dst *d, const double *src, int ss, double *dst, in
             dst_post_cols(d->len, d->cdist, rows, (double *)cb, scale, dst + r0, (size_t)ds);
         else
             dst_post_rows(d->len, d->cdist, rows, (double *)cb, scale, dst + (size_t)r0 * ds,
-                          (size_t)ds);
+                          (size_t)ds, fac ? fac + (size_t)r0 * ds : NULL);
     }
 }
 
@@ -434,16 +447,22 @@ static int team_size(const tg_dst *d)
     return nt < d->nthreads ? nt : d->nthreads;
 }
 
-void tg_dst_forward(tg_dst *d, const double *in, int stride, double *spec)
+void tg_dst_forward_times(tg_dst *d, const double *in, int stride, double *spec,
+                          const double *factor)
 {
     const int ld = d->ld;
 #pragma omp parallel num_threads(team_size(d))
     {
         /* rows of `in` run along i, written transposed: work[kx][j] */
-        dst_rows(d, in, stride, d->work, ld, 1, 1.0);
-        /* along j: spec[kx][ky] */
-        dst_rows(d, d->work, ld, spec, d->n, 0, 1.0);
+        dst_rows(d, in, stride, d->work, ld, 1, 1.0, NULL);
+        /* along j: spec[kx][ky] (times factor[kx][ky]) */
+        dst_rows(d, d->work, ld, spec, d->n, 0, 1.0, factor);
     }
+}
+
+void tg_dst_forward(tg_dst *d, const double *in, int stride, double *spec)
+{
+    tg_dst_forward_times(d, in, stride, spec, NULL);
 }
 
 void tg_dst_inverse(tg_dst *d, double *spec, double *out, int stride)
@@ -454,8 +473,8 @@ void tg_dst_inverse(tg_dst *d, double *spec, double *out, int stride)
 #pragma omp parallel num_threads(team_size(d))
     {
         /* along ky, written transposed: work[j][kx] */
-        dst_rows(d, spec, d->n, d->work, ld, 1, 1.0);
+        dst_rows(d, spec, d->n, d->work, ld, 1, 1.0, NULL);
         /* along kx: out[j][i] */
-        dst_rows(d, d->work, ld, out, stride, 0, scale);
+        dst_rows(d, d->work, ld, out, stride, 0, scale, NULL);
     }
 }

@@ -37,6 +37,13 @@ int tg_dst_size(const tg_dst *d);
  * array it lives in (>= n). `spec` is dense n x n. in and spec must not overlap. */
 void tg_dst_forward(tg_dst *d, const double *in, int stride, double *spec);
 
+/* tg_dst_forward, each coefficient then multiplied by factor[(kx-1)*n +
+ * (ky-1)] (dense n x n; NULL: none) in the same pass: the same bits as
+ * tg_dst_forward followed by a pass spec[a] *= factor[a], without that
+ * pass (a Helmholtz solve's division by its eigenvalues). */
+void tg_dst_forward_times(tg_dst *d, const double *in, int stride, double *spec,
+                          const double *factor);
+
 /* Inverse transform: the exact inverse of tg_dst_forward (it includes the
  * factor (2/(n+1))^2). Writes only the n x n interior block of `out`;
  * spec is used as scratch and is overwritten. */

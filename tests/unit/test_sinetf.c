@@ -489,6 +489,43 @@ START_TEST(accepts_good_sizes)
 }
 END_TEST
 
+/* tg_dst_forward_times gives the same bits as tg_dst_forward followed by
+ * multiplying each coefficient by its factor, at n = 127 and 511 (both FFT
+ * paths). Source: common practice (a fused pass checked bitwise against
+ * the two passes it replaces). */
+START_TEST(forward_times_matches_two_passes)
+{
+    const int n = _i ? 511 : 127, stride = n + 2;
+    tg_status st;
+    tg_dst *d = tg_dst_create(n, &st);
+    ck_assert_msg(d != NULL, "create failed: %s", st.msg);
+    const size_t nn = (size_t)n * n;
+    double *in = malloc((size_t)n * stride * sizeof *in);
+    double *fac = malloc(nn * sizeof *fac), *a = malloc(nn * sizeof *a),
+           *b = malloc(nn * sizeof *b);
+    ck_assert(in && fac && a && b);
+    uint64_t seed = 99u + (uint64_t)n;
+    for (size_t i = 0; i < (size_t)n * stride; i++)
+        in[i] = next_uniform(&seed);
+    for (size_t i = 0; i < nn; i++)
+        fac[i] = 1.0 / (3.0 + next_uniform(&seed));
+    tg_dst_forward(d, in, stride, a);
+    for (size_t i = 0; i < nn; i++)
+        a[i] *= fac[i];
+    tg_dst_forward_times(d, in, stride, b, fac);
+    ck_assert_msg(memcmp(a, b, nn * sizeof *a) == 0, "n = %d: fused product differs", n);
+    tg_dst_forward_times(d, in, stride, b, NULL);
+    tg_dst_forward(d, in, stride, a);
+    ck_assert_msg(memcmp(a, b, nn * sizeof *a) == 0, "n = %d: NULL factor changed the result",
+                  n);
+    free(b);
+    free(a);
+    free(fac);
+    free(in);
+    tg_dst_destroy(d);
+}
+END_TEST
+
 static Suite *sinetf_suite(void)
 {
     Suite *s = suite_create("sinetf");
@@ -501,6 +538,7 @@ static Suite *sinetf_suite(void)
                         (int)(sizeof direct_sizes / sizeof direct_sizes[0]));
     tcase_add_loop_test(tc, separable_matches_direct_sum, 0,
                         (int)(sizeof separable_sizes / sizeof separable_sizes[0]));
+    tcase_add_loop_test(tc, forward_times_matches_two_passes, 0, 2);
     tcase_add_test(tc, round_trip_strided);
     tcase_add_test(tc, sine_mode_and_laplacian);
     suite_add_tcase(s, tc);
