@@ -5,10 +5,12 @@
  * for i, j = 1..n, where n + 1 = 2^k. The five-point Laplacian is diagonal in
  * this basis, so a Helmholtz solve is forward transform, divide, inverse.
  *
- * Each 1-D DST-I of length n is computed from one real-to-complex FFT of
- * length n + 1 (FFTW r2c) with O(n) pre- and post-processing, which is far
- * faster than FFTW's own RODFT00 kind (Makhoul 1980, IEEE Trans. ASSP 28,
- * 27-34; Press et al. 2007, Numerical Recipes 3rd ed., section 12.4.1).
+ * Each 1-D DST-I of length n is computed from one real FFT of length
+ * n + 1 with O(n) pre- and post-processing, which is far faster than
+ * FFTW's own RODFT00 kind (Makhoul 1980, IEEE Trans. ASSP 28, 27-34; Press
+ * et al. 2007, Numerical Recipes 3rd ed., section 12.4.1). The real FFT is
+ * FFTW's r2c for n + 1 > 256, and one complex FFT of half the length with
+ * an unpacking for n + 1 <= 256 (sinetf.c says why).
  * The 2-D transform is two passes of row transforms, the first writing its rows as columns.
  *
  * Plans and every work buffer are made in tg_dst_create; the transforms
