@@ -422,7 +422,7 @@ TG_SIMD_CLONES static void modes_to_layers_row(tg_model *m, int j, const double 
 void tg_model_invert(tg_model *m)
 {
     tg_geometry *g = m->geom;
-    const int nl = m->nl, ns = g->ns, a0 = g->a0, a1 = g->a1;
+    const int nl = m->nl, ns = g->ns;
     const long npl = m->npl;
     double cwall[TG_MAX_LAYERS];
     const double *homog[TG_MAX_LAYERS];
