@@ -8,9 +8,10 @@
  * them), not on published results. Config files are written to a fresh
  * temporary directory that is removed at the end.
  *
- * Build by hand (from the repository root):
- *   gcc -std=c11 -Wall -Wextra -O2 -Isrc -Isrc/base -Isrc/files src/base/*.c \
- *       src/files/config_*.c src/files/ini_lines.c tests/unit/test_config.c -linih -lm \
+ * Build by hand (from the repository root; the sources of src/base and
+ * the config_*.c files of src/files):
+ *   gcc -std=c11 -Wall -Wextra -O2 -Isrc -Isrc/base -Isrc/files src/base/[a-z]*.c \
+ *       src/files/config_[a-z]*.c src/files/ini_lines.c tests/unit/test_config.c -linih -lm \
  *       $(pkg-config --cflags --libs check) \
  *       -o /tmp/test_config && /tmp/test_config
  *
