@@ -29,8 +29,7 @@ const char *tg_term_name(int t)
  * most of the saving besides reading each field once. Row sums go to
  * m->rowsums, slot s of row j at s * ns + j:
  *   k: energy, nl + k: enstrophy, 2 nl + k: kinetic energy, 3 nl + k: CFL,
- *   4 nl + i and 5 nl + i: mass error numerator and denominator;
- * the CFL maximum's node goes to m->rowidx[k * ns + j]. */
+ *   4 nl + i and 5 nl + i: mass error numerator and denominator. */
 
 /* Energy, enstrophy and kinetic energy chains of layers k0 .. k0 + nk - 1
  * (nk = 1 or 2) on active row j. */
@@ -71,27 +70,48 @@ static inline void diag_sums(const tg_model *m, int j, int k0, int nk, double *r
     rs[(long)(2 * nl + k0) * ns + j] = t0;
 }
 
-/* Layer k's largest CFL number on active row j and its node (tg_max_cfl's
- * loop). */
-static inline void diag_cfl(const tg_model *m, int j, int k, double *rs, long *ri)
+/* The CFL number of layer k at node i of stored row j, as tg_max_cfl forms it. */
+static inline double cfl_at(const double *restrict pc, int ns, int i, double c, double twodxu)
+{
+    return c * (fabs(pc[i + ns] - pc[i - ns] - twodxu) + fabs(pc[i + 1] - pc[i - 1]));
+}
+
+/* Layer k's largest CFL number on active row j (INFINITY when the row has
+ * a NaN). A maximum does not depend on the order it is taken in, so the
+ * loop vectorizes and the value is tg_max_cfl's; the node, which only the
+ * overall largest needs, is found afterwards (cfl_node). */
+static inline void diag_cfl(const tg_model *m, int j, int k, double *rs)
 {
     const tg_geometry *g = m->geom;
     const int ns = g->ns, a0 = g->a0, a1 = g->a1;
-    const double c = m->dt / (2.0 * g->dx * g->dx), U = m->U[k];
-    const double *pc = m->psi + k * m->npl + (long)j * ns, *pn = pc + ns, *ps = pc - ns;
+    const double c = m->dt / (2.0 * g->dx * g->dx), twodxu = 2.0 * g->dx * m->U[k];
+    const double *pc = m->psi + k * m->npl + (long)j * ns;
     double mx = -1.0;
-    long at = (long)j * ns + a0;
+    int nan = 0;
+#pragma omp simd reduction(max : mx) reduction(| : nan)
     for (int i = a0; i < a1; i++) {
-        double v = c * (fabs(pn[i] - ps[i] - 2.0 * g->dx * U) + fabs(pc[i + 1] - pc[i - 1]));
-        if (v > mx || isnan(v)) {
-            mx = isnan(v) ? INFINITY : v;
-            at = (long)j * ns + i;
-            if (isinf(mx))
-                break;
-        }
+        const double v = cfl_at(pc, ns, i, c, twodxu);
+        mx = v > mx ? v : mx;
+        nan |= v != v;
     }
-    rs[(long)(3 * m->nl + k) * ns + j] = mx;
-    ri[(long)k * ns + j] = at;
+    rs[(long)(3 * m->nl + k) * ns + j] = nan ? INFINITY : mx;
+}
+
+/* The node of row j of layer k where tg_max_cfl's scan stops with the
+ * row's largest value mx: the first NaN or infinity when mx is infinite,
+ * else the first node equal to mx. */
+static long cfl_node(const tg_model *m, int j, int k, double mx)
+{
+    const tg_geometry *g = m->geom;
+    const int ns = g->ns, a0 = g->a0, a1 = g->a1;
+    const double c = m->dt / (2.0 * g->dx * g->dx), twodxu = 2.0 * g->dx * m->U[k];
+    const double *pc = m->psi + k * m->npl + (long)j * ns;
+    for (int i = a0; i < a1; i++) {
+        const double v = cfl_at(pc, ns, i, c, twodxu);
+        if (isinf(mx) ? (isnan(v) || isinf(v)) : v == mx)
+            return (long)j * ns + i;
+    }
+    return (long)j * ns + a0;
 }
 
 /* The mass-constraint sums of interface i on row j (tg_model_mass_error's loop). */
@@ -119,7 +139,6 @@ void tg_diag_compute(tg_model *m, tg_diag *d)
     const tg_geometry *g = m->geom;
     const int nl = m->nl, ns = g->ns, a0 = g->a0, a1 = g->a1;
     double *rs = m->rowsums;
-    long *ri = m->rowidx;
 #pragma omp parallel for schedule(static)
     for (int j = 0; j < ns; j++) {
         if (j >= a0 && j < a1) {
@@ -129,7 +148,7 @@ void tg_diag_compute(tg_model *m, tg_diag *d)
             if (k < nl)
                 diag_sums(m, j, k, 1, rs);
             for (k = 0; k < nl; k++)
-                diag_cfl(m, j, k, rs, ri);
+                diag_cfl(m, j, k, rs);
         }
         for (int i = 0; i + 1 < nl; i++)
             diag_mass(m, j, i, rs);
@@ -159,22 +178,22 @@ void tg_diag_compute(tg_model *m, tg_diag *d)
         d->mass_error[i] = sa > 0.0 ? s / sa : 0.0;
     }
     double best = -1.0;
-    long at = 0;
-    int kbest = 0;
+    int kbest = 0, jbest = a0;
     for (int k = 0; k < nl; k++) {
         double c = -1.0;
-        long w = -1;
+        int w = a0;
         for (int j = a0; j < a1; j++)
             if (rs[(long)(3 * nl + k) * ns + j] > c) {
                 c = rs[(long)(3 * nl + k) * ns + j];
-                w = ri[(long)k * ns + j];
+                w = j;
             }
-        if (c > best || isnan(c)) {
-            best = isnan(c) ? INFINITY : c;
-            at = w;
+        if (c > best) {
+            best = c;
+            jbest = w;
             kbest = k;
         }
     }
+    const long at = cfl_node(m, jbest, kbest, best);
     d->max_cfl = best;
     d->cfl_layer = kbest;
     d->cfl_x = g->coord[at % ns];

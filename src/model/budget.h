@@ -29,7 +29,7 @@ typedef struct {
 
 /* All of tg_diag in one pass over the fields (the same bits as
  * tg_model_energy, tg_model_enstrophy, tg_model_kinetic_energy,
- * tg_model_mass_error and tg_model_max_cfl). Uses m->rowsums and m->rowidx. */
+ * tg_model_mass_error and tg_model_max_cfl). Uses m->rowsums. */
 void tg_diag_compute(tg_model *m, tg_diag *d);
 
 /* The first node of the active region where PV is NaN or Inf (its layer in

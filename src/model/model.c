@@ -75,7 +75,7 @@ static tg_code alloc_work(tg_model *m, tg_status *st)
      * the regions that use them ask for no more threads than this. */
     m->nwork = omp_get_max_threads() > 0 ? omp_get_max_threads() : 1;
     m->rowwork = alloc_fields(2L * m->nwork * ns);
-    m->rowidx = calloc((size_t)m->nl * ns, sizeof(long));
+    m->rowidx = calloc((size_t)ns, sizeof(long));
     if (!m->q || !m->psi || !m->zeta || !m->phi || !m->tend || !m->term || !m->q0 ||
         !m->qnext || !m->beta_y || !m->wind_forcing || !m->lap1 || !m->lap2 || !m->rowbuf ||
         !m->rowsums || !m->rowwork || !m->rowidx) {

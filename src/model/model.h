@@ -100,7 +100,7 @@ typedef struct tg_model {
     double *rowsums;        /* 10*nl*ns: per-row sums (terms.c budget rates, model.c diagnostics) */
     double *rowwork;        /* 2*nwork*ns: two scratch rows per thread (terms.c) */
     int nwork;              /* threads with rows in rowwork */
-    long *rowidx;           /* nl*ns: per-row CFL maximum nodes (fdops.c, budget.c) */
+    long *rowidx;           /* ns */
     int nout;               /* output points per side */
 
     /* Closure components (closure_host.h); never NULL after create. */

@@ -481,6 +481,16 @@ START_TEST(fused_diagnostics_match_separate)
     tg_diag_compute(m, &d);
     ck_assert_int_eq(tg_diag_nonfinite(m, &d, &layer), node);
     ck_assert_int_eq(layer, kbad);
+
+    /* A NaN (or Inf) in psi: the CFL number is infinite, at the node
+     * tg_max_cfl stops at. */
+    m->psi[kbad * m->npl + node + 2 * g->ns] = (_i % 2) ? NAN : INFINITY;
+    tg_diag_compute(m, &d);
+    cfl = tg_model_max_cfl(m, &cl, &cx, &cy);
+    ck_assert_msg(isinf(d.max_cfl) && isinf(cfl) && cl == d.cfl_layer && cx == d.cfl_x &&
+                      cy == d.cfl_y,
+                  "non-finite psi: CFL %g layer %d at (%g, %g) against %g layer %d at (%g, %g)",
+                  d.max_cfl, d.cfl_layer, d.cfl_x, d.cfl_y, cfl, cl, cx, cy);
     tg_model_destroy(m);
 }
 END_TEST
