@@ -20,10 +20,10 @@ const char *tg_term_name(int t)
 
 /* The per-step diagnostics in one pass over the rows (tg_diag_compute).
  * Each row's sums are those of tg_model_energy, tg_model_enstrophy,
- * tg_model_kinetic_energy and tg_model_mass_error, and its CFL maximum that
- * of tg_max_cfl, formed with the same operations in the same order, and
- * the rows are then added in the same order: the results are the same
- * bits. Each row sum is a chain of dependent additions; the separate
+ * tg_model_kinetic_energy and tg_model_mass_error (tg_model_mass_row),
+ * formed with the same operations in the same order, and the rows are
+ * then added in the same order; the largest CFL number is tg_max_cfl's (a
+ * maximum is the same in any order): the results are the same bits. Each row sum is a chain of dependent additions; the separate
  * functions ran one chain per pass over the field, here the chains of a
  * row advance together (three per layer, two layers per loop), which is
  * most of the saving besides reading each field once. Row sums go to
@@ -114,26 +114,6 @@ static long cfl_node(const tg_model *m, int j, int k, double mx)
     return (long)j * ns + a0;
 }
 
-/* The mass-constraint sums of interface i on row j (tg_model_mass_error's loop). */
-static inline void diag_mass(const tg_model *m, int j, int i, double *rs)
-{
-    const tg_geometry *g = m->geom;
-    const int ns = g->ns;
-    const long r0 = (long)j * ns;
-    const double *w = g->weight + r0;
-    const double *a = m->psi + i * m->npl + r0, *b = a + m->npl;
-    double s = 0.0, sa = 0.0;
-    for (int x = 0; x < ns; x++) {
-        if (w[x] == 0.0)
-            continue;
-        const double d = a[x] - b[x];
-        s += w[x] * d;
-        sa += w[x] * fabs(d);
-    }
-    rs[(long)(4 * m->nl + i) * ns + j] = s;
-    rs[(long)(5 * m->nl + i) * ns + j] = sa;
-}
-
 void tg_diag_compute(tg_model *m, tg_diag *d)
 {
     const tg_geometry *g = m->geom;
@@ -151,7 +131,8 @@ void tg_diag_compute(tg_model *m, tg_diag *d)
                 diag_cfl(m, j, k, rs);
         }
         for (int i = 0; i + 1 < nl; i++)
-            diag_mass(m, j, i, rs);
+            tg_model_mass_row(m, j, i, &rs[(long)(4 * nl + i) * ns + j],
+                              &rs[(long)(5 * nl + i) * ns + j]);
     }
 
     /* The rows in order, as the separate functions add them. */

@@ -645,11 +645,29 @@ void tg_model_enstrophy(tg_model *m, double *z)
                g->area;
 }
 
+void tg_model_mass_row(const tg_model *m, int j, int i, double *sum, double *abssum)
+{
+    const tg_geometry *g = m->geom;
+    const int ns = g->ns;
+    const long r0 = (long)j * ns;
+    const double *w = g->weight + r0;
+    const double *a = m->psi + i * m->npl + r0, *b = a + m->npl;
+    double s = 0.0, sa = 0.0;
+    for (int x = 0; x < ns; x++) {
+        if (w[x] == 0.0)
+            continue;
+        const double d = a[x] - b[x];
+        s += w[x] * d;
+        sa += w[x] * fabs(d);
+    }
+    *sum = s;
+    *abssum = sa;
+}
+
 void tg_model_mass_error(tg_model *m, double *err)
 {
     const tg_geometry *g = m->geom;
     const int ni = m->nl - 1, ns = g->ns;
-    const long npl = m->npl;
     if (ni < 1)
         return;
     /* One pass: for d = psi_i - psi_{i+1}, each row's weighted sums of d and
@@ -658,21 +676,8 @@ void tg_model_mass_error(tg_model *m, double *err)
     double *num = m->rowsums, *den = m->rowsums + (long)ni * ns;
 #pragma omp parallel for schedule(static)
     for (int j = 0; j < ns; j++) {
-        const long r0 = (long)j * ns;
-        const double *w = g->weight + r0;
-        for (int i = 0; i < ni; i++) {
-            const double *a = m->psi + i * npl + r0, *b = m->psi + (i + 1) * npl + r0;
-            double s = 0.0, sa = 0.0;
-            for (int x = 0; x < ns; x++) {
-                if (w[x] == 0.0)
-                    continue;
-                const double d = a[x] - b[x];
-                s += w[x] * d;
-                sa += w[x] * fabs(d);
-            }
-            num[(long)i * ns + j] = s;
-            den[(long)i * ns + j] = sa;
-        }
+        for (int i = 0; i < ni; i++)
+            tg_model_mass_row(m, j, i, &num[(long)i * ns + j], &den[(long)i * ns + j]);
     }
     for (int i = 0; i < ni; i++) {
         double s = 0.0, sa = 0.0;

@@ -166,6 +166,9 @@ double tg_model_energy(tg_model *m);                     /* m2 s-2 */
 void tg_model_kinetic_energy(tg_model *m, double *ke);  /* per layer, m2 s-2 */
 void tg_model_enstrophy(tg_model *m, double *z);        /* per layer, s-2 */
 void tg_model_mass_error(tg_model *m, double *err);     /* per interface */
+/* Row j's trapezoid-weighted sums of d = psi_i - psi_{i+1} and of |d| (the
+ * row sums of tg_model_mass_error; budget.c's one-pass diagnostics too). */
+void tg_model_mass_row(const tg_model *m, int j, int i, double *sum, double *abssum);
 double tg_model_max_cfl(tg_model *m, int *layer, double *x, double *y);
 
 /* Copies layer fields (nl*npl) to output layout (nl*nout*nout) in dest. */
