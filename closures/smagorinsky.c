@@ -33,6 +33,7 @@
 #include <stdlib.h>
 
 #include "closure.h"
+#include "simdclone.h"
 #include "viscous.h"
 
 enum { P_C, P_N };
@@ -41,6 +42,21 @@ static const tg_closure_param params[P_N] = {
     [P_C] = {"smagorinsky_coefficient", "", TG_PARAM_REAL, 0.17, 0.0, 2.0, NULL,
              "dimensionless C in nu = (C dx)^2 |D| (Lilly 1967: 0.17)"},
 };
+
+/* |D| on row pc (rows pn, ps above and below) from o = psi_xy on entry.
+ * Compiled for AVX2 too (simdclone.h; the same bits: sqrt is correctly
+ * rounded in both copies, and -fno-math-errno lets it vectorize). */
+TG_SIMD_CLONES static void deformation_row(const double *restrict pc, const double *restrict pn,
+                                           const double *restrict ps, double r2,
+                                           double *restrict o, int a0, int a1)
+{
+#pragma omp simd
+    for (int i = a0; i < a1; i++) {
+        const double dt = -2.0 * o[i];                                   /* u_x - v_y */
+        const double ds = r2 * ((pc[i + 1] + pc[i - 1]) - (pn[i] + ps[i])); /* v_x + u_y */
+        o[i] = sqrt(dt * dt + ds * ds);
+    }
+}
 
 void tg_visc_deformation_rate(const tg_visc_grid *gr, const double *psi, double *work,
                               double *out)
@@ -55,13 +71,8 @@ void tg_visc_deformation_rate(const tg_visc_grid *gr, const double *psi, double 
     t->ddx(t->ctx, work, out);
 #pragma omp parallel for schedule(static)
     for (int j = a0; j < a1; j++) {
-        const double *pc = psi + (long)j * ns, *pn = pc + ns, *ps = pc - ns;
-        double *o = out + (long)j * ns;
-        for (int i = a0; i < a1; i++) {
-            const double dt = -2.0 * o[i];                                   /* u_x - v_y */
-            const double ds = r2 * ((pc[i + 1] + pc[i - 1]) - (pn[i] + ps[i])); /* v_x + u_y */
-            o[i] = sqrt(dt * dt + ds * ds);
-        }
+        const double *pc = psi + (long)j * ns;
+        deformation_row(pc, pc + ns, pc - ns, r2, out + (long)j * ns, a0, a1);
     }
 }
 
