@@ -36,6 +36,11 @@
  * other programs keep busy, CPU times are nearer to what an idle machine
  * would show than wall times).
  *
+ * After the table, each one-thread configuration gets its streaming floor
+ * (floor.c): the time one thread takes only to move the fields a step reads
+ * and writes, plus the step's transforms, beside the step's time (and, for
+ * the periodic step, the time ten times the NumPy model's speed needs).
+ *
  * --throughput CONFIG:DAYS:SPINUP_DAYS (repeatable) adds model years per
  * wall-clock hour of whole `twingyre run`s (throughput.c).
  *
@@ -63,6 +68,7 @@
 #include "budget.h"
 #include "cli.h"
 #include "config.h"
+#include "floor.h"
 #include "model.h"
 #include "sinetf.h"
 #include "status.h"
@@ -787,6 +793,26 @@ int main(int argc, char **argv)
             printf("NumPy model (%s), %d^2, one thread: %.2f ms per step, %.1f times the "
                    "periodic step\n", o.numpy, res[i].points, res[i].numpy_ms,
                    res[i].numpy_ms / res[i].step_ms);
+    /* The streaming floor beside each one-thread configuration (floor.c). */
+    for (int i = 0; i < nconf; i++) {
+        const result *r = &res[i];
+        fl_result fl;
+        if (!r->ok || r->threads != 1)
+            continue;
+        if (fl_measure(r->points, 10, &fl) != 0) {
+            printf("streaming floor, %d^2: no memory for its fields\n", r->points);
+            continue;
+        }
+        printf("streaming floor, %d^2, one thread, no arithmetic: 3 x %.3f (read 8, write 4) + "
+               "3 x %.3f (read 4, write 4) + %.3f (read 6) = %.2f ms per step; with the step's "
+               "transforms (%.2f ms) %.2f ms, against the step's %.2f ms",
+               r->points, fl.a_ms, fl.b_ms, fl.c_ms, fl.step_ms, r->tr_step_ms,
+               fl.step_ms + r->tr_step_ms, r->step_ms);
+        if (r->numpy_ms > 0.0)
+            printf("; ten times faster than the NumPy model needs %.2f ms",
+                   r->numpy_ms / TARGET_NUMPY_OVER_STEP);
+        printf("\n");
+    }
     int any_star = 0;
     double start_mb = 0.0;
     for (int i = 0; i < nconf; i++)
