@@ -76,6 +76,7 @@
  * Part of twingyre. GPL-3.0-or-later.
  */
 #include "basis.h"
+#include "simdclone.h"
 
 #include <ctype.h>
 #include <errno.h>
@@ -224,23 +225,39 @@ tg_basis *tg_basis_create(int ns, int a0, int a1, double dx, const tg_closure_to
     return b;
 }
 
+/* The row kernels below are compiled for AVX2 too (simdclone.h); every
+ * value is formed element by element, so both copies give the same bits,
+ * and rows are shared among threads (each row's values do not depend on
+ * which thread forms them). */
+
+/* Row j's velocity gradients (p = offset of node 0 of the row). */
+TG_SIMD_CLONES static void velocity_row(const double *restrict c, int ns, double r, double r4,
+                                        double *restrict ux, double *restrict uy,
+                                        double *restrict vx, double *restrict vy, int a0,
+                                        int a1)
+{
+    const double *n = c + ns, *s = c - ns;
+#pragma omp simd
+    for (int i = a0; i < a1; i++) {
+        const double pxx = r * ((c[i + 1] + c[i - 1]) - 2.0 * c[i]);
+        const double pyy = r * ((n[i] + s[i]) - 2.0 * c[i]);
+        const double pxy = r4 * ((n[i + 1] - n[i - 1]) - (s[i + 1] - s[i - 1]));
+        ux[i] = -pxy;
+        uy[i] = -pyy;
+        vx[i] = pxx;
+        vy[i] = pxy;
+    }
+}
+
 /* Velocity gradients from psi by compact differences (see the header). */
 static void velocity_gradients(const tg_basis *b, const double *psi)
 {
-    const int ns = b->ns;
+    const int ns = b->ns, a0 = b->a0, a1 = b->a1;
     const double r = 1.0 / (b->dx * b->dx), r4 = 0.25 * r;
-    for (int j = b->a0; j < b->a1; j++) {
-        const double *c = psi + (long)j * ns, *n = c + ns, *s = c - ns;
-        for (int i = b->a0; i < b->a1; i++) {
-            const long p = (long)j * ns + i;
-            const double pxx = r * ((c[i + 1] + c[i - 1]) - 2.0 * c[i]);
-            const double pyy = r * ((n[i] + s[i]) - 2.0 * c[i]);
-            const double pxy = r4 * ((n[i + 1] - n[i - 1]) - (s[i + 1] - s[i - 1]));
-            b->ux[p] = -pxy;
-            b->uy[p] = -pyy;
-            b->vx[p] = pxx;
-            b->vy[p] = pxy;
-        }
+#pragma omp parallel for schedule(static)
+    for (int j = a0; j < a1; j++) {
+        const long c = (long)j * ns;
+        velocity_row(psi + c, ns, r, r4, b->ux + c, b->uy + c, b->vx + c, b->vy + c, a0, a1);
     }
 }
 
@@ -252,23 +269,46 @@ static void gradient(const tg_basis *b, const double *f)
     t->ddy(t->ctx, f, b->fy);
 }
 
+TG_SIMD_CLONES static void flux_div_row(const double *restrict Fx, const double *restrict Fy,
+                                        const double *restrict m, int ns, double h,
+                                        double *restrict out, int a0, int a1)
+{
+#pragma omp simd
+    for (int i = a0; i < a1; i++) {
+        const double fe = m[i] * m[i + 1] * (Fx[i] + Fx[i + 1]);
+        const double fw = m[i] * m[i - 1] * (Fx[i - 1] + Fx[i]);
+        const double fn = m[i] * m[i + ns] * (Fy[i] + Fy[i + ns]);
+        const double fs = m[i] * m[i - ns] * (Fy[i - ns] + Fy[i]);
+        out[i] = h * ((fe - fw) + (fn - fs));
+    }
+}
+
 /* out = div (Fx, Fy) in flux form: face values are node averages, faces
  * next to a wall (mask 0) carry nothing. Fx, Fy with rings filled. */
 static void flux_div(const tg_basis *b, const double *Fx, const double *Fy, double *out)
 {
-    const int ns = b->ns;
+    const int ns = b->ns, a0 = b->a0, a1 = b->a1;
     const double h = 0.5 / b->dx;
-    const double *m = b->mask;
-    for (int j = b->a0; j < b->a1; j++) {
+#pragma omp parallel for schedule(static)
+    for (int j = a0; j < a1; j++) {
         const long c = (long)j * ns;
-        for (int i = b->a0; i < b->a1; i++) {
-            const long p = c + i;
-            const double fe = m[p] * m[p + 1] * (Fx[p] + Fx[p + 1]);
-            const double fw = m[p] * m[p - 1] * (Fx[p - 1] + Fx[p]);
-            const double fn = m[p] * m[p + ns] * (Fy[p] + Fy[p + ns]);
-            const double fs = m[p] * m[p - ns] * (Fy[p - ns] + Fy[p]);
-            out[p] = h * ((fe - fw) + (fn - fs));
-        }
+        flux_div_row(Fx + c, Fy + c, b->mask + c, ns, h, out + c, a0, a1);
+    }
+}
+
+TG_SIMD_CLONES static void curl_div_row(const double *restrict A, const double *restrict Bx,
+                                        const double *restrict By, const double *restrict m,
+                                        int ns, double r, double *restrict out, int a0, int a1)
+{
+    const double q4 = 0.25;
+#pragma omp simd
+    for (int p = a0; p < a1; p++) {
+        const int e = p + 1, w = p - 1, n = p + ns, s = p - ns;
+        const double We = m[p] * m[e] * (r * (A[e] - A[p]) + q4 * (By[p] + By[e]));
+        const double Ww = m[w] * m[p] * (r * (A[p] - A[w]) + q4 * (By[w] + By[p]));
+        const double Wn = m[p] * m[n] * (-r * (A[n] - A[p]) + q4 * (Bx[p] + Bx[n]));
+        const double Ws = m[s] * m[p] * (-r * (A[p] - A[s]) + q4 * (Bx[s] + Bx[p]));
+        out[p] = r * ((We - Ww) + (Wn - Ws));
     }
 }
 
@@ -278,23 +318,29 @@ static void flux_div(const tg_basis *b, const double *Fx, const double *Fy, doub
 static void curl_div(const tg_basis *b, const double *A, const double *B, double *out)
 {
     const tg_closure_tools *t = b->tools;
-    const int ns = b->ns;
-    const double r = 1.0 / b->dx, q4 = 0.25;
-    const double *m = b->mask, *Bx = b->fx, *By = b->fy;
+    const int ns = b->ns, a0 = b->a0, a1 = b->a1;
+    const double r = 1.0 / b->dx;
     t->ddx(t->ctx, B, b->fx);
     t->ddy(t->ctx, B, b->fy);
     t->fill_ring(t->ctx, b->fx, TG_RING_EXTEND);
     t->fill_ring(t->ctx, b->fy, TG_RING_EXTEND);
-    for (int j = b->a0; j < b->a1; j++) {
+#pragma omp parallel for schedule(static)
+    for (int j = a0; j < a1; j++) {
         const long c = (long)j * ns;
-        for (int i = b->a0; i < b->a1; i++) {
-            const long p = c + i, e = p + 1, w = p - 1, n = p + ns, s = p - ns;
-            const double We = m[p] * m[e] * (r * (A[e] - A[p]) + q4 * (By[p] + By[e]));
-            const double Ww = m[w] * m[p] * (r * (A[p] - A[w]) + q4 * (By[w] + By[p]));
-            const double Wn = m[p] * m[n] * (-r * (A[n] - A[p]) + q4 * (Bx[p] + Bx[n]));
-            const double Ws = m[s] * m[p] * (-r * (A[p] - A[s]) + q4 * (Bx[s] + Bx[p]));
-            out[p] = r * ((We - Ww) + (Wn - Ws));
-        }
+        curl_div_row(A + c, b->fx + c, b->fy + c, b->mask + c, ns, r, out + c, a0, a1);
+    }
+}
+
+TG_SIMD_CLONES static void gradu_grad_row(const double *restrict ux, const double *restrict uy,
+                                          const double *restrict vx, const double *restrict vy,
+                                          const double *restrict fx, const double *restrict fy,
+                                          double *restrict A, double *restrict B, int a0,
+                                          int a1)
+{
+#pragma omp simd
+    for (int i = a0; i < a1; i++) {
+        A[i] = ux[i] * fx[i] + uy[i] * fy[i];
+        B[i] = vx[i] * fx[i] + vy[i] * fy[i];
     }
 }
 
@@ -302,15 +348,15 @@ static void curl_div(const tg_basis *b, const double *A, const double *B, double
 static void div_gradu_grad(const tg_basis *b, const double *psi, const double *f, double *out)
 {
     const tg_closure_tools *t = b->tools;
-    const int ns = b->ns;
+    const int ns = b->ns, a0 = b->a0, a1 = b->a1;
     velocity_gradients(b, psi);
     gradient(b, f);
-    for (int j = b->a0; j < b->a1; j++)
-        for (int i = b->a0; i < b->a1; i++) {
-            const long p = (long)j * ns + i;
-            b->A[p] = b->ux[p] * b->fx[p] + b->uy[p] * b->fy[p];
-            b->B[p] = b->vx[p] * b->fx[p] + b->vy[p] * b->fy[p];
-        }
+#pragma omp parallel for schedule(static)
+    for (int j = a0; j < a1; j++) {
+        const long c = (long)j * ns;
+        gradu_grad_row(b->ux + c, b->uy + c, b->vx + c, b->vy + c, b->fx + c, b->fy + c,
+                       b->A + c, b->B + c, a0, a1);
+    }
     t->fill_ring(t->ctx, b->A, TG_RING_EXTEND);
     t->fill_ring(t->ctx, b->B, TG_RING_EXTEND);
     flux_div(b, b->A, b->B, out);
