@@ -230,7 +230,8 @@ tg_basis *tg_basis_create(int ns, int a0, int a1, double dx, const tg_closure_to
  * and rows are shared among threads (each row's values do not depend on
  * which thread forms them). */
 
-/* Row j's velocity gradients (p = offset of node 0 of the row). */
+/* The velocity gradients of the psi row at c (rows ns apart), into the
+ * same row of ux, uy, vx, vy. */
 TG_SIMD_CLONES static void velocity_row(const double *restrict c, int ns, double r, double r4,
                                         double *restrict ux, double *restrict uy,
                                         double *restrict vx, double *restrict vy, int a0,

@@ -11,7 +11,8 @@
  * apart). A step cannot be faster than this floor plus its transforms on
  * the same machine at the same moment; it is a measurement of the
  * machine, not of twingyre's code (common practice: the STREAM benchmark's
- * idea, McCalpin 1995, IEEE TCCA Newsletter, Dec. 1995, 19-25).
+ * idea, McCalpin 1995, IEEE TCCA Newsletter, Dec. 1995, 19-25; reference from
+ * memory).
  *
  * Part of twingyre. GPL-3.0-or-later.
  */
